@@ -1,0 +1,194 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"ringside/analysis/discretize"
+	"ringside/analysis/pole"
+	"ringside/analysis/poly"
+	"ringside/analysis/roots"
+	"ringside/syntax"
+)
+
+// CommonRootTolerance: a numerator and denominator root closer than this
+// (relative to max(1, |root|)) count as shared. Roots written identically
+// agree to rounding (~1e-15); 1e-8 also catches roots of repeated factors,
+// which the root finder places only to about sqrt(eps).
+const CommonRootTolerance = 1e-8
+
+// blocks evaluates this file's blocks and reports per-block findings.
+func (c *checker) blocks(ev *evaluator) {
+	needSample := false
+	for _, b := range c.res.Blocks {
+		d := c.res.Scope[b.Name]
+		if d == nil || d.Block != b {
+			continue
+		}
+		bv := ev.block(d)
+		b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
+		b.Gains = sortedKeys(bv.gains)
+		if b.Var == 's' {
+			if b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
+				b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
+				if p := b.Stmt.Via.Prewarp; p != nil {
+					b.PrewarpHz, _ = prewarpHz(p)
+				}
+			}
+			if c.res.SampleT == 0 {
+				needSample = true
+			}
+			if bv.contOK {
+				c.continuousChecks(b)
+			}
+		}
+		if !b.OK {
+			continue
+		}
+		c.blockPoles(b)
+	}
+	if needSample || (c.res.SampleT == 0 && len(c.loopStmts()) > 0) {
+		c.noSample()
+	}
+}
+
+func (c *checker) loopStmts() []*syntax.LoopStmt {
+	var out []*syntax.LoopStmt
+	for _, st := range c.root.file.Stmts {
+		if l, ok := st.(*syntax.LoopStmt); ok {
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+func (c *checker) noSample() {
+	span := syntax.Span{}
+	if len(c.root.file.Stmts) > 0 {
+		first := c.root.file.Stmts[0]
+		span = syntax.Span{From: first.Pos(), To: first.Pos()}
+		if l := c.root.file.Lines; l != nil {
+			span.To = l.LineEnd(0)
+		}
+	}
+	x := c.diags.add(c.res.Path, span, Error, CodeNoSample,
+		"no sample line: s blocks cannot be discretized and frequencies cannot be given in Hz without the sample period; add one, e.g. `sample 1 ms`")
+	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: 0, To: 0}, NewText: "sample 1 ms\n"}}})
+}
+
+// continuousChecks warns of continuous poles beyond Nyquist and shared
+// roots in an s block.
+func (c *checker) continuousChecks(b *Block) {
+	span := exprSpan(b.Stmt.Expr)
+	c.commonRoots(b, b.Cont, 's', span)
+	if c.res.SampleT == 0 {
+		return
+	}
+	nyq := math.Pi / c.res.SampleT // rad/s
+	pr, err := roots.Find(b.Cont.Den)
+	if err != nil {
+		return
+	}
+	for _, p := range pr.Clusters {
+		if w := cmplx.Abs(p.Value); w > nyq {
+			c.diags.add(b.Path, span, Warning, CodeAliasing,
+				fmt.Sprintf("block %s has a continuous pole at s = %s (%.4g Hz), above the Nyquist frequency %.4g Hz of `sample`: the discrete model aliases it and misrepresents the plant; sample faster or drop the fast mode",
+					b.Name, fmtComplex(p.Value), w/(2*math.Pi), nyq/(2*math.Pi)))
+			return
+		}
+	}
+}
+
+// commonRoots warns when a block's numerator and denominator share a root.
+func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Span) {
+	if r.Num.Degree() < 1 || r.Den.Degree() < 1 {
+		return
+	}
+	nr, err1 := roots.Find(r.Num)
+	dr, err2 := roots.Find(r.Den)
+	if err1 != nil || err2 != nil {
+		return
+	}
+	for _, p := range dr.Clusters {
+		for _, q := range nr.Clusters {
+			if cmplx.Abs(p.Value-q.Value) <= CommonRootTolerance*math.Max(1, cmplx.Abs(p.Value)) {
+				c.diags.add(b.Path, span, Warning, CodeCommonRoot,
+					fmt.Sprintf("block %s has numerator and denominator sharing the root %c = %s; loops use the block as written, so this mode stays in every loop's characteristic polynomial (and is reported as hidden)",
+						b.Name, v, fmtComplex(p.Value)))
+				return
+			}
+		}
+	}
+}
+
+// blockPoles fills in a block's discrete poles and zeros.
+func (c *checker) blockPoles(b *Block) {
+	if b.Var == 'z' {
+		c.commonRoots(b, b.TF, 'z', exprSpan(b.Stmt.Expr))
+	}
+	b.DCGain = dcGain(b.TF)
+	t := c.res.SampleT
+	if t == 0 {
+		t = 1 // pole radius and angle do not need it; times are then per sample
+	}
+	tol := c.env.Options.Tolerance
+	if pr, err := roots.Find(b.TF.Den); err == nil {
+		for _, p := range pr.Roots {
+			b.Poles = append(b.Poles, pole.Describe(p, t, tol))
+		}
+	}
+	if zr, err := roots.Find(b.TF.Num); err == nil {
+		for _, z := range zr.Roots {
+			b.Zeros = append(b.Zeros, pole.Describe(z, t, tol))
+		}
+	}
+	sortPoles(b.Poles)
+	sortPoles(b.Zeros)
+	if len(b.Poles) == 0 {
+		return
+	}
+	span := exprSpan(b.Stmt.Expr)
+	worst := b.Poles[0]
+	switch worst.Shape {
+	case pole.Growing:
+		c.diags.add(b.Path, span, Warning, CodeBlockOutside,
+			fmt.Sprintf("block %s is open-loop unstable: pole at z = %s (radius %s) outside the unit circle; only a loop around it can make it safe", b.Name, fmtComplex(worst.Z), FormatRadius(worst.Radius)))
+	case pole.Constant:
+		c.diags.add(b.Path, span, Warning, CodeBlockOnCircle,
+			fmt.Sprintf("block %s has a pole on the unit circle at z = %s: alone it is not BIBO stable (an integrator or oscillator); a loop around it must stabilise it", b.Name, fmtComplex(worst.Z)))
+	}
+}
+
+func dcGain(r poly.Rational) float64 {
+	d := r.Den.Eval(1)
+	n := r.Num.Eval(1)
+	if d == 0 {
+		if n == 0 {
+			return math.NaN()
+		}
+		return math.Copysign(math.Inf(1), n)
+	}
+	return n / d
+}
+
+// sortPoles orders largest radius first, then by angle (upper member of a
+// pair first).
+func sortPoles(p []pole.Info) {
+	sort.SliceStable(p, func(i, j int) bool {
+		if math.Abs(p[i].Radius-p[j].Radius) > 1e-12 {
+			return p[i].Radius > p[j].Radius
+		}
+		return imag(p[i].Z) > imag(p[j].Z)
+	})
+}
+
+func sortedKeys(m map[string]bool) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
+}

@@ -1,0 +1,349 @@
+package analysis
+
+import (
+	"fmt"
+	"sort"
+
+	"ringside/analysis/discretize"
+	"ringside/analysis/poly"
+	"ringside/syntax"
+)
+
+// MaxBlockDegree bounds the degree of any block or loop polynomial. The root
+// finder is validated to degree 64 (roots.MaxDegree); a controller or plant
+// beyond that is not a hand-written model, and powers nested without limit
+// would otherwise grow polynomials without bound.
+const MaxBlockDegree = 64
+
+// evaluator turns block expressions into rational functions for one set of
+// gain values. It memoises per block; a gain sweep uses a fresh one.
+type evaluator struct {
+	scope map[string]*Decl
+	gains map[string]float64
+	t     float64 // sample period, 0 when unknown
+	memo  map[string]*blockValue
+	diags *diagList // nil: do not report (sweeps)
+}
+
+type blockValue struct {
+	v      byte // 's', 'z' or 0
+	cont   poly.Rational
+	tf     poly.Rational
+	ok     bool // tf valid
+	contOK bool // cont valid (s and constant blocks)
+	gains  map[string]bool
+	busy   bool
+}
+
+type evalError struct {
+	span syntax.Span
+	code string
+	msg  string
+}
+
+func (e *evalError) Error() string { return e.msg }
+
+func (ev *evaluator) report(path string, span syntax.Span, sev Severity, code, msg string) {
+	if ev.diags != nil {
+		ev.diags.add(path, span, sev, code, msg)
+	}
+}
+
+// block evaluates the named block (memoised).
+func (ev *evaluator) block(d *Decl) *blockValue {
+	if bv, ok := ev.memo[d.Name]; ok {
+		if bv.busy {
+			return &blockValue{}
+		}
+		return bv
+	}
+	bv := &blockValue{busy: true, gains: map[string]bool{}}
+	ev.memo[d.Name] = bv
+	defer func() { bv.busy = false }()
+	st := d.Block.Stmt
+	if st.Expr == nil {
+		return bv
+	}
+	v, ok := ev.blockVar(d)
+	if !ok {
+		return bv
+	}
+	bv.v = v
+	evalVar := v
+	if v == 0 {
+		evalVar = 'z'
+	}
+	r, err := ev.expr(d, st.Expr, evalVar, bv)
+	if err != nil {
+		ev.report(d.Path, err.span, Error, err.code, err.msg)
+		return bv
+	}
+	if r.Num.Degree() > MaxBlockDegree || r.Den.Degree() > MaxBlockDegree {
+		ev.report(d.Path, syntax.Span{From: st.Expr.Pos(), To: st.Expr.End()}, Error, CodeTooComplex,
+			fmt.Sprintf("block %s has degree %d, above the limit of %d", d.Name, max(r.Num.Degree(), r.Den.Degree()), MaxBlockDegree))
+		return bv
+	}
+	switch v {
+	case 0:
+		bv.cont, bv.tf, bv.ok, bv.contOK = r, r, true, true
+		if st.Via != nil {
+			ev.report(d.Path, st.Via.Span, Warning, CodeViaOnDiscrete,
+				fmt.Sprintf("block %s is a constant: `via` has no effect; remove it", d.Name))
+		}
+	case 'z':
+		if st.Via != nil {
+			ev.report(d.Path, st.Via.Span, Error, CodeViaOnDiscrete,
+				fmt.Sprintf("block %s is already discrete (in z): remove `via`; only s blocks are discretized", d.Name))
+		}
+		if r.Num.Degree() > r.Den.Degree() {
+			ev.report(d.Path, exprSpan(st.Expr), Error, CodeNonCausal,
+				fmt.Sprintf("block %s is non-causal: numerator degree %d exceeds denominator degree %d in z, so its output would need future inputs; add delay (multiply by z^-%d)",
+					d.Name, r.Num.Degree(), r.Den.Degree(), r.Num.Degree()-r.Den.Degree()))
+			return bv
+		}
+		bv.tf, bv.ok = r, true
+	case 's':
+		bv.cont, bv.contOK = r, true
+		if r.Num.Degree() > r.Den.Degree() {
+			ev.report(d.Path, exprSpan(st.Expr), Error, CodeNonCausal,
+				fmt.Sprintf("block %s is improper: numerator degree %d exceeds denominator degree %d in s, and no discretization can make it causal; add a roll-off pole, e.g. divide by (s/100 + 1)",
+					d.Name, r.Num.Degree(), r.Den.Degree()))
+			return bv
+		}
+		if st.Via == nil || st.Via.Method == nil {
+			return bv // reported by the loop that needs it
+		}
+		m, ok := discretize.ParseMethod(st.Via.Method.Name)
+		if !ok {
+			ev.report(d.Path, st.Via.Method.Span, Error, CodeUnknownVia,
+				fmt.Sprintf("unknown discretization method %q: use zoh, foh, tustin or matched", st.Via.Method.Name))
+			return bv
+		}
+		if ev.t <= 0 {
+			return bv // no sample line: reported once for the file
+		}
+		opt := discretize.Options{Method: m, T: ev.t}
+		if p := st.Via.Prewarp; p != nil {
+			hz, err := prewarpHz(p)
+			if err != nil {
+				ev.report(d.Path, p.Span, Error, CodeBadUnit, err.Error())
+				return bv
+			}
+			opt.PrewarpHz = hz
+		}
+		tf, err := discretize.Discretize(r, opt)
+		if err != nil {
+			ev.report(d.Path, st.Via.Span, Error, CodeDiscretize, fmt.Sprintf("cannot discretize block %s by %s: %v", d.Name, m.Title(), err))
+			return bv
+		}
+		bv.tf, bv.ok = tf, true
+	}
+	return bv
+}
+
+func prewarpHz(n *syntax.Number) (float64, error) {
+	q, f, ok := unitKind(n.UnitCanon())
+	if !ok || q != qFreq {
+		return 0, fmt.Errorf("prewarp needs a frequency (Hz, kHz or rad/s), e.g. `prewarp 3 Hz`")
+	}
+	return n.Value * f, nil
+}
+
+func exprSpan(e syntax.Expr) syntax.Span { return syntax.Span{From: e.Pos(), To: e.End()} }
+
+// blockVar decides whether a block is in s, in z, or a constant: the
+// variables written in it, and the blocks it names. Mixed use is reported.
+func (ev *evaluator) blockVar(d *Decl) (byte, bool) {
+	var sAt, zAt *syntax.VarRef
+	var sBlock *syntax.NameRef
+	bad := false
+	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
+		switch x := n.(type) {
+		case *syntax.VarRef:
+			if x.Name == "s" && sAt == nil {
+				sAt = x
+			}
+			if x.Name == "z" && zAt == nil {
+				zAt = x
+			}
+		case *syntax.NameRef:
+			if ref, ok := ev.scope[x.Name]; ok && ref.Block != nil && ref != d {
+				if ev.block(ref).v == 's' && sBlock == nil {
+					sBlock = x
+				}
+			}
+		}
+		return true
+	})
+	switch {
+	case sAt != nil && zAt != nil:
+		ev.report(d.Path, zAt.Span, Error, CodeMixedVariables,
+			fmt.Sprintf("block %s mixes s and z: write it wholly in s (with via) or wholly in z", d.Name))
+		bad = true
+	case sAt != nil:
+		return 's', true
+	case zAt != nil:
+		return 'z', true
+	case sBlock != nil && d.Block.Stmt.Via != nil:
+		return 's', true
+	case sBlock != nil:
+		return 'z', true
+	}
+	return 0, !bad
+}
+
+// expr evaluates e in variable v ('s' or 'z').
+func (ev *evaluator) expr(d *Decl, e syntax.Expr, v byte, bv *blockValue) (poly.Rational, *evalError) {
+	switch x := e.(type) {
+	case *syntax.NumberLit:
+		return poly.RConst(x.Value), nil
+	case *syntax.VarRef:
+		return poly.R(poly.X(), poly.Const(1)), nil
+	case *syntax.Paren:
+		return ev.expr(d, x.X, v, bv)
+	case *syntax.Unary:
+		r, err := ev.expr(d, x.X, v, bv)
+		if err != nil {
+			return r, err
+		}
+		if x.Op == "-" {
+			r = r.Scale(-1)
+		}
+		return r, nil
+	case *syntax.Power:
+		r, err := ev.expr(d, x.X, v, bv)
+		if err != nil {
+			return r, err
+		}
+		if x.Exp < 0 && r.Num.IsZero() {
+			return r, &evalError{exprSpan(x), CodeBadExpression, "negative power of zero"}
+		}
+		if deg := max(r.Num.Degree(), r.Den.Degree()) * abs(x.Exp); deg > MaxBlockDegree {
+			return r, &evalError{exprSpan(x), CodeTooComplex, fmt.Sprintf("this power has degree %d, above the limit of %d", deg, MaxBlockDegree)}
+		}
+		return checkFinite(r.Pow(x.Exp), x)
+	case *syntax.Binary:
+		a, err := ev.expr(d, x.X, v, bv)
+		if err != nil {
+			return a, err
+		}
+		b, err := ev.expr(d, x.Y, v, bv)
+		if err != nil {
+			return b, err
+		}
+		var r poly.Rational
+		switch {
+		case x.Juxtaposed || x.Op == "*":
+			r = a.Mul(b)
+		case x.Op == "/":
+			if b.Num.IsZero() {
+				return b, &evalError{exprSpan(x.Y), CodeBadExpression, "division by zero"}
+			}
+			r = a.Div(b)
+		case x.Op == "+":
+			r = a.Add(b)
+		case x.Op == "-":
+			r = a.Sub(b)
+		}
+		if deg := max(r.Num.Degree(), r.Den.Degree()); deg > MaxBlockDegree {
+			return r, &evalError{exprSpan(x), CodeTooComplex, fmt.Sprintf("this expression has degree %d, above the limit of %d", deg, MaxBlockDegree)}
+		}
+		return checkFinite(r, x)
+	case *syntax.NameRef:
+		return ev.name(d, x, v, bv)
+	}
+	return poly.Rational{}, &evalError{exprSpan(e), CodeSyntax, "this expression could not be read"}
+}
+
+func (ev *evaluator) name(d *Decl, x *syntax.NameRef, v byte, bv *blockValue) (poly.Rational, *evalError) {
+	ref, ok := ev.scope[x.Name]
+	if !ok {
+		return poly.Rational{}, &evalError{x.Span, CodeUnknownName, unknownNameMsg(x.Name, ev.scope)}
+	}
+	if ref.Gain != nil {
+		bv.gains[x.Name] = true
+		return poly.RConst(ev.gains[x.Name]), nil
+	}
+	if ref == d {
+		return poly.Rational{}, &evalError{x.Span, CodeUnknownName, fmt.Sprintf("block %s cannot use itself", x.Name)}
+	}
+	if ref.Path == d.Path && ref.Ident.From > d.Ident.From {
+		return poly.Rational{}, &evalError{x.Span, CodeLaterBlock, fmt.Sprintf("block %s is declared further down; a block may use only blocks declared above it", x.Name)}
+	}
+	sub := ev.block(ref)
+	for g := range sub.gains {
+		bv.gains[g] = true
+	}
+	switch {
+	case v == 's' && sub.v == 'z':
+		return poly.Rational{}, &evalError{x.Span, CodeMixedVariables, fmt.Sprintf("block %s is in z and cannot appear in an s expression; only s blocks can", x.Name)}
+	case v == 's' || sub.v == 0:
+		if !sub.contOK {
+			return poly.Rational{}, &evalError{x.Span, CodeBadExpression, fmt.Sprintf("block %s has errors of its own", x.Name)}
+		}
+		return sub.cont, nil
+	}
+	if !sub.ok {
+		msg := fmt.Sprintf("block %s has errors of its own", x.Name)
+		if sub.v == 's' && (ref.Block.Stmt.Via == nil) {
+			msg = fmt.Sprintf("block %s is in s and has no `via`: it cannot be used in z until it is discretized (add `via zoh` to it)", x.Name)
+		}
+		return poly.Rational{}, &evalError{x.Span, CodeNoVia, msg}
+	}
+	return sub.tf, nil
+}
+
+func checkFinite(r poly.Rational, n syntax.Node) (poly.Rational, *evalError) {
+	if !r.Num.Finite() || !r.Den.Finite() {
+		return r, &evalError{syntax.Span{From: n.Pos(), To: n.End()}, CodeBadExpression, "a coefficient overflows (is not a finite number); rescale the expression"}
+	}
+	return r, nil
+}
+
+func abs(n int) int {
+	if n < 0 {
+		return -n
+	}
+	return n
+}
+
+// unknownNameMsg explains an unknown name, suggesting the closest one.
+func unknownNameMsg(name string, scope map[string]*Decl) string {
+	best, bestD := "", 3
+	names := make([]string, 0, len(scope))
+	for n := range scope {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		if d := editDistance(name, n); d < bestD {
+			best, bestD = n, d
+		}
+	}
+	msg := fmt.Sprintf("unknown name %q: declare it with `gain %s = ...` or `block %s = ...`", name, name, name)
+	if best != "" {
+		msg += fmt.Sprintf(", or did you mean %s?", best)
+	}
+	return msg
+}
+
+// editDistance is the Levenshtein distance between a and b.
+func editDistance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur := make([]int, len(b)+1)
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			c := 1
+			if a[i-1] == b[j-1] {
+				c = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+c)
+		}
+		prev = cur
+	}
+	return prev[len(b)]
+}

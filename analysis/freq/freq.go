@@ -1,0 +1,560 @@
+// Package freq computes the frequency response of a discrete loop L(z) at
+// sample period T on the upper unit circle z = e^{jθ}, θ = ωT from 0 to the
+// Nyquist angle π inclusive, and from it the stability margins the format
+// defines: gain margin at the phase crossings of −180°, phase margin at the
+// gain crossings of |L| = 1, delay margin, and peak sensitivity.
+//
+// Crossings are located as roots of real functions of θ built from the
+// numerator N and denominator D of L without dividing:
+//
+//	phase crossings: g(θ) = Im(N(e^{jθ}) conj D(e^{jθ})) = 0 with Re(N conj D) < 0
+//	gain crossings:  h(θ) = |N(e^{jθ})|² − |D(e^{jθ})|² = 0
+//
+// Sign changes are bracketed on a dense grid and bisected; tangential
+// touches are caught by refining the grid minima of |g| and |h|.
+package freq
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"ringside/analysis/poly"
+)
+
+// Crossing is one crossing of the response: Hz is its frequency; Value is
+// the gain margin in dB at a phase crossing, or the phase margin in degrees
+// at a gain crossing.
+type Crossing struct {
+	Hz    float64
+	Value float64
+}
+
+// Margins are the stability margins of a loop with closed loop 1 + L = 0.
+// A nil pointer means the quantity does not exist (see the fields).
+type Margins struct {
+	// GainMarginDB = −20·log10|L| at the phase crossing whose value has the
+	// smallest magnitude (nearest to instability), sign kept; nil when L
+	// never crosses −180°.
+	GainMarginDB, PhaseCrossoverHz *float64
+	// PhaseMarginDeg = 180° + arg L, wrapped to (−180°, 180°], the smallest
+	// over the gain crossings; nil when |L| never crosses 1.
+	PhaseMarginDeg, GainCrossoverHz *float64
+	// DelayMarginS = PM_rad/ω_c (0 when PM ≤ 0), the smallest over the gain
+	// crossings with ω_c > 0; DelayMarginSamples is the same divided by T.
+	// Nil with no gain crossing (or only one at 0 Hz with PM > 0, which no
+	// delay can move).
+	DelayMarginS, DelayMarginSamples *float64
+	// PeakSensitivityDB = max over [0, π/T] of 20·log10|1/(1+L)|; nil when
+	// 1 + L vanishes on the circle (a closed-loop pole on it).
+	PeakSensitivityDB, PeakSensitivityHz *float64
+	// Every crossing, ascending Hz.
+	PhaseCrossings, GainCrossings []Crossing
+}
+
+const (
+	// RootTolRad is the bisection width, in rad/sample, to which crossings
+	// are located: far below any plotting or reporting resolution while
+	// still above the ~1e-16·π spacing of float64 angles near π.
+	RootTolRad = 1e-12
+	// TouchTol: a grid minimum of |g| (or |h|) that golden-section refines to
+	// at most TouchTol times the size of its terms (|N||D|, resp.
+	// |N|² + |D|²) is a tangential touch and counts as a crossing. Rounding
+	// of the Horner evaluations alone is ~1e-15 of that size; a smaller
+	// margin than 1e-9 would miss touches computed from rounded coefficients.
+	TouchTol = 1e-9
+	// NoiseTol: |g| or |h| below NoiseTol times the size of its terms is
+	// indistinguishable from zero: Horner evaluation of N and D rounds at
+	// about deg·ε ≈ 1e-15 relative, and 1e-13 leaves room for degrees in the
+	// dozens. Such grid values are treated as exact zeros.
+	NoiseTol = 1e-13
+	// SingularTol: at a crossing where |D| ≤ SingularTol·(|N| + |D|), L has a
+	// pole on the circle (e.g. an integrator at z = 1) and the point is
+	// skipped; likewise |N| ≤ SingularTol·(|N| + |D|) means L = 0 there.
+	SingularTol = 1e-9
+	// ClosedLoopCircleTol: a root of N + D within this distance of the unit
+	// circle, or a sensitivity peak where |N + D| ≤ ClosedLoopCircleTol·(|N| + |D|),
+	// makes the peak sensitivity undefined (nil).
+	ClosedLoopCircleTol = 1e-9
+	// DegenerateTol: g or h is identically zero when all its trigonometric
+	// coefficients are below DegenerateTol times the size of the products
+	// they are sums of (then L is real, or of unit modulus, on the whole
+	// circle).
+	DegenerateTol = 1e-12
+	// baseGridPerDegree and minBaseGrid set the uniform part of the grid: a
+	// trigonometric polynomial of degree n has at most 2n roots per period,
+	// so 128 points per degree leave every root pair well separated unless
+	// it sits near a pole or zero close to the circle, where the grid is
+	// refined geometrically.
+	baseGridPerDegree = 128
+	minBaseGrid       = 1024
+	// nearCircle: roots of N, D and N + D with ||r| − 1| below it get a
+	// geometric cluster of extra grid points around their angle.
+	nearCircle = 0.2
+)
+
+// Compute returns the margins of the loop L at sample period T (seconds).
+// The closed loop is 1 + L = 0; a positive-feedback sign must already be
+// folded into L. Phase crossings include θ = 0 and θ = π, where L is real.
+// Points where L has a pole on the circle are skipped. When L is real on the
+// whole circle (g ≡ 0) or |L| = 1 on the whole circle (h ≡ 0), the crossings
+// form a continuum; Compute then reports a single crossing: the point of
+// smallest |GM|, resp. of smallest PM (found on the grid and refined), and
+// the delay margin of that point.
+// Errors: T not finite and positive, a zero or non-finite numerator or
+// denominator.
+func Compute(L poly.Rational, T float64) (Margins, error) {
+	var m Margins
+	lp, err := prepare(L, T)
+	if err != nil {
+		return m, err
+	}
+	grid := lp.grid()
+	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
+
+	// Phase crossings.
+	var phaseTh []float64
+	if lp.realOnCircle() {
+		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
+			l, ok := lp.value(th)
+			if !ok || real(l) >= 0 {
+				return 0, false
+			}
+			return math.Abs(math.Log(cmplx.Abs(l))), true
+		}); ok {
+			phaseTh = []float64{th}
+		}
+	} else {
+		phaseTh = roots(lp.g, lp.gScale, grid)
+	}
+	for _, th := range phaseTh {
+		N, D := lp.eval(th)
+		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
+			continue
+		}
+		gm := -20 * math.Log10(cmplx.Abs(N/D))
+		m.PhaseCrossings = append(m.PhaseCrossings, Crossing{Hz: toHz(th), Value: gm})
+	}
+	for _, c := range m.PhaseCrossings {
+		if m.GainMarginDB == nil || math.Abs(c.Value) < math.Abs(*m.GainMarginDB) {
+			m.GainMarginDB, m.PhaseCrossoverHz = ptr(c.Value), ptr(c.Hz)
+		}
+	}
+
+	// Gain crossings.
+	var gainTh []float64
+	if lp.unitOnCircle() {
+		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
+			l, ok := lp.value(th)
+			if !ok {
+				return 0, false
+			}
+			return phaseMargin(l), true
+		}); ok {
+			gainTh = []float64{th}
+		}
+	} else {
+		gainTh = roots(lp.h, lp.hScale, grid)
+	}
+	for _, th := range gainTh {
+		l, ok := lp.value(th)
+		if !ok {
+			continue
+		}
+		pm := phaseMargin(l)
+		m.GainCrossings = append(m.GainCrossings, Crossing{Hz: toHz(th), Value: pm})
+		if m.PhaseMarginDeg == nil || pm < *m.PhaseMarginDeg {
+			m.PhaseMarginDeg, m.GainCrossoverHz = ptr(pm), ptr(toHz(th))
+		}
+		var dm float64
+		switch {
+		case pm <= 0:
+			dm = 0
+		case th == 0:
+			continue // a delay does not turn the phase at DC
+		default:
+			dm = pm * math.Pi / 180 / (th / T)
+		}
+		if m.DelayMarginS == nil || dm < *m.DelayMarginS {
+			m.DelayMarginS, m.DelayMarginSamples = ptr(dm), ptr(dm/T)
+		}
+	}
+
+	// Peak sensitivity.
+	if db, th, ok := lp.peakSensitivity(grid); ok {
+		m.PeakSensitivityDB, m.PeakSensitivityHz = ptr(db), ptr(toHz(th))
+	}
+	return m, nil
+}
+
+// phaseMargin is 180° + arg l wrapped to (−180°, 180°].
+func phaseMargin(l complex128) float64 {
+	pm := 180 + cmplx.Phase(l)*180/math.Pi
+	if pm > 180 {
+		pm -= 360
+	}
+	return pm
+}
+
+func ptr(v float64) *float64 { return &v }
+
+// loop holds N and D rescaled by a common factor (L is unchanged) so that
+// products of values neither overflow nor underflow.
+type loop struct {
+	num, den poly.Poly
+}
+
+// ErrZeroPoly reports a zero numerator or denominator.
+var ErrZeroPoly = errors.New("freq: zero numerator or denominator")
+
+func prepare(L poly.Rational, T float64) (loop, error) {
+	if !(T > 0) || math.IsInf(T, 0) {
+		return loop{}, fmt.Errorf("freq: sample period %v s must be finite and positive", T)
+	}
+	if !L.Num.Finite() || !L.Den.Finite() {
+		return loop{}, fmt.Errorf("freq: non-finite coefficient in %v / %v", []float64(L.Num), []float64(L.Den))
+	}
+	n, d := L.Num.Trim(), L.Den.Trim()
+	if len(n) == 0 || len(d) == 0 {
+		return loop{}, ErrZeroPoly
+	}
+	s := 0.0
+	for _, v := range d {
+		s = math.Max(s, math.Abs(v))
+	}
+	return loop{num: n.Scale(1 / s), den: d.Scale(1 / s)}, nil
+}
+
+func (l loop) eval(th float64) (N, D complex128) {
+	z := cmplx.Rect(1, th)
+	return l.num.EvalC(z), l.den.EvalC(z)
+}
+
+// value returns L(e^{jθ}); ok is false at a pole or zero on the circle.
+func (l loop) value(th float64) (complex128, bool) {
+	N, D := l.eval(th)
+	if l.singular(N, D) {
+		return 0, false
+	}
+	return N / D, true
+}
+
+func (l loop) singular(N, D complex128) bool {
+	s := cmplx.Abs(N) + cmplx.Abs(D)
+	return cmplx.Abs(D) <= SingularTol*s || cmplx.Abs(N) <= SingularTol*s
+}
+
+func (l loop) g(th float64) float64 {
+	N, D := l.eval(th)
+	return imag(N * cmplx.Conj(D))
+}
+
+func (l loop) gScale(th float64) float64 {
+	N, D := l.eval(th)
+	return cmplx.Abs(N) * cmplx.Abs(D)
+}
+
+func (l loop) h(th float64) float64 {
+	N, D := l.eval(th)
+	return sq(N) - sq(D)
+}
+
+func (l loop) hScale(th float64) float64 {
+	N, D := l.eval(th)
+	return sq(N) + sq(D)
+}
+
+func sq(c complex128) float64 { return real(c)*real(c) + imag(c)*imag(c) }
+
+// correlation r[m + len(q) − 1] = Σ_{i−j=m} p_i q_j.
+func correlation(p, q poly.Poly) []float64 {
+	r := make([]float64, len(p)+len(q)-1)
+	for i, a := range p {
+		for j, b := range q {
+			r[i-j+len(q)-1] += a * b
+		}
+	}
+	return r
+}
+
+func absSum(p poly.Poly) float64 {
+	s := 0.0
+	for _, v := range p {
+		s += math.Abs(v)
+	}
+	return s
+}
+
+// realOnCircle reports g ≡ 0: g(θ) = Σ_{m>0} (r_m − r_{−m}) sin mθ with r
+// the cross-correlation of N and D.
+func (l loop) realOnCircle() bool {
+	r := correlation(l.num, l.den)
+	c := len(l.den) - 1
+	scale := absSum(l.num) * absSum(l.den)
+	for m := 1; ; m++ {
+		var plus, minus float64
+		inP, inM := c+m < len(r), c-m >= 0
+		if !inP && !inM {
+			return true
+		}
+		if inP {
+			plus = r[c+m]
+		}
+		if inM {
+			minus = r[c-m]
+		}
+		if math.Abs(plus-minus) > DegenerateTol*scale {
+			return false
+		}
+	}
+}
+
+// unitOnCircle reports h ≡ 0: N and D have equal autocorrelations.
+func (l loop) unitOnCircle() bool {
+	rn, rd := correlation(l.num, l.num), correlation(l.den, l.den)
+	scale := absSum(l.num)*absSum(l.num) + absSum(l.den)*absSum(l.den)
+	long, short := rn, rd
+	if len(rd) > len(rn) {
+		long, short = rd, rn
+	}
+	off := (len(long) - len(short)) / 2
+	for i, v := range long {
+		w := 0.0
+		if j := i - off; j >= 0 && j < len(short) {
+			w = short[j]
+		}
+		if math.Abs(v-w) > DegenerateTol*scale {
+			return false
+		}
+	}
+	return true
+}
+
+// grid returns sorted distinct angles in [0, π]: a uniform part scaled with
+// the degree, geometric clusters near 0 and π, and clusters around the
+// angles of roots of N, D and N + D that lie near the circle (there the
+// phase and magnitude change over an angular width of about ||r| − 1|).
+func (l loop) grid() []float64 {
+	n := max(l.num.Degree(), l.den.Degree(), 1)
+	count := max(minBaseGrid, baseGridPerDegree*n)
+	g := make([]float64, 0, count+512)
+	for i := 0; i <= count; i++ {
+		g = append(g, math.Pi*float64(i)/float64(count))
+	}
+	for k := 1; k <= 10; k++ {
+		e := math.Pi * math.Pow(10, -float64(k))
+		g = append(g, e, math.Pi-e)
+	}
+	for _, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
+		rs, ok := companionRoots(p)
+		if !ok {
+			continue
+		}
+		for _, r := range rs {
+			d := math.Abs(cmplx.Abs(r) - 1)
+			if d >= nearCircle {
+				continue
+			}
+			phi := math.Abs(cmplx.Phase(r))
+			w := math.Max(d, 1e-10)
+			for s := w / 16; s < 2*nearCircle; s *= 1.5 {
+				g = append(g, phi-s, phi+s)
+			}
+			g = append(g, phi)
+		}
+	}
+	sort.Float64s(g)
+	out := g[:0]
+	for _, v := range g {
+		if v < 0 || v > math.Pi {
+			continue
+		}
+		if len(out) > 0 && v-out[len(out)-1] < 1e-14 {
+			continue
+		}
+		out = append(out, v)
+	}
+	return out
+}
+
+// roots returns the sorted angles in [0, π] where f vanishes. Grid values
+// within NoiseTol·scale of zero count as zero, and a run of such points is
+// one root (at its smallest |f|); sign changes between nonzero neighbours
+// are bisected; a grid minimum of |f| between two larger same-signed
+// neighbours is refined by golden section: if the refined |f| is within
+// TouchTol·scale it is one tangential touch, and if it dips deeper through
+// zero it is two roots.
+func roots(f, scale func(float64) float64, grid []float64) []float64 {
+	v := make([]float64, len(grid))
+	zero := make([]bool, len(grid))
+	for i, th := range grid {
+		v[i] = f(th)
+		zero[i] = math.Abs(v[i]) <= NoiseTol*scale(th)
+	}
+	var out []float64
+	last := len(grid) - 1
+	for i := 0; i <= last; i++ {
+		if zero[i] {
+			j, best := i, i
+			for j+1 <= last && zero[j+1] {
+				j++
+				if math.Abs(v[j]) < math.Abs(v[best]) {
+					best = j
+				}
+			}
+			out = append(out, grid[best])
+			i = j
+			continue
+		}
+		if i < last && !zero[i+1] && v[i]*v[i+1] < 0 {
+			out = append(out, bisect(f, scale, grid[i], grid[i+1], v[i]))
+		}
+		if (i == 0 || i == last) && math.Abs(v[i]) <= TouchTol*scale(grid[i]) {
+			out = append(out, grid[i]) // touch at an end (h is even about 0 and π)
+			continue
+		}
+		if i == 0 || i == last || zero[i-1] || zero[i+1] || v[i-1]*v[i] < 0 || v[i]*v[i+1] < 0 {
+			continue
+		}
+		if math.Abs(v[i]) > math.Abs(v[i-1]) || math.Abs(v[i]) > math.Abs(v[i+1]) {
+			continue
+		}
+		s := math.Copysign(1, v[i])
+		th := golden(func(x float64) float64 { return s * f(x) }, grid[i-1], grid[i+1])
+		switch fm := s * f(th); {
+		case math.Abs(fm) <= TouchTol*scale(th):
+			out = append(out, th)
+		case fm < 0: // the minimum dips through zero: two roots
+			out = append(out, bisect(f, scale, grid[i-1], th, v[i-1]), bisect(f, scale, th, grid[i+1], f(th)))
+		}
+	}
+	sort.Float64s(out)
+	dedup := out[:0]
+	for _, th := range out {
+		if len(dedup) > 0 && th-dedup[len(dedup)-1] <= 10*RootTolRad {
+			continue
+		}
+		dedup = append(dedup, th)
+	}
+	return dedup
+}
+
+// bisect narrows a sign change of f on [a, b] (fa = f(a) ≠ 0) to
+// RootTolRad, or until |f| falls within NoiseTol·scale.
+func bisect(f, scale func(float64) float64, a, b, fa float64) float64 {
+	for i := 0; i < 200 && b-a > RootTolRad; i++ {
+		m := a + (b-a)/2
+		if m <= a || m >= b {
+			break
+		}
+		fm := f(m)
+		if math.Abs(fm) <= NoiseTol*scale(m) {
+			return m
+		}
+		if (fm < 0) == (fa < 0) {
+			a, fa = m, fm
+		} else {
+			b = m
+		}
+	}
+	return a + (b-a)/2
+}
+
+// golden returns the minimiser of f on [a, b] by golden-section search,
+// narrowed to RootTolRad (about 60 steps over a grid cell); f is assumed
+// unimodal there, which a grid minimum between two larger neighbours gives.
+func golden(f func(float64) float64, a, b float64) float64 {
+	const r = 0.6180339887498949
+	c, d := b-r*(b-a), a+r*(b-a)
+	fc, fd := f(c), f(d)
+	for i := 0; i < 200 && b-a > RootTolRad; i++ {
+		if fc < fd {
+			b, d, fd = d, c, fc
+			c = b - r*(b-a)
+			fc = f(c)
+		} else {
+			a, c, fc = c, d, fd
+			d = a + r*(b-a)
+			fd = f(d)
+		}
+	}
+	return a + (b-a)/2
+}
+
+// bestOnGrid minimises obj over the grid (skipping points where it is not
+// defined) and refines the minimum by golden section between neighbours.
+func (l loop) bestOnGrid(grid []float64, obj func(float64) (float64, bool)) (float64, bool) {
+	best, bestV := -1, math.Inf(1)
+	for i, th := range grid {
+		if v, ok := obj(th); ok && v < bestV {
+			best, bestV = i, v
+		}
+	}
+	if best < 0 {
+		return 0, false
+	}
+	a, b := grid[max(best-1, 0)], grid[min(best+1, len(grid)-1)]
+	th := golden(func(x float64) float64 {
+		if v, ok := obj(x); ok {
+			return v
+		}
+		return math.Inf(1)
+	}, a, b)
+	if v, ok := obj(th); ok && v < bestV {
+		return th, true
+	}
+	return grid[best], true
+}
+
+// peakSensitivity returns max 20·log10(|D|/|N + D|) over [0, π] and its
+// angle; ok is false when N + D has a root on the circle.
+func (l loop) peakSensitivity(grid []float64) (db, th float64, ok bool) {
+	cl := l.num.Add(l.den)
+	if cl.IsZero() {
+		return 0, 0, false
+	}
+	if rs, ok := companionRoots(cl); ok {
+		for _, r := range rs {
+			if math.Abs(cmplx.Abs(r)-1) <= ClosedLoopCircleTol {
+				return 0, 0, false
+			}
+		}
+	}
+	sens := func(x float64) float64 {
+		N, D := l.eval(x)
+		return cmplx.Abs(D) / cmplx.Abs(N+D)
+	}
+	v := make([]float64, len(grid))
+	for i, x := range grid {
+		v[i] = sens(x)
+	}
+	best, bestTh := -1.0, 0.0
+	for i := range grid {
+		left := i == 0 || v[i] >= v[i-1]
+		right := i == len(grid)-1 || v[i] >= v[i+1]
+		if !left || !right {
+			continue
+		}
+		x := grid[i]
+		if i > 0 && i < len(grid)-1 {
+			x = golden(func(t float64) float64 { return -sens(t) }, grid[i-1], grid[i+1])
+		}
+		s := sens(x)
+		if s < v[i] {
+			s, x = v[i], grid[i]
+		}
+		N, D := l.eval(x)
+		if cmplx.Abs(N+D) <= ClosedLoopCircleTol*(cmplx.Abs(N)+cmplx.Abs(D)) || math.IsInf(s, 0) || math.IsNaN(s) {
+			return 0, 0, false
+		}
+		if s > best {
+			best, bestTh = s, x
+		}
+	}
+	if best < 0 {
+		return 0, 0, false
+	}
+	return 20 * math.Log10(best), bestTh, true
+}

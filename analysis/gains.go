@@ -1,0 +1,377 @@
+package analysis
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+
+	"ringside/analysis/freq"
+	"ringside/analysis/gainlimit"
+	"ringside/analysis/poly"
+	"ringside/syntax"
+)
+
+// AffineTolerance: a loop's characteristic polynomial counts as affine in a
+// gain when values at two further points agree with the line through the
+// first two to this relative accuracy (rounding in polynomial products of
+// degree ≤ 64 stays near 1e-13; nonlinear dependence misses by O(1)).
+const AffineTolerance = 1e-9
+
+// pendingFix is a loop diagnostic that gets gain fixes once every gain's
+// limits are known.
+type pendingFix struct {
+	diag int
+	loop *Loop
+}
+
+// loopAt evaluates a loop's characteristic polynomial and open loop with
+// gain name set to k.
+func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
+	gains := make(map[string]float64, len(c.gains))
+	for n, v := range c.gains {
+		gains[n] = v
+	}
+	gains[name] = k
+	ev := c.evaluator(gains, nil)
+	sh := shapeOf(l.Stmt)
+	fwd, ok1 := c.elements(ev, sh.fwd, false)
+	fb, ok2 := c.elements(ev, sh.fb, false)
+	if !ok1 || !ok2 {
+		return nil, poly.Rational{}, false
+	}
+	open, char, _ := polys(tfs(fwd), tfs(fb), sh.positive)
+	return char, open, true
+}
+
+// affine returns a, b with char(k) = a + k·b when that holds.
+func (c *checker) affine(l *Loop, name string, k0 float64) (a, b poly.Poly, ok bool) {
+	h := math.Max(math.Abs(k0), 1)
+	ks := []float64{k0, k0 + 0.37*h, k0 - 0.61*h, k0 + 1.43*h}
+	var ps []poly.Poly
+	for _, k := range ks {
+		p, _, ok := c.loopAt(l, name, k)
+		if !ok {
+			return nil, nil, false
+		}
+		ps = append(ps, p)
+	}
+	b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
+	a = ps[0].Sub(b.Scale(k0))
+	scale := 0.0
+	for _, p := range ps {
+		for _, v := range p {
+			scale = math.Max(scale, math.Abs(v))
+		}
+	}
+	for i := 2; i < len(ks); i++ {
+		if !a.Add(b.Scale(ks[i])).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
+			return nil, nil, false
+		}
+	}
+	return a, b, true
+}
+
+// gainLimits computes each gain's stable interval and safe maximum over the
+// loops of this file that use it, then attaches gain fixes.
+func (c *checker) gainLimits(ctx context.Context) {
+	for _, g := range c.res.Gains {
+		if ctx.Err() != nil {
+			break
+		}
+		var loops []*Loop
+		for _, l := range c.res.Loops {
+			if l.OK && contains(l.Gains, g.Name) {
+				loops = append(loops, l)
+			}
+		}
+		if len(loops) == 0 {
+			continue
+		}
+		g.Limits = c.limitsOf(g, loops)
+	}
+	c.attachFixes()
+}
+
+func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
+	lim := &GainLimits{}
+	for _, l := range loops {
+		lim.Loops = append(lim.Loops, l.Name)
+	}
+	k0 := g.Value
+	iv, err := c.interval(g.Name, k0, loops)
+	if err != nil {
+		lim.SafeMaxNote = "stable interval not found: " + err.Error()
+		return lim
+	}
+	lim.StableMin, lim.StableMax, lim.Exact, lim.CurrentStable, lim.Found = iv.Lo, iv.Hi, iv.Exact, iv.ContainsCurrent, iv.Found
+	snapZero(lim.StableMin, k0, lim.StableMax)
+	snapZero(lim.StableMax, k0, lim.StableMin)
+	c.safeMax(g, loops, lim)
+	return lim
+}
+
+// interval intersects the exact per-loop intervals when every loop is affine
+// in the gain; otherwise it searches numerically on the product of the
+// characteristic polynomials (stable exactly when each factor is).
+func (c *checker) interval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, error) {
+	var out gainlimit.Interval
+	exact := true
+	var parts []gainlimit.Interval
+	for _, l := range loops {
+		a, b, ok := c.affine(l, name, k0)
+		if !ok {
+			exact = false
+			break
+		}
+		iv, err := gainlimit.Affine(a, b, k0)
+		if err != nil {
+			exact = false
+			break
+		}
+		parts = append(parts, iv)
+	}
+	if exact {
+		out = gainlimit.Interval{Exact: true, ContainsCurrent: true, Found: true}
+		for _, iv := range parts {
+			out.ContainsCurrent = out.ContainsCurrent && iv.ContainsCurrent
+			out.Found = out.Found && iv.Found
+			if iv.Lo != nil && (out.Lo == nil || *iv.Lo > *out.Lo) {
+				out.Lo = iv.Lo
+			}
+			if iv.Hi != nil && (out.Hi == nil || *iv.Hi < *out.Hi) {
+				out.Hi = iv.Hi
+			}
+		}
+		if out.Lo != nil && out.Hi != nil && *out.Lo >= *out.Hi {
+			out.Found = false
+		}
+		if len(parts) == 1 || out.ContainsCurrent {
+			return out, nil
+		}
+		// Nearest intervals of different loops need not overlap: search.
+	}
+	return gainlimit.Numeric(func(k float64) (poly.Poly, error) {
+		p := poly.Const(1)
+		for _, l := range loops {
+			ch, _, ok := c.loopAt(l, name, k)
+			if !ok {
+				return nil, fmt.Errorf("loop %s cannot be evaluated at %s = %g", l.Name, name, k)
+			}
+			p = p.Mul(ch)
+		}
+		return p, nil
+	}, k0)
+}
+
+// meets reports whether every loop is stable with gain name = k and keeps
+// its required gain margin.
+func (c *checker) meets(name string, k float64, loops []*Loop) bool {
+	for _, l := range loops {
+		char, open, ok := c.loopAt(l, name, k)
+		if !ok {
+			return false
+		}
+		st, err := gainlimit.SchurStable(char)
+		if err != nil || !st {
+			return false
+		}
+		m, err := freq.Compute(open, c.res.SampleT)
+		if err != nil {
+			return false
+		}
+		if m.GainMarginDB != nil && *m.GainMarginDB < c.requiredGM(l) {
+			return false
+		}
+	}
+	return true
+}
+
+// safeMax finds the largest value keeping stability and the required gain
+// margin in every loop using the gain.
+func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
+	k0 := g.Value
+	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
+	if ok(k0) {
+		hi := 0.0
+		if lim.StableMax != nil {
+			hi = *lim.StableMax
+		} else {
+			// No stability limit above: look for a margin limit within
+			// a million times the current size.
+			step := math.Max(math.Abs(k0), 1e-6)
+			found := false
+			for i := 0; i < 20; i++ {
+				hi = k0 + step*math.Pow(2, float64(i))
+				if !ok(hi) {
+					found = true
+					break
+				}
+			}
+			if !found {
+				lim.SafeMaxNote = "no finite upper limit found: every loop keeps its gain margin as the gain grows"
+				return
+			}
+		}
+		v, good := gainlimit.LargestMeeting(ok, k0, hi)
+		if good {
+			lim.SafeMax = &v
+		}
+		return
+	}
+	// The current value fails: look below it, inside the stable interval
+	// when one is known, for a value that passes, then bisect up to the
+	// switch point.
+	top := k0
+	floor := math.Inf(-1)
+	if lim.Found {
+		if lim.StableMax != nil && *lim.StableMax < top {
+			top = *lim.StableMax
+		}
+		if lim.StableMin != nil {
+			floor = *lim.StableMin
+		}
+	}
+	step := math.Max(math.Abs(k0), 1e-6) / 64
+	var cands []float64
+	for i := 0; i < 40; i++ {
+		cands = append(cands, top-step*math.Pow(2, float64(i)))
+		if k0 > 0 {
+			cands = append(cands, top*math.Pow(0.5, float64(i+1)))
+		}
+	}
+	sort.Sort(sort.Reverse(sort.Float64Slice(cands)))
+	for _, lo := range cands {
+		if lo <= floor || lo >= top {
+			continue
+		}
+		if ok(lo) {
+			if v, good := gainlimit.LargestMeeting(ok, lo, top); good {
+				lim.SafeMax = &v
+			}
+			return
+		}
+	}
+	lim.SafeMaxNote = "no value below the current one keeps every loop stable with its required gain margin"
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// attachFixes adds "set the gain" and "cap the gain" edits to the loop
+// diagnostics that asked for them.
+func (c *checker) attachFixes() {
+	for _, p := range c.pending {
+		x := &c.diags.list[p.diag]
+		for _, name := range p.loop.Gains {
+			d := c.res.Scope[name]
+			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil {
+				continue
+			}
+			g := d.Gain
+			if f, ok := setGainFix(g, c.requiredGM(p.loop)); ok {
+				x.Fixes = append(x.Fixes, f)
+			}
+			if f, ok := capGainFix(g); ok {
+				x.Fixes = append(x.Fixes, f)
+			}
+			lim := g.Limits
+			hint := ""
+			switch {
+			case !lim.CurrentStable && lim.Found:
+				hint = fmt.Sprintf("; the loop is stable only for %s", intervalText(name, lim))
+			case !lim.CurrentStable:
+				hint = fmt.Sprintf("; no value of %s alone makes it stable", name)
+			case lim.SafeMax == nil && lim.StableMax != nil:
+				hint = fmt.Sprintf("; %s < %s keeps the loop stable", name, fmtNum(*lim.StableMax))
+			}
+			if lim.SafeMax != nil {
+				hint += fmt.Sprintf("; %s ≤ %s keeps the required gain margin", name, fmtNum(roundDown(*lim.SafeMax)))
+			}
+			x.Message += hint
+		}
+	}
+}
+
+// setGainFix sets the gain's value to its safe maximum (rounded down to
+// three significant figures, so it stays on the safe side).
+func setGainFix(g *Gain, gm float64) (Fix, bool) {
+	lim := g.Limits
+	if lim.SafeMax == nil {
+		return Fix{}, false
+	}
+	v := roundDown(*lim.SafeMax)
+	if v == g.Value {
+		return Fix{}, false
+	}
+	f := Fix{Title: fmt.Sprintf("Set %s to %s (largest value with %s dB gain margin)", g.Name, fmtNum(v), fmtNum(gm)),
+		Edits: []Edit{{Path: g.Path, Span: g.Stmt.Value.Span, NewText: fmtNum(v)}}}
+	if g.Max != nil && v > *g.Max || g.Min != nil && v < *g.Min {
+		return Fix{}, false
+	}
+	return f, true
+}
+
+// capGainFix writes `max L` with L the stability limit rounded down, and
+// lowers the value below it when needed, so the declared range holds only
+// stable values.
+func capGainFix(g *Gain) (Fix, bool) {
+	lim := g.Limits
+	if lim.StableMax == nil || !lim.Found {
+		return Fix{}, false
+	}
+	cap := roundDown(*lim.StableMax * (1 - 1e-9))
+	if cap >= *lim.StableMax {
+		return Fix{}, false
+	}
+	if g.Max != nil && *g.Max <= cap {
+		return Fix{}, false
+	}
+	s := g.Stmt
+	var edits []Edit
+	if s.Max != nil {
+		edits = append(edits, Edit{Path: g.Path, Span: s.Max.Span, NewText: fmtNum(cap)})
+	} else {
+		at := s.Value.To
+		if s.Min != nil && s.Min.To > at {
+			at = s.Min.To
+		}
+		edits = append(edits, Edit{Path: g.Path, Span: syntax.Span{From: at, To: at}, NewText: " max " + fmtNum(cap)})
+	}
+	if g.Value >= cap {
+		v := cap
+		if lim.SafeMax != nil && *lim.SafeMax < cap {
+			v = roundDown(*lim.SafeMax)
+		} else {
+			v = roundDown(cap * 0.5)
+		}
+		edits = append([]Edit{{Path: g.Path, Span: s.Value.Span, NewText: fmtNum(v)}}, edits...)
+	}
+	return Fix{Title: fmt.Sprintf("Cap %s below its stability limit (max %s)", g.Name, fmtNum(cap)), Edits: edits}, true
+}
+
+// ZeroSnap: an interval end closer to zero than this, relative to the size
+// of the other figures, is zero. A gain of zero often opens a loop with an
+// integrator in it, putting a pole exactly on the circle; the affine fit
+// places that end only to rounding (~1e-9 relative), and "7e-14" would
+// read as a real limit.
+const ZeroSnap = 1e-7
+
+func snapZero(end *float64, k0 float64, other *float64) {
+	if end == nil {
+		return
+	}
+	scale := math.Abs(k0)
+	if other != nil {
+		scale = math.Max(scale, math.Abs(*other))
+	}
+	if math.Abs(*end) <= ZeroSnap*scale {
+		*end = 0
+	}
+}

@@ -1,0 +1,395 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"strings"
+
+	"ringside/analysis/freq"
+	"ringside/analysis/pole"
+	"ringside/analysis/poly"
+	"ringside/analysis/roots"
+	"ringside/analysis/step"
+	"ringside/syntax"
+)
+
+// CancelTolerance: a block pole and a zero in the same loop closer than this
+// (relative to max(1, |pole|)) cancel in L. The mode is then a closed-loop
+// pole whose weight in the output is of the order of the distance: hidden
+// in practice, not only when the two are typed identically.
+const CancelTolerance = 1e-4
+
+// element is one block or gain on a loop path, resolved.
+type element struct {
+	name  string
+	ident *syntax.Ident
+	tf    poly.Rational
+	block *Block // nil for a gain
+	decl  *Decl
+}
+
+// loopShape is the structure of a loop statement, independent of values.
+type loopShape struct {
+	fwd, fb  []*syntax.Ident
+	positive bool
+	reqs     []*syntax.RequireItem
+}
+
+func shapeOf(ls *syntax.LoopStmt) loopShape {
+	var sh loopShape
+	for _, it := range ls.Items {
+		switch x := it.(type) {
+		case *syntax.PathItem:
+			if x.Keyword.Name == "forward" {
+				sh.fwd = append(sh.fwd, x.Names...)
+			} else {
+				sh.fb = append(sh.fb, x.Names...)
+			}
+		case *syntax.SignItem:
+			if x.Value != nil && x.Value.Name == "positive" {
+				sh.positive = true
+			}
+		case *syntax.RequireItem:
+			sh.reqs = append(sh.reqs, x)
+		}
+	}
+	return sh
+}
+
+// polys forms a loop's open loop, characteristic polynomial and closed loop
+// from the elements' transfer functions, without cancelling anything.
+func polys(fwd, fb []poly.Rational, positive bool) (open poly.Rational, char poly.Poly, closed poly.Rational) {
+	g, h := poly.RConst(1), poly.RConst(1)
+	for _, e := range fwd {
+		g = g.Mul(e)
+	}
+	for _, e := range fb {
+		h = h.Mul(e)
+	}
+	sign := 1.0
+	if positive {
+		sign = -1
+	}
+	open = g.Mul(h).Scale(sign)
+	char = g.Den.Mul(h.Den).Add(g.Num.Mul(h.Num).Scale(sign))
+	closed = poly.R(g.Num.Mul(h.Den), char)
+	return
+}
+
+// elements resolves the names of a path; ok is false when one failed (and
+// was reported when diags is set).
+func (c *checker) elements(ev *evaluator, names []*syntax.Ident, report bool) ([]element, bool) {
+	var out []element
+	ok := true
+	for _, id := range names {
+		d, found := c.res.Scope[id.Name]
+		if !found {
+			if report {
+				c.diags.add(c.res.Path, id.Span, Error, CodeUnknownName, unknownNameMsg(id.Name, c.res.Scope))
+			}
+			ok = false
+			continue
+		}
+		if d.Gain != nil {
+			out = append(out, element{name: id.Name, ident: id, tf: poly.RConst(ev.gains[id.Name]), decl: d})
+			continue
+		}
+		bv := ev.block(d)
+		if !bv.ok {
+			if report {
+				c.reportUnusable(d, id)
+			}
+			ok = false
+			continue
+		}
+		out = append(out, element{name: id.Name, ident: id, tf: bv.tf, block: d.Block, decl: d})
+	}
+	return out, ok
+}
+
+func (c *checker) reportUnusable(d *Decl, id *syntax.Ident) {
+	st := d.Block.Stmt
+	bv := c.evaluator(c.gains, nil).block(d)
+	if bv.v == 's' && bv.contOK && (st.Via == nil || st.Via.Method == nil) {
+		x := c.diags.add(c.res.Path, id.Span, Error, CodeNoVia,
+			fmt.Sprintf("block %s is continuous (in s) and has no `via`: the loop needs it in z; add a discretization method such as `via zoh` (a plant behind a DAC and sample-and-hold)", id.Name))
+		if d.Path == c.res.Path {
+			x.Fixes = append(x.Fixes, Fix{Title: fmt.Sprintf("Add `via zoh` to block %s", id.Name),
+				Edits: []Edit{{Path: d.Path, Span: syntax.Span{From: st.Expr.End(), To: st.Expr.End()}, NewText: " via zoh"}}})
+		}
+		x.Related = append(x.Related, Related{Path: d.Path, Span: st.Name.Span, Message: "block declared here"})
+		return
+	}
+	if bv.v == 's' && c.res.SampleT == 0 {
+		return // the missing sample line is reported once
+	}
+	x := c.diags.add(c.res.Path, id.Span, Error, CodeBadExpression, fmt.Sprintf("block %s has errors, so this loop cannot be analysed", id.Name))
+	x.Related = append(x.Related, Related{Path: d.Path, Span: st.Name.Span, Message: "block declared here"})
+}
+
+func tfs(es []element) []poly.Rational {
+	out := make([]poly.Rational, len(es))
+	for i, e := range es {
+		out[i] = e.tf
+	}
+	return out
+}
+
+// loop analyses one loop statement.
+func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
+	sh := shapeOf(ls)
+	l := &Loop{Name: ls.Name.Name, Stmt: ls, Positive: sh.positive}
+	for _, id := range sh.fwd {
+		l.Forward = append(l.Forward, id.Name)
+	}
+	for _, id := range sh.fb {
+		l.Feedback = append(l.Feedback, id.Name)
+	}
+	for _, it := range ls.Items {
+		if s, ok := it.(*syntax.SignItem); ok && s.Value != nil && s.Value.Name != "negative" && s.Value.Name != "positive" {
+			c.badSign(s)
+		}
+	}
+	c.checkMetrics(sh.reqs)
+	if len(sh.fwd) == 0 {
+		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeEmptyPath, fmt.Sprintf("loop %s has no `forward` line: name the blocks from error to output, e.g. `forward ctrl plant`", l.Name))
+		return l
+	}
+	fwd, ok1 := c.elements(ev, sh.fwd, true)
+	fb, ok2 := c.elements(ev, sh.fb, true)
+	if !ok1 || !ok2 {
+		return l
+	}
+	if c.res.SampleT == 0 {
+		return l
+	}
+	gains := map[string]bool{}
+	for _, e := range append(append([]element{}, fwd...), fb...) {
+		if e.block == nil {
+			gains[e.name] = true
+		} else {
+			for g := range ev.memo[e.name].gains {
+				gains[g] = true
+			}
+		}
+	}
+	l.Gains = sortedKeys(gains)
+	l.Open, l.Char, l.Closed = polys(tfs(fwd), tfs(fb), sh.positive)
+	if deg := l.Char.Degree(); deg > MaxBlockDegree {
+		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxBlockDegree))
+		return l
+	}
+	if c.env.Options.Quick {
+		return l
+	}
+	if !c.algebraic(l, fwd, fb) {
+		return l
+	}
+	if !c.closedPoles(l) {
+		return l
+	}
+	l.OK = true
+	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
+	m, err := freq.Compute(l.Open, c.res.SampleT)
+	if err != nil {
+		c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
+	}
+	l.Margins = m
+	if l.Stable {
+		st, err := step.Simulate(l.Closed, c.res.SampleT, l.MaxRadius)
+		if err != nil {
+			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
+		} else {
+			l.Step = &st
+		}
+	}
+	c.verdictDiagnostics(l, fwd, fb)
+	c.requirements(l, sh.reqs)
+	return l
+}
+
+func (c *checker) badSign(s *syntax.SignItem) {
+	want := "negative"
+	if editDistance(s.Value.Name, "positive") < editDistance(s.Value.Name, "negative") {
+		want = "positive"
+	}
+	x := c.diags.add(c.res.Path, s.Value.Span, Error, CodeBadSign,
+		fmt.Sprintf("sign must be `negative` (the usual feedback, the default) or `positive`, not %q; did you mean %s?", s.Value.Name, want))
+	x.Fixes = append(x.Fixes, Fix{Title: "Change to `sign " + want + "`", Edits: []Edit{{Path: c.res.Path, Span: s.Value.Span, NewText: want}}})
+}
+
+// algebraic reports a loop with no delay around it. A well-posed one is
+// solvable but needs the current output to compute the current input; an
+// ill-posed one (1 + L(∞) = 0) has no solution at all.
+func (c *checker) algebraic(l *Loop, fwd, fb []element) bool {
+	if l.Open.RelativeDegree() > 0 {
+		return true
+	}
+	var names []string
+	for _, e := range append(append([]element{}, fwd...), fb...) {
+		names = append(names, e.name)
+	}
+	direct := l.Open.Num.Lead() / l.Open.Den.Lead()
+	if l.Char.Degree() < l.Open.Den.Degree() || math.Abs(1+direct) <= 1e-12 {
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeAlgebraicLoop,
+			fmt.Sprintf("loop %s is an ill-posed algebraic loop: no element delays the signal and 1 + L(∞) = 0, so the loop equations have no solution; add a delay (z^-1) to the feedback path", l.Name))
+		return false
+	}
+	c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeAlgebraicLoop,
+		fmt.Sprintf("loop %s is an algebraic loop: none of %s delays the signal (direct feedthrough %.4g around the loop), so the controller would need this sample's output to compute this sample's input; real loops have at least one sample of delay (e.g. feedback z^-1)", l.Name, strings.Join(names, ", "), direct))
+	return true
+}
+
+// closedPoles finds the closed-loop poles and the verdict.
+func (c *checker) closedPoles(l *Loop) bool {
+	if l.Char.Degree() < 1 {
+		l.Stable, l.MaxRadius, l.MinDamping = true, 0, 1
+		return true
+	}
+	r, err := roots.Find(l.Char)
+	if err != nil {
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric, fmt.Sprintf("loop %s: closed-loop poles could not be computed (%v); no verdict", l.Name, err))
+		return false
+	}
+	l.BackwardError = r.BackwardError
+	tol := c.env.Options.Tolerance
+	for _, z := range r.Roots {
+		l.Poles = append(l.Poles, pole.Describe(z, c.res.SampleT, tol))
+	}
+	sortPoles(l.Poles)
+	l.MaxRadius = l.Poles[0].Radius
+	l.MinDamping = math.Inf(1)
+	for _, p := range l.Poles {
+		if p.Shape != pole.Impulse && p.Damping < l.MinDamping {
+			l.MinDamping = p.Damping
+		}
+	}
+	if math.IsInf(l.MinDamping, 1) {
+		l.MinDamping = 1
+	}
+	l.Stable = l.MaxRadius < 1-tol
+	l.Marginal = !l.Stable && l.MaxRadius <= 1+tol
+	return true
+}
+
+// hiddenModes finds block poles cancelled by zeros in the same loop.
+func (c *checker) hiddenModes(l *Loop, es []element) {
+	type rootOf struct {
+		z    complex128
+		elem int
+	}
+	var ps, zs []rootOf
+	for i, e := range es {
+		if e.block == nil {
+			continue
+		}
+		if r, err := roots.Find(e.tf.Den); err == nil {
+			for _, cl := range r.Clusters {
+				ps = append(ps, rootOf{cl.Value, i})
+			}
+		}
+		if r, err := roots.Find(e.tf.Num); err == nil {
+			for _, cl := range r.Clusters {
+				zs = append(zs, rootOf{cl.Value, i})
+			}
+		}
+	}
+	seen := map[complex128]bool{}
+	for _, p := range ps {
+		if imag(p.z) < 0 || seen[p.z] {
+			continue
+		}
+		for _, q := range zs {
+			if cmplx.Abs(p.z-q.z) > CancelTolerance*math.Max(1, cmplx.Abs(p.z)) {
+				continue
+			}
+			seen[p.z] = true
+			h := HiddenMode{Pole: p.z, PoleBlock: es[p.elem].name, ZeroBlock: es[q.elem].name}
+			l.Hidden = append(l.Hidden, h)
+			c.hiddenDiagnostic(l, h, es[p.elem], es[q.elem])
+			break
+		}
+	}
+}
+
+func (c *checker) hiddenDiagnostic(l *Loop, h HiddenMode, pe, ze element) {
+	r := cmplx.Abs(h.Pole)
+	tol := c.env.Options.Tolerance
+	sev, what := Warning, "a stable mode that L does not show: it still moves the plant's internal state"
+	switch {
+	case r > 1+tol:
+		sev, what = Error, "an UNSTABLE mode that L does not show: the loop is internally unstable (a signal inside grows without bound) even if the output looks fine"
+	case r >= 1-tol:
+		sev, what = Error, "a mode on the unit circle that L does not show: the loop is not internally stable (a disturbance there never dies out)"
+	}
+	by := "a zero of block " + h.ZeroBlock
+	if h.ZeroBlock == h.PoleBlock {
+		by = "a zero of the same block"
+	}
+	x := c.diags.add(c.res.Path, l.Stmt.Name.Span, sev, CodeHiddenMode,
+		fmt.Sprintf("loop %s hides a mode: the pole of block %s at z = %s (radius %s) is cancelled by %s; it is %s. Do not cancel plant poles outside or near the circle; change the zero of %s instead",
+			l.Name, h.PoleBlock, fmtComplex(h.Pole), FormatRadius(r), by, what, h.ZeroBlock))
+	x.Related = append(x.Related,
+		Related{Path: pe.decl.Path, Span: pe.decl.Ident.Span, Message: fmt.Sprintf("block %s: pole at z = %s", h.PoleBlock, fmtComplex(h.Pole))},
+		Related{Path: ze.decl.Path, Span: ze.decl.Ident.Span, Message: fmt.Sprintf("block %s: the cancelling zero", h.ZeroBlock)})
+}
+
+// verdictDiagnostics reports an unstable or marginal loop.
+func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
+	if l.Stable {
+		return
+	}
+	worst := l.Poles[0]
+	where := fmt.Sprintf("z = %s (radius %s)", fmtComplex(worst.Z), FormatRadius(worst.Radius))
+	var x *Diagnostic
+	if l.Marginal {
+		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,
+			fmt.Sprintf("loop %s is not BIBO stable: closed-loop pole on the unit circle at %s (tolerance %g); a bounded input can drive an unbounded output (a sustained oscillation or drift)", l.Name, where, c.env.Options.Tolerance))
+	} else {
+		n := 0
+		for _, p := range l.Poles {
+			if p.Radius > 1+c.env.Options.Tolerance {
+				n++
+			}
+		}
+		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodePoleOutside,
+			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, n, where))
+	}
+	// Point at the open-loop pole nearest to the worst closed-loop pole.
+	best, bestD := -1, math.Inf(1)
+	es := append(append([]element{}, fwd...), fb...)
+	var bestZ complex128
+	for i, e := range es {
+		if e.block == nil {
+			continue
+		}
+		for _, p := range e.block.poleValues(e.tf) {
+			if d := cmplx.Abs(p - worst.Z); d < bestD {
+				best, bestD, bestZ = i, d, p
+			}
+		}
+	}
+	if best >= 0 {
+		e := es[best]
+		x.Related = append(x.Related, Related{Path: e.decl.Path, Span: e.decl.Ident.Span,
+			Message: fmt.Sprintf("block %s has the nearest open-loop pole, z = %s", e.name, fmtComplex(bestZ))})
+	}
+	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l})
+}
+
+// poleValues returns the poles of tf (the block's own when analysed).
+func (b *Block) poleValues(tf poly.Rational) []complex128 {
+	if b != nil && len(b.Poles) > 0 {
+		out := make([]complex128, len(b.Poles))
+		for i, p := range b.Poles {
+			out[i] = p.Z
+		}
+		return out
+	}
+	r, err := roots.Find(tf.Den)
+	if err != nil {
+		return nil
+	}
+	return r.Roots
+}

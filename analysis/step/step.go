@@ -1,0 +1,188 @@
+// Package step computes the closed-loop step response, reference to output,
+// of a stable discrete transfer function by running its difference equation
+// exactly, and reads the usual time-domain figures off the samples.
+package step
+
+import (
+	"fmt"
+	"math"
+
+	"ringside/analysis/poly"
+)
+
+// Result is a unit step response y[k] and its figures.
+type Result struct {
+	// Samples[k] = y[k], the output at t = kT for a unit step applied at
+	// k = 0 with zero initial state.
+	Samples []float64
+	// T is the sample period in seconds.
+	T float64
+	// Final is the steady-state value H(1), the DC gain.
+	Final float64
+	// OvershootPct = 100·max_k(σ·(y[k] − Final))/|Final|, σ = sign(Final),
+	// i.e. how far the response goes beyond Final in Final's own direction
+	// (for Final > 0 this is 100·(max y − Final)/Final); 0 when Final = 0,
+	// never negative.
+	OvershootPct float64
+	// RiseTimeS = (k90 − k10)·T, where k10 and k90 are the first samples with
+	// σ·y[k] ≥ 0.1|Final| and ≥ 0.9|Final| (sample times, no interpolation);
+	// 0 when Final = 0 or the 90 % level is never reached.
+	RiseTimeS float64
+	// SettlingS = (j + 1)·T, j the last sample outside the 2 % band
+	// |y[j] − Final| > 0.02·|Final|: the first time from which every sample
+	// stays in the band. 0 when no sample is outside. When Final = 0 the
+	// band is 2 % of max|y| instead.
+	SettlingS float64
+	// Settled reports that the horizon was long enough to see the settling:
+	// either the horizon was not clamped (the modes have decayed to
+	// HorizonDecay) and the last sample is inside the band, or the horizon
+	// was clamped, the last exit from the band lies in its first half and
+	// the second half stays within half the band.
+	Settled bool
+	// SteadyStateError = 1 − Final (unit reference).
+	SteadyStateError float64
+}
+
+const (
+	// HorizonDecay is the factor by which the slowest mode must have decayed
+	// at the end of the horizon: 1e-6 of its start is 5·10⁴ times below the
+	// 2 % settling band, so the band exit is seen with room to spare.
+	HorizonDecay = 1e-6
+	// MinSamples and MaxSamples clamp the horizon (work and memory bound).
+	MinSamples = 20
+	MaxSamples = 100000
+	// band is the settling band (2 %, the format's `settling`).
+	band = 0.02
+)
+
+// horizon returns the number of samples simulated for a denominator of
+// degree n whose poles have radius at most r: the smallest K with
+// K^(n−1)·r^K ≤ HorizonDecay (all n poles treated as one n-fold pole at
+// radius r, the worst case of multiplicity), plus n samples of transport
+// delay, clamped to [MinSamples, MaxSamples]; clamped reports the upper clamp.
+func horizon(n int, r float64) (k int, clamped bool) {
+	if r <= 0 {
+		return max(MinSamples, n+1), false
+	}
+	lr := -math.Log(r)
+	need := math.Log(1/HorizonDecay) / lr
+	for i := 0; i < 20 && n > 1; i++ {
+		need = (math.Log(1/HorizonDecay) + float64(n-1)*math.Log(math.Max(need, 1))) / lr
+	}
+	total := math.Ceil(need) + float64(n)
+	if total > MaxSamples {
+		return MaxSamples, true
+	}
+	return max(MinSamples, int(total)), false
+}
+
+// Simulate returns the unit step response of h = B/A at sample period T.
+// h must be proper (deg B ≤ deg A) and stable; maxPoleRadius is the largest
+// pole radius, as the caller computed it, and must lie in [0, 1). The
+// difference equation with A normalised to be monic,
+//
+//	y[k] = Σᵢ bᵢ u[k−n+i] − Σ_{i<n} aᵢ y[k−n+i],  u[k] = 1 for k ≥ 0,
+//
+// is run for K samples: the smallest K with K^(n−1)·r^K ≤ HorizonDecay
+// (r = maxPoleRadius, multiplicity allowance n), plus n, clamped to
+// [MinSamples, MaxSamples]. Errors: T not finite
+// and positive, zero or non-finite polynomials, improper h, maxPoleRadius
+// outside [0, 1), A(1) = 0, or a response that overflows.
+func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error) {
+	if !(T > 0) || math.IsInf(T, 0) {
+		return Result{}, fmt.Errorf("step: sample period %v s must be finite and positive", T)
+	}
+	if !h.Num.Finite() || !h.Den.Finite() {
+		return Result{}, fmt.Errorf("step: non-finite coefficient in %v / %v", []float64(h.Num), []float64(h.Den))
+	}
+	b, a := h.Num.Trim(), h.Den.Trim()
+	if len(a) == 0 || len(b) == 0 {
+		return Result{}, fmt.Errorf("step: zero numerator or denominator")
+	}
+	if len(b) > len(a) {
+		return Result{}, fmt.Errorf("step: improper transfer function (numerator degree %d > denominator degree %d): not causal", len(b)-1, len(a)-1)
+	}
+	if !(maxPoleRadius >= 0 && maxPoleRadius < 1) {
+		return Result{}, fmt.Errorf("step: largest pole radius %v is not in [0, 1): the closed loop is not stable", maxPoleRadius)
+	}
+	n := len(a) - 1
+	lead := a[n]
+	a, b = a.Scale(1/lead), b.Scale(1/lead)
+	a1 := a.Eval(1)
+	if a1 == 0 {
+		return Result{}, fmt.Errorf("step: denominator vanishes at z = 1: a pole on the circle, not stable")
+	}
+	final := b.Eval(1) / a1
+	bsum := make([]float64, n+1) // bsum[i] = b_i (zero-padded)
+	copy(bsum, b)
+
+	K, clamped := horizon(n, maxPoleRadius)
+	y := make([]float64, K)
+	for k := 0; k < K; k++ {
+		var acc float64
+		for i := 0; i <= n; i++ {
+			if k-n+i >= 0 {
+				acc += bsum[i] // u = 1
+			}
+		}
+		for i := 0; i < n; i++ {
+			if j := k - n + i; j >= 0 {
+				acc -= a[i] * y[j]
+			}
+		}
+		if math.IsInf(acc, 0) || math.IsNaN(acc) {
+			return Result{}, fmt.Errorf("step: response overflows at sample %d: the closed loop is not stable as claimed", k)
+		}
+		y[k] = acc
+	}
+	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1 - final}
+	figures(&r, clamped)
+	return r, nil
+}
+
+// figures fills overshoot, rise, settling and Settled from the samples.
+func figures(r *Result, clamped bool) {
+	y, f := r.Samples, r.Final
+	K := len(y)
+	sigma := math.Copysign(1, f)
+	af := math.Abs(f)
+	if f != 0 {
+		peak := 0.0
+		k10, k90 := -1, -1
+		for k, v := range y {
+			peak = math.Max(peak, sigma*(v-f))
+			if k10 < 0 && sigma*v >= 0.1*af {
+				k10 = k
+			}
+			if k90 < 0 && sigma*v >= 0.9*af {
+				k90 = k
+			}
+		}
+		r.OvershootPct = 100 * peak / af
+		if k10 >= 0 && k90 >= 0 {
+			r.RiseTimeS = float64(k90-k10) * r.T
+		}
+	}
+	width := band * af
+	if f == 0 {
+		for _, v := range y {
+			width = math.Max(width, band*math.Abs(v))
+		}
+	}
+	last := -1
+	for k, v := range y {
+		if math.Abs(v-f) > width {
+			last = k
+		}
+	}
+	r.SettlingS = float64(last+1) * r.T
+	if !clamped {
+		r.Settled = last < K-1
+		return
+	}
+	tail := 0.0
+	for _, v := range y[K/2:] {
+		tail = math.Max(tail, math.Abs(v-f))
+	}
+	r.Settled = last+1 <= K/2 && tail <= width/2
+}

@@ -1,0 +1,131 @@
+package analysis
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Verdict is a loop's one-line verdict in plain words, e.g.
+// "stable, GM 8.1 dB, PM 47°".
+func (l *Loop) Verdict() string {
+	if !l.OK {
+		return "not analysed (see the errors)"
+	}
+	var b strings.Builder
+	switch {
+	case l.Stable:
+		b.WriteString("stable")
+	case l.Marginal:
+		b.WriteString("NOT STABLE (pole on the unit circle)")
+	default:
+		b.WriteString("UNSTABLE")
+	}
+	m := l.Margins
+	if m.GainMarginDB != nil {
+		fmt.Fprintf(&b, ", GM %.3g dB", snap(*m.GainMarginDB))
+	} else {
+		b.WriteString(", GM ∞")
+	}
+	if m.PhaseMarginDeg != nil {
+		fmt.Fprintf(&b, ", PM %.3g°", snap(*m.PhaseMarginDeg))
+	} else {
+		b.WriteString(", PM ∞")
+	}
+	return b.String()
+}
+
+// Summary is a loop's figures in one line: verdict, radius, margins with
+// crossovers, sensitivity and step figures.
+func (l *Loop) Summary() string {
+	if !l.OK {
+		return fmt.Sprintf("loop %s: %s", l.Name, l.Verdict())
+	}
+	var parts []string
+	verdict := "stable"
+	if l.Marginal {
+		verdict = "NOT STABLE: pole on the unit circle"
+	} else if !l.Stable {
+		verdict = "UNSTABLE"
+	}
+	parts = append(parts, verdict, "largest pole radius "+FormatRadius(l.MaxRadius))
+	m := l.Margins
+	if m.GainMarginDB != nil {
+		parts = append(parts, fmt.Sprintf("gain margin %s at %s", fmtMetric("gain_margin", *m.GainMarginDB), FormatHz(*m.PhaseCrossoverHz)))
+	} else {
+		parts = append(parts, "gain margin ∞ (no phase crossing)")
+	}
+	if m.PhaseMarginDeg != nil {
+		parts = append(parts, fmt.Sprintf("phase margin %s at %s", fmtMetric("phase_margin", *m.PhaseMarginDeg), FormatHz(*m.GainCrossoverHz)))
+	} else {
+		parts = append(parts, "phase margin ∞ (no gain crossing)")
+	}
+	if m.DelayMarginS != nil {
+		parts = append(parts, fmt.Sprintf("delay margin %s (%.3g samples)", fmtMetric("delay_margin", *m.DelayMarginS), snap(*m.DelayMarginSamples)))
+	}
+	if m.PeakSensitivityDB != nil {
+		parts = append(parts, "peak sensitivity "+fmtMetric("peak_sensitivity", *m.PeakSensitivityDB))
+	}
+	if l.Step != nil {
+		st := fmt.Sprintf("step overshoot %.3g %%", l.Step.OvershootPct)
+		if l.Step.Settled {
+			st += ", settling " + fmtTime(l.Step.SettlingS)
+		}
+		parts = append(parts, st)
+	}
+	return fmt.Sprintf("loop %s: %s", l.Name, strings.Join(parts, "; "))
+}
+
+// LimitsText describes a gain's limits in one line.
+func (g *Gain) LimitsText() string {
+	lim := g.Limits
+	if lim == nil {
+		return fmt.Sprintf("gain %s = %s: used by no loop of this file", g.Name, fmtNum(g.Value))
+	}
+	method := "numeric search"
+	if lim.Exact {
+		method = "exact"
+	}
+	var s string
+	switch {
+	case lim.CurrentStable:
+		s = fmt.Sprintf("gain %s = %s: loops %s stable for %s (%s)", g.Name, fmtNum(g.Value), strings.Join(lim.Loops, ", "), intervalText(g.Name, lim), method)
+	case lim.Found:
+		s = fmt.Sprintf("gain %s = %s is UNSTABLE for loops %s; the nearest stable range is %s (%s)", g.Name, fmtNum(g.Value), strings.Join(lim.Loops, ", "), intervalText(g.Name, lim), method)
+	default:
+		s = fmt.Sprintf("gain %s = %s: no value found that makes loops %s stable", g.Name, fmtNum(g.Value), strings.Join(lim.Loops, ", "))
+	}
+	if lim.SafeMax != nil {
+		s += fmt.Sprintf("; keeps the required gain margin up to %s = %s", g.Name, fmtNum(roundDown(*lim.SafeMax)))
+	} else if lim.SafeMaxNote != "" {
+		s += "; " + lim.SafeMaxNote
+	}
+	return s
+}
+
+// intervalText writes the stable interval as "lo < name < hi", leaving out
+// an unbounded side.
+func intervalText(name string, lim *GainLimits) string {
+	switch {
+	case lim.StableMin != nil && lim.StableMax != nil:
+		return fmt.Sprintf("%s < %s < %s", fmtNum(*lim.StableMin), name, fmtNum(*lim.StableMax))
+	case lim.StableMin != nil:
+		return fmt.Sprintf("%s > %s", name, fmtNum(*lim.StableMin))
+	case lim.StableMax != nil:
+		return fmt.Sprintf("%s < %s", name, fmtNum(*lim.StableMax))
+	}
+	return "every value"
+}
+
+// summaries adds one info diagnostic per loop and per gain with its figures.
+func (c *checker) summaries() {
+	for _, l := range c.res.Loops {
+		if l.OK {
+			c.diags.add(c.res.Path, l.Stmt.Name.Span, Info, CodeLoopVerdict, l.Summary())
+		}
+	}
+	for _, g := range c.res.Gains {
+		if g.Limits != nil && g.Stmt.Name != nil {
+			c.diags.add(c.res.Path, g.Stmt.Name.Span, Info, CodeGainLimits, g.LimitsText())
+		}
+	}
+}

@@ -1,0 +1,127 @@
+;;; ringside.el --- Major mode and eglot set-up for ringside .loop files  -*- lexical-binding: t; -*-
+
+;; Version: 0.1.0
+;; Package-Requires: ((emacs "27.1"))
+;; Keywords: languages
+
+;;; Commentary:
+
+;; `loop-mode' edits .loop files (discrete-time controllers, plants and
+;; feedback loops) with highlighting and `#' comments, and registers the
+;; ringside language server (`ringside serve') with eglot.  Usage:
+;;
+;;   (add-to-list 'load-path "/path/to/editors/emacs")
+;;   (require 'ringside)
+;;   (add-hook 'loop-mode-hook #'eglot-ensure)   ; start the server automatically
+;;
+;; Analysis options reach the server through `eglot-workspace-configuration',
+;; for example in .dir-locals.el:
+;;   ((loop-mode . ((eglot-workspace-configuration
+;;                   . (:ringside (:trigger "change" :gainMarginDb 8))))))
+
+;;; Code:
+
+(require 'prog-mode)
+
+(defgroup ringside nil
+  "Editing .loop files checked by the ringside language server."
+  :group 'languages
+  :prefix "loop-")
+
+(defconst loop-statement-keywords
+  '("sample" "use" "gain" "block" "loop" "forward" "feedback" "sign" "require")
+  "Words that start a statement of a .loop file.")
+
+(defconst loop-modifier-keywords '("via" "min" "max" "prewarp")
+  "Words that qualify a statement.")
+
+(defconst loop-methods '("zoh" "foh" "tustin" "matched")
+  "Discretization methods named after `via'.")
+
+(defconst loop-sign-values '("negative" "positive")
+  "Values of `sign'.")
+
+(defconst loop-metrics
+  '("gain_margin" "phase_margin" "delay_margin" "radius" "damping"
+    "peak_sensitivity" "overshoot" "settling")
+  "Metrics named in `require' lines.")
+
+(defconst loop-number-regexp
+  "\\_<-?\\(?:[0-9]+\\(?:\\.[0-9]*\\)?\\|\\.[0-9]+\\)\\(?:[eE][-+]?[0-9]+\\)?"
+  "A number: 40, 0.97, -1.5e-3, .5.")
+
+(defconst loop-font-lock-keywords
+  `((,(concat "\\_<\\(block\\)\\s-+\\([A-Za-z_][A-Za-z0-9_]*\\)")
+     (1 font-lock-keyword-face) (2 font-lock-type-face))
+    (,(concat "\\_<\\(gain\\)\\s-+\\([A-Za-z_][A-Za-z0-9_]*\\)")
+     (1 font-lock-keyword-face) (2 font-lock-variable-name-face))
+    (,(concat "\\_<\\(loop\\)\\s-+\\([A-Za-z_][A-Za-z0-9_]*\\)")
+     (1 font-lock-keyword-face) (2 font-lock-function-name-face))
+    (,(regexp-opt loop-statement-keywords 'symbols) . font-lock-keyword-face)
+    (,(regexp-opt loop-modifier-keywords 'symbols) . font-lock-keyword-face)
+    (,(regexp-opt loop-methods 'symbols) . font-lock-builtin-face)
+    (,(regexp-opt loop-sign-values 'symbols) . font-lock-constant-face)
+    (,(regexp-opt loop-metrics 'symbols) . font-lock-builtin-face)
+    ;; A unit needs a space after its number: inside expressions `9s' is 9 * s.
+    (,(concat "[0-9.]\\s-+\\(rad/s\\|kHz\\|Hz\\|dB\\|deg\\|samples\\|ms\\|us\\|[µμ]s\\|s\\|%\\)\\_>")
+     1 font-lock-type-face)
+    ("[0-9.]\\s-+\\(%\\)" 1 font-lock-type-face)
+    ;; The Laplace and z-transform variables, also right after a number (9s).
+    ("\\(?:^\\|[^A-Za-z_]\\)\\([sz]\\)\\_>" 1 font-lock-constant-face)
+    (,loop-number-regexp . font-lock-constant-face))
+  "Highlighting of `loop-mode'.")
+
+(defvar loop-mode-syntax-table
+  (let ((table (make-syntax-table)))
+    (modify-syntax-entry ?# "<" table)
+    (modify-syntax-entry ?\n ">" table)
+    (modify-syntax-entry ?\" "\"" table)
+    (modify-syntax-entry ?\\ "\\" table)
+    (modify-syntax-entry ?_ "_" table)
+    (modify-syntax-entry ?\( "()" table)
+    (modify-syntax-entry ?\) ")(" table)
+    (modify-syntax-entry ?\{ "(}" table)
+    (modify-syntax-entry ?\} "){" table)
+    (dolist (c '(?+ ?- ?* ?/ ?^ ?= ?< ?> ?%))
+      (modify-syntax-entry c "." table))
+    table)
+  "Syntax table of `loop-mode': `#' comments, \"strings\", ( ) and { }.")
+
+(defcustom loop-indent-offset 2
+  "Indentation of the statements inside a loop { ... } body."
+  :type 'integer
+  :safe #'integerp)
+
+(defun loop-indent-line ()
+  "Indent the current line by the depth of { } and ( ) around it."
+  (interactive)
+  (let* ((depth (save-excursion
+                  (beginning-of-line)
+                  (car (syntax-ppss))))
+         (closing (save-excursion
+                    (back-to-indentation)
+                    (looking-at-p "[})]")))
+         (column (* loop-indent-offset (max 0 (- depth (if closing 1 0))))))
+    (if (<= (current-column) (current-indentation))
+        (indent-line-to column)
+      (save-excursion (indent-line-to column)))))
+
+;;;###autoload
+(define-derived-mode loop-mode prog-mode "Loop"
+  "Major mode for ringside .loop files."
+  :syntax-table loop-mode-syntax-table
+  (setq-local comment-start "# ")
+  (setq-local comment-start-skip "#+\\s-*")
+  (setq-local comment-end "")
+  (setq-local indent-line-function #'loop-indent-line)
+  (setq-local font-lock-defaults '(loop-font-lock-keywords)))
+
+;;;###autoload
+(add-to-list 'auto-mode-alist '("\\.loop\\'" . loop-mode))
+
+(with-eval-after-load 'eglot
+  (defvar eglot-server-programs)
+  (add-to-list 'eglot-server-programs '(loop-mode "ringside" "serve")))
+
+(provide 'ringside)
+;;; ringside.el ends here

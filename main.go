@@ -1,0 +1,243 @@
+// Command ringside checks .loop files of discrete-time control loops, from
+// the command line or as a language server.
+//
+//	ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] PATH...
+//	ringside fmt [-w] FILE...
+//	ringside plot FILE [--loop NAME] [-o OUT]
+//	ringside serve [--stdio] [--log-file PATH] [--log-level LEVEL]
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"ringside/analysis"
+	"ringside/analysis/report"
+	"ringside/syntax"
+)
+
+// version is the tool version printed in SARIF and by the server.
+const version = "0.1.0"
+
+const usage = `ringside: stability, margins and gain limits of discrete-time control loops in .loop files
+
+usage:
+  ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] PATH...
+  ringside fmt [-w] FILE...
+  ringside plot FILE [--loop NAME] [-o OUT.svg|OUT.png|OUT.html]
+  ringside serve [--stdio] [--log-file PATH] [--log-level debug|info|warn|error]
+
+check exits 0 when no file has errors, 1 when any has, 2 on usage errors or unreadable input.
+`
+
+// exitUsage is the exit status for bad usage or unreadable input.
+const exitUsage = 2
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
+}
+
+func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return exitUsage
+	}
+	switch args[0] {
+	case "check":
+		return runCheck(args[1:], stdout, stderr)
+	case "fmt":
+		return runFmt(args[1:], stdout, stderr)
+	case "plot":
+		return runPlot(args[1:], stdout, stderr)
+	case "serve":
+		return runServe(args[1:], stdin, stdout, stderr)
+	case "help", "-h", "--help":
+		fmt.Fprint(stdout, usage)
+		return 0
+	case "version", "--version":
+		fmt.Fprintln(stdout, "ringside", version)
+		return 0
+	}
+	fmt.Fprintf(stderr, "ringside: unknown command %q\n\n%s", args[0], usage)
+	return exitUsage
+}
+
+// parseInterleaved parses flags that may come before or after the
+// positional arguments.
+func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return pos, nil
+		}
+		pos = append(pos, args[0])
+		args = args[1:]
+	}
+}
+
+func runCheck(args []string, stdout, stderr io.Writer) int {
+	fset := flag.NewFlagSet("check", flag.ContinueOnError)
+	fset.SetOutput(stderr)
+	format := fset.String("format", "text", "output format: text, json or sarif")
+	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
+	opts := analysis.DefaultOptions()
+	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
+	fset.Float64Var(&opts.PhaseMarginDeg, "phase-margin", opts.PhaseMarginDeg, "default required phase margin in degrees")
+	fset.Float64Var(&opts.Tolerance, "tolerance", opts.Tolerance, "how close to the unit circle a pole radius counts as on it")
+	paths, err := parseInterleaved(fset, args)
+	if err != nil {
+		return exitUsage
+	}
+	if *format != "text" && *format != "json" && *format != "sarif" {
+		fmt.Fprintf(stderr, "ringside check: unknown --format %q (want text, json or sarif)\n", *format)
+		return exitUsage
+	}
+	if len(paths) == 0 {
+		fmt.Fprint(stderr, "ringside check: name at least one .loop file or folder\n")
+		return exitUsage
+	}
+	if !(opts.Tolerance > 0 && opts.Tolerance < 0.1) {
+		fmt.Fprintf(stderr, "ringside check: --tolerance %g must be between 0 and 0.1\n", opts.Tolerance)
+		return exitUsage
+	}
+	cwd, _ := os.Getwd()
+	rootDir := cwd
+	if *root != "" {
+		rootDir, _ = filepath.Abs(*root)
+	}
+	files, err := collect(paths)
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside check: %v\n", err)
+		return exitUsage
+	}
+	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
+	var results []*analysis.Result
+	for _, f := range files {
+		abs, _ := filepath.Abs(f)
+		src, err := os.ReadFile(abs)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
+			return exitUsage
+		}
+		results = append(results, analysis.Check(context.Background(), abs, src, env))
+	}
+	display := func(p string) string {
+		if rel, err := filepath.Rel(cwd, p); err == nil && !strings.HasPrefix(rel, "..") {
+			return filepath.ToSlash(rel)
+		}
+		return p
+	}
+	switch *format {
+	case "json":
+		writeJSON(stdout, report.Build(results, display))
+	case "sarif":
+		writeJSON(stdout, report.SARIF(results, display, version))
+	default:
+		report.Text(stdout, results, display)
+	}
+	for _, r := range results {
+		if r.HasErrors() {
+			return 1
+		}
+	}
+	return 0
+}
+
+func writeJSON(w io.Writer, v any) {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	enc.SetEscapeHTML(false)
+	_ = enc.Encode(v)
+}
+
+// collect expands folders into the .loop files inside them, sorted.
+func collect(paths []string) ([]string, error) {
+	var out []string
+	for _, p := range paths {
+		info, err := os.Stat(p)
+		if err != nil {
+			return nil, fmt.Errorf("cannot read %s: %v", p, errors.Unwrap(err))
+		}
+		if !info.IsDir() {
+			out = append(out, p)
+			continue
+		}
+		var found []string
+		err = filepath.WalkDir(p, func(path string, d fs.DirEntry, err error) error {
+			if err != nil {
+				return err
+			}
+			if d.IsDir() && path != p && strings.HasPrefix(d.Name(), ".") {
+				return filepath.SkipDir
+			}
+			if !d.IsDir() && strings.HasSuffix(path, ".loop") {
+				found = append(found, path)
+			}
+			return nil
+		})
+		if err != nil {
+			return nil, fmt.Errorf("cannot read folder %s: %v", p, err)
+		}
+		if len(found) == 0 {
+			return nil, fmt.Errorf("no .loop files in %s", p)
+		}
+		sort.Strings(found)
+		out = append(out, found...)
+	}
+	return out, nil
+}
+
+func runFmt(args []string, stdout, stderr io.Writer) int {
+	fset := flag.NewFlagSet("fmt", flag.ContinueOnError)
+	fset.SetOutput(stderr)
+	write := fset.Bool("w", false, "write the result back to each file instead of printing it")
+	files, err := parseInterleaved(fset, args)
+	if err != nil {
+		return exitUsage
+	}
+	if len(files) == 0 {
+		fmt.Fprint(stderr, "ringside fmt: name at least one .loop file\n")
+		return exitUsage
+	}
+	status := 0
+	for _, f := range files {
+		src, err := os.ReadFile(f)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, errors.Unwrap(err))
+			return exitUsage
+		}
+		out, err := syntax.Format(src)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: %s: not formatted, fix its syntax first: %v\n", f, err)
+			status = 1
+			continue
+		}
+		if !*write {
+			stdout.Write(out)
+			continue
+		}
+		if bytes.Equal(out, src) {
+			continue
+		}
+		info, _ := os.Stat(f)
+		if err := os.WriteFile(f, out, info.Mode().Perm()); err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: cannot write %s: %v\n", f, err)
+			status = 1
+		}
+	}
+	return status
+}

@@ -1,0 +1,2 @@
+package x
+import _ "go.lsp.dev/protocol"

@@ -1,0 +1,142 @@
+package syntax
+
+import (
+	"fmt"
+	"sort"
+	"unicode/utf8"
+)
+
+// Pos is a byte offset into a file's source, starting at 0. Nodes store only
+// offsets; lines and columns are computed on demand from a Lines table.
+type Pos int
+
+// NoPos marks a missing position.
+const NoPos Pos = -1
+
+// Span is the half-open byte range [From, To).
+type Span struct {
+	From, To Pos
+}
+
+// Contains reports whether p lies inside s (To inclusive, so a cursor just
+// after the last character of a name still counts as on it).
+func (s Span) Contains(p Pos) bool { return s.From <= p && p <= s.To }
+
+// Lines maps byte offsets to line/column pairs. A line ends at '\n'; a '\r'
+// before it belongs to no column a client can address.
+type Lines struct {
+	src    []byte
+	starts []int // byte offset of the first byte of each line
+}
+
+// NewLines indexes src.
+func NewLines(src []byte) *Lines {
+	starts := []int{0}
+	for i, b := range src {
+		if b == '\n' {
+			starts = append(starts, i+1)
+		}
+	}
+	return &Lines{src: src, starts: starts}
+}
+
+// Count is the number of lines (a file always has at least one).
+func (l *Lines) Count() int { return len(l.starts) }
+
+// line returns the 0-based line holding offset p (clamped into the file).
+func (l *Lines) line(p Pos) int {
+	off := l.clamp(p)
+	return sort.Search(len(l.starts), func(i int) bool { return l.starts[i] > off }) - 1
+}
+
+func (l *Lines) clamp(p Pos) int {
+	switch {
+	case p < 0:
+		return 0
+	case int(p) > len(l.src):
+		return len(l.src)
+	}
+	return int(p)
+}
+
+// LineCol converts an offset to a 1-based line and a 1-based column counted
+// in Unicode code points, the unit the command line reports. A stray byte
+// that is not valid UTF-8 counts as one column.
+func (l *Lines) LineCol(p Pos) (line, col int) {
+	ln := l.line(p)
+	off := min(l.clamp(p), int(l.LineEnd(ln))) // a "\r" before "\n" has no column
+	return ln + 1, utf8.RuneCount(l.src[l.starts[ln]:off]) + 1
+}
+
+// UTF16 converts an offset to a 0-based line and a 0-based column counted in
+// UTF-16 code units, the LSP's default position encoding.
+func (l *Lines) UTF16(p Pos) (line, col int) {
+	ln := l.line(p)
+	off := min(l.clamp(p), int(l.LineEnd(ln)))
+	return ln, utf16Len(l.src[l.starts[ln]:off])
+}
+
+// LineEnd is the offset of the end of 0-based line ln, before its "\n" or
+// "\r\n".
+func (l *Lines) LineEnd(ln int) Pos {
+	end := len(l.src)
+	if ln+1 < len(l.starts) {
+		end = l.starts[ln+1] - 1
+		if end > l.starts[ln] && l.src[end-1] == '\r' {
+			end--
+		}
+	}
+	return Pos(end)
+}
+
+// LineStart is the offset of the first byte of 0-based line ln.
+func (l *Lines) LineStart(ln int) Pos { return Pos(l.starts[ln]) }
+
+// OffsetUTF16 converts a 0-based line and UTF-16 column back to an offset.
+// A column past the end of the line is an error naming the valid range, as
+// is a line past the end of the file, or a column inside a surrogate pair.
+func (l *Lines) OffsetUTF16(line, col int) (Pos, error) {
+	if line < 0 || line >= len(l.starts) {
+		return NoPos, fmt.Errorf("invalid line %d (want 0-%d)", line, len(l.starts)-1)
+	}
+	if col < 0 {
+		return NoPos, fmt.Errorf("invalid column %d on line %d", col, line)
+	}
+	start, end := l.starts[line], int(l.LineEnd(line))
+	units := 0
+	for off := start; off < end; {
+		if units == col {
+			return Pos(off), nil
+		}
+		r, size := utf8.DecodeRune(l.src[off:end])
+		n := 1
+		if r >= 0x10000 {
+			n = 2
+		}
+		if units+n > col {
+			return NoPos, fmt.Errorf("column %d on line %d falls inside a character", col, line)
+		}
+		units += n
+		off += size
+	}
+	if units == col {
+		return Pos(end), nil
+	}
+	return NoPos, fmt.Errorf("invalid column %d on line %d (want 0-%d)", col, line, units)
+}
+
+// utf16Len counts the UTF-16 code units of b; an invalid byte counts as one
+// unit (it decodes to U+FFFD).
+func utf16Len(b []byte) int {
+	n := 0
+	for len(b) > 0 {
+		r, size := utf8.DecodeRune(b)
+		if r >= 0x10000 {
+			n += 2
+		} else {
+			n++
+		}
+		b = b[size:]
+	}
+	return n
+}
