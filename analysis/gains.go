@@ -23,6 +23,9 @@ const AffineTolerance = 1e-9
 type pendingFix struct {
 	diag int
 	loop *Loop
+	// stability: the diagnostic is about stability, so capping the gain at
+	// its stability limit fixes it; margin diagnostics need the margin value.
+	stability bool
 }
 
 // loopAt evaluates a loop's characteristic polynomial and open loop with
@@ -164,27 +167,107 @@ func (c *checker) interval(name string, k0 float64, loops []*Loop) (gainlimit.In
 	}, k0)
 }
 
-// meets reports whether every loop is stable with gain name = k and keeps
-// its required gain margin.
-func (c *checker) meets(name string, k float64, loops []*Loop) bool {
+// excess is the smallest amount, in dB, by which the loops using gain name
+// exceed their required gain margin with the gain set to k (+Inf when no
+// loop has a phase crossing), and NaN when some loop is unstable there.
+func (c *checker) excess(name string, k float64, loops []*Loop) float64 {
+	worst := math.Inf(1)
 	for _, l := range loops {
 		char, open, ok := c.loopAt(l, name, k)
 		if !ok {
-			return false
+			return math.NaN()
 		}
 		st, err := gainlimit.SchurStable(char)
 		if err != nil || !st {
-			return false
+			return math.NaN()
 		}
 		m, err := freq.Compute(open, c.res.SampleT)
 		if err != nil {
-			return false
+			return math.NaN()
 		}
-		if m.GainMarginDB != nil && *m.GainMarginDB < c.requiredGM(l) {
-			return false
+		if m.GainMarginDB != nil {
+			worst = math.Min(worst, *m.GainMarginDB-c.requiredGM(l))
 		}
 	}
-	return true
+	return worst
+}
+
+// meets reports whether every loop is stable with gain name = k and keeps
+// its required gain margin.
+func (c *checker) meets(name string, k float64, loops []*Loop) bool {
+	return c.excess(name, k, loops) >= 0
+}
+
+// SafeMaxTolerance is the relative width at which the search for the
+// largest safe gain stops. The value offered to the user is then rounded
+// down to three significant figures, so 1e-4 loses nothing and keeps the
+// search to a dozen margin computations.
+const SafeMaxTolerance = 1e-4
+
+// largestMeeting finds the switch point in [lo, hi] (f ≥ 0 at lo, not at
+// hi; f is NaN where a loop is unstable) to SafeMaxTolerance and returns
+// the last value known to pass. Where f is defined at both ends it steps by
+// the Illinois variant of regula falsi (the margin in dB is smooth in the
+// gain, so this takes a handful of steps); otherwise it bisects.
+func largestMeeting(f func(float64) float64, lo, hi float64) float64 {
+	flo, fhi := f(lo), math.NaN()
+	side := 0
+	for i := 0; i < 100 && hi-lo > SafeMaxTolerance*math.Max(math.Abs(lo), math.Abs(hi)); i++ {
+		mid := lo + (hi-lo)/2
+		if !math.IsNaN(fhi) && !math.IsInf(flo, 0) && flo > fhi {
+			mid = lo + (hi-lo)*flo/(flo-fhi)
+			// Stay clear of the ends so the bracket always shrinks.
+			w := hi - lo
+			mid = math.Min(math.Max(mid, lo+0.01*w), hi-0.01*w)
+		}
+		fm := f(mid)
+		if fm >= 0 {
+			lo, flo = mid, fm
+			if side == 1 {
+				fhi /= 2
+			}
+			side = 1
+		} else {
+			hi, fhi = mid, fm
+			if side == -1 {
+				flo /= 2
+			}
+			side = -1
+		}
+	}
+	return lo
+}
+
+// scalingGuess returns, for a gain that only scales L (L(k) = (k/k0)·L(k0)
+// in every loop: a proportional gain or a gain block on the path), the
+// value at which the gain margin equals its requirement: the phase
+// crossings do not move, so GM(k) = GM(k0) − 20·log10(k/k0). It is a guess
+// that the caller verifies.
+func (c *checker) scalingGuess(name string, k0 float64, loops []*Loop) (float64, bool) {
+	if k0 == 0 {
+		return 0, false
+	}
+	guess := math.Inf(1)
+	for _, l := range loops {
+		_, o1, ok1 := c.loopAt(l, name, k0)
+		_, o2, ok2 := c.loopAt(l, name, 2*k0)
+		if !ok1 || !ok2 || !o1.Den.Equal(o2.Den, 1e-12*maxAbs(o1.Den)) || !o1.Num.Scale(2).Equal(o2.Num, 1e-12*maxAbs(o2.Num)) {
+			return 0, false
+		}
+		if l.Margins.GainMarginDB == nil {
+			continue
+		}
+		guess = math.Min(guess, k0*math.Pow(10, (*l.Margins.GainMarginDB-c.requiredGM(l))/20))
+	}
+	return guess, !math.IsInf(guess, 1)
+}
+
+func maxAbs(p poly.Poly) float64 {
+	m := 0.0
+	for _, v := range p {
+		m = math.Max(m, math.Abs(v))
+	}
+	return m
 }
 
 // safeMax finds the largest value keeping stability and the required gain
@@ -192,6 +275,15 @@ func (c *checker) meets(name string, k float64, loops []*Loop) bool {
 func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
 	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
+	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
+	if guess, found := c.scalingGuess(g.Name, k0, loops); found && k0 > 0 && guess > 0 {
+		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
+		if ok(lo) && !ok(hi) {
+			v := largestMeeting(f, lo, hi)
+			lim.SafeMax = &v
+			return
+		}
+	}
 	if ok(k0) {
 		hi := 0.0
 		if lim.StableMax != nil {
@@ -213,10 +305,8 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 				return
 			}
 		}
-		v, good := gainlimit.LargestMeeting(ok, k0, hi)
-		if good {
-			lim.SafeMax = &v
-		}
+		v := largestMeeting(f, k0, hi)
+		lim.SafeMax = &v
 		return
 	}
 	// The current value fails: look below it, inside the stable interval
@@ -246,9 +336,8 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 			continue
 		}
 		if ok(lo) {
-			if v, good := gainlimit.LargestMeeting(ok, lo, top); good {
-				lim.SafeMax = &v
-			}
+			v := largestMeeting(f, lo, top)
+			lim.SafeMax = &v
 			return
 		}
 	}
@@ -278,7 +367,7 @@ func (c *checker) attachFixes() {
 			if f, ok := setGainFix(g, c.requiredGM(p.loop)); ok {
 				x.Fixes = append(x.Fixes, f)
 			}
-			if f, ok := capGainFix(g); ok {
+			if f, ok := capGainFix(g); ok && p.stability {
 				x.Fixes = append(x.Fixes, f)
 			}
 			lim := g.Limits

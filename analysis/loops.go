@@ -375,7 +375,7 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 		x.Related = append(x.Related, Related{Path: e.decl.Path, Span: e.decl.Ident.Span,
 			Message: fmt.Sprintf("block %s has the nearest open-loop pole, z = %s", e.name, fmtComplex(bestZ))})
 	}
-	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l})
+	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l, stability: true})
 }
 
 // poleValues returns the poles of tf (the block's own when analysed).

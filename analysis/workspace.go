@@ -73,6 +73,7 @@ type unit struct {
 	tOK   bool
 	t     float64
 	tSpan syntax.Span
+	cycle bool // some use chain from here leads back into itself
 }
 
 // loader reads the closure of `use` lines from one file, each file once.
@@ -110,6 +111,7 @@ func (l *loader) load(path string, src []byte, stack []string) *unit {
 				l.diags.add(path, us.PathSpan, Error, CodeUseCycle,
 					fmt.Sprintf("use %q leads back to %s: files may not use each other in a circle; move the shared gains and blocks into a third file", us.Path, filepath.Base(target)))
 				target = ""
+				u.cycle = true
 				break
 			}
 		}
@@ -127,6 +129,11 @@ func (l *loader) load(path string, src []byte, stack []string) *unit {
 				continue
 			}
 			sub := l.load(target, data, stack)
+			if sub.cycle && !u.cycle {
+				u.cycle = true
+				l.diags.add(path, us.PathSpan, Error, CodeUseCycle,
+					fmt.Sprintf("use %q: that file's own use lines lead back in a circle; files may not use each other in a circle", us.Path))
+			}
 			if len(sub.errs) > 0 {
 				e := sub.errs[0]
 				line, col := sub.file.Lines.LineCol(e.From)

@@ -37,8 +37,8 @@ func TestExpressionTrees(t *testing.T) {
 		{"a / b c", "(j* (/ a b) c)"},
 		{"a + b * c", "(+ a (* b c))"},
 		{"a - b - c", "(- (- a b) c)"},
-		{"2e", "(j* 2 e)"},     // exponent needs digits
-		{"2e+", "BAD"},         // "2", "e", "+", then nothing: checked below for the error
+		{"2e", "(j* 2 e)"}, // exponent needs digits
+		{"2e+", "BAD"},     // "2", "e", "+", then nothing: checked below for the error
 		{"1.5e-3s", "(j* 1.5e-3 $s)"},
 		{"2E+4", "2E+4"},
 		{".5z", "(j* .5 $z)"},

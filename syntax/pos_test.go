@@ -18,7 +18,7 @@ func errAt(t *testing.T, src string) (f *File, e *Error) {
 
 func TestColumnsAfterNonASCII(t *testing.T) {
 	for _, c := range []struct {
-		src                 string
+		src                  string
 		line, col, u16, u16l int
 	}{
 		// Comment with µs, ° and an emoji on the line before.

@@ -82,11 +82,10 @@ func Walk(n Node, f func(Node) bool) {
 }
 
 // NodeAt returns the path of nodes containing p, from the top-level
-// statement down to the innermost node (Span.Contains: a position just after
-// a node's last byte still counts, which is where an editor's cursor sits
-// after typing a name). When two siblings touch at p, the later one wins
-// ("kp|+" is on '+'... its Binary, "a b|" is on b). The result is nil when p
-// lies in no statement.
+// statement down to the innermost node. Containment is Span.Contains, so a
+// cursor just after a name is still on it; where two siblings touch at p
+// (the end of one is the start of the next) the later one wins. The result
+// is nil when p lies in no statement.
 func (f *File) NodeAt(p Pos) []Node {
 	var path []Node
 	kids := Children(f)

@@ -310,6 +310,21 @@ func holdEquivalent(num, den poly.Poly, T float64, foh bool) (poly.Rational, err
 	return poly.R(numz, dz), nil
 }
 
+// monic divides num and den by den's leading coefficient, which becomes
+// exactly 1.
+func monic(num, den poly.Poly) poly.Rational {
+	l := den.Lead()
+	n := make(poly.Poly, len(num))
+	d := make(poly.Poly, len(den))
+	for i, v := range num {
+		n[i] = v / l
+	}
+	for i, v := range den {
+		d[i] = v / l
+	}
+	return poly.R(n, d)
+}
+
 // mappedDenominator returns ∏(z − e^{p T}) over the roots p of den.
 func mappedDenominator(den poly.Poly, T float64) (poly.Poly, error) {
 	res, err := roots.Find(den)
@@ -359,8 +374,7 @@ func tustin(num, den poly.Poly, T, prewarpHz float64) (poly.Rational, error) {
 	if dz.Degree() < n || dz.Lead() == 0 {
 		return poly.Rational{}, fmt.Errorf("discretize: a pole at s = %g maps to z = ∞ under Tustin", k)
 	}
-	lead := dz.Lead()
-	return poly.R(nz.Scale(1/lead), dz.Scale(1/lead)), nil
+	return monic(nz, dz), nil
 }
 
 // matched maps poles and finite zeros by z = e^{sT}. Of the r = n − m zeros
@@ -388,6 +402,7 @@ func matched(num, den poly.Poly, T float64) (poly.Rational, error) {
 	m := len(num) - 1
 	zmapped := mapRoots(zr.Roots, T)
 	r := n - m
+
 	for i := 0; i < r-1; i++ {
 		zmapped = append(zmapped, -1)
 	}
@@ -405,12 +420,14 @@ func matched(num, den poly.Poly, T float64) (poly.Rational, error) {
 			continue
 		}
 		gc *= -q
-	}
-	for i, zq := range zmapped {
-		if i < len(zr.Roots) && zr.Roots[i] == 0 {
-			continue
+		f, err := oneMinusExp(q, T)
+		if err != nil {
+			return poly.Rational{}, err
 		}
-		gd *= 1 - zq
+		gd *= f
+	}
+	for range max(r-1, 0) {
+		gd *= 2 // zeros at z = −1
 	}
 	for _, p := range pr.Roots {
 		if p == 0 {
@@ -418,17 +435,41 @@ func matched(num, den poly.Poly, T float64) (poly.Rational, error) {
 			continue
 		}
 		gc /= -p
-	}
-	for i, zp := range mapRoots(pr.Roots, T) {
-		if pr.Roots[i] == 0 {
-			continue
+		f, err := oneMinusExp(p, T)
+		if err != nil {
+			return poly.Rational{}, err
 		}
-		gd /= 1 - zp
+		gd /= f
 	}
 	gd /= complex(math.Pow(T, float64(k)), 0)
-	if gd == 0 || cmplx.IsInf(gd) || cmplx.IsNaN(gd) || cmplx.IsInf(gc) {
-		return poly.Rational{}, errors.New("discretize: matched gain undefined: a pole or zero maps onto z = 1 (it lies at a multiple of the sampling frequency)")
+	if gd == 0 || cmplx.IsInf(gd) || cmplx.IsNaN(gd) || cmplx.IsInf(gc) || gc == 0 {
+		return poly.Rational{}, errors.New("discretize: matched gain does not fit in float64")
 	}
 	g := real(gc / gd)
 	return poly.R(nz.Scale(g), dz), nil
+}
+
+// aliasTol bounds |1 − e^{pT}| / |pT| from below for a nonzero pole or
+// zero p in the matched method. For p near the origin the ratio is about 1;
+// it falls below 1e-8 only when e^{pT} lands within that of z = 1, i.e. p
+// sits at (or within 1e-8·|p| of) a nonzero multiple of the sampling
+// frequency 2πi/T, where the gain matching would divide by noise.
+const aliasTol = 1e-8
+
+// oneMinusExp returns 1 − e^{pT} accurately (expm1, and
+// cos y − 1 = −2 sin²(y/2)), or an error when p aliases onto z = 1.
+func oneMinusExp(p complex128, T float64) (complex128, error) {
+	x, y := real(p)*T, imag(p)*T
+	var v complex128
+	if y == 0 {
+		v = complex(-math.Expm1(x), 0)
+	} else {
+		sh := math.Sin(y / 2)
+		re := math.Expm1(x)*math.Cos(y) - 2*sh*sh
+		v = complex(-re, -math.Exp(x)*math.Sin(y))
+	}
+	if cmplx.Abs(v) < aliasTol*cmplx.Abs(p*complex(T, 0)) {
+		return 0, fmt.Errorf("discretize: matched: the pole or zero %v maps onto z = 1 (it lies at a multiple of the sampling frequency 2π/T)", p)
+	}
+	return v, nil
 }

@@ -16,20 +16,22 @@ import (
 
 // Tolerances of the scipy cross-check. Both sides locate crossings to
 // ~1e-12 rad (bisection here, brentq there), so agreement is limited by the
-// conditioning of each crossing, not by the methods:
+// conditioning of each crossing, not by the methods. The worst deviations
+// seen over the 240 reference loops were 1.4e-10 relative in Hz, 3e-11 dB
+// and 5e-10 deg (logged by the test); the tolerances leave a factor ~100 for
+// other platforms' libm and LAPACK.
 const (
 	// xHzRel: crossing frequencies, relative (plus xHzAbs·Nyquist absolute
 	// for crossings near 0 Hz).
-	xHzRel = 1e-7
+	xHzRel = 1e-8
 	xHzAbs = 1e-9
-	// xDB: gain margins and peak sensitivity, dB. 1e-6 dB is a relative
-	// 1e-7 in |L|.
-	xDB = 1e-6
+	// xDB: gain margins and peak sensitivity, dB (1e-8 dB ≈ 1e-9 in |L|).
+	xDB = 1e-8
 	// xDeg: phase margins, degrees.
-	xDeg = 1e-6
+	xDeg = 1e-8
 	// xRadius: largest closed-loop pole radius, numpy.roots against gonum
-	// companion eigenvalues (both LAPACK-style QR; multiple roots would be
-	// worse, random roots are simple).
+	// companion eigenvalues (both QR iterations; random roots are simple,
+	// multiple roots would be far worse).
 	xRadius = 1e-8
 )
 
@@ -104,6 +106,7 @@ func TestCrossCheckScipy(t *testing.T) {
 		t.Fatal(err)
 	}
 	var compared, crossings, stable int
+	var worstHz, worstDB, worstDeg float64 // largest deviations seen, for the log
 	for i, r := range ref.Loops {
 		L := poly.R(poly.New(r.Num...), poly.New(r.Den...))
 		m, err := Compute(L, r.T)
@@ -144,6 +147,8 @@ func TestCrossCheckScipy(t *testing.T) {
 			} else {
 				for j, c := range m.PhaseCrossings {
 					w := r.PhaseCrossings[j]
+					worstHz = math.Max(worstHz, math.Abs(c.Hz-w[0])/math.Max(w[0], ny*1e-3))
+					worstDB = math.Max(worstDB, math.Abs(c.Value-w[1]))
 					if !hzOK(c.Hz, w[0]) || math.Abs(c.Value-w[1]) > xDB {
 						t.Errorf("%s: phase crossing %d %+v, scipy %v", where(), j, c, w)
 					}
@@ -158,6 +163,8 @@ func TestCrossCheckScipy(t *testing.T) {
 			} else {
 				for j, c := range m.GainCrossings {
 					w := r.GainCrossings[j]
+					worstHz = math.Max(worstHz, math.Abs(c.Hz-w[0])/math.Max(w[0], ny*1e-3))
+					worstDeg = math.Max(worstDeg, math.Abs(c.Value-w[1]))
 					if !hzOK(c.Hz, w[0]) || math.Abs(c.Value-w[1]) > xDeg {
 						t.Errorf("%s: gain crossing %d %+v, scipy %v", where(), j, c, w)
 					}
@@ -168,15 +175,23 @@ func TestCrossCheckScipy(t *testing.T) {
 				cmpOpt(t, where, "delay margin s", m.DelayMarginS, r.DMS, xHzRel, 1e-12)
 			}
 		}
+		if !r.AmbPeak && m.PeakSensitivityDB != nil {
+			worstDB = math.Max(worstDB, math.Abs(*m.PeakSensitivityDB-r.PeakSDB))
+		}
 		if !r.AmbPeak {
 			cmpOpt(t, where, "peak S dB", m.PeakSensitivityDB, &r.PeakSDB, xDB, 0)
 		}
 		compared++
 	}
-	if compared < 200 || crossings < 300 || stable < 50 {
+	minLoops := 200
+	if testing.Short() {
+		minLoops = 50
+	}
+	if compared < minLoops || crossings < compared || stable < compared/5 {
 		t.Errorf("weak reference set: %d loops, %d crossings, %d stable", compared, crossings, stable)
 	}
-	t.Logf("compared %d loops (%d stable), %d crossings", compared, stable, crossings)
+	t.Logf("compared %d loops (%d stable), %d crossings; worst deviation: %.2g relative Hz, %.2g dB, %.2g deg",
+		compared, stable, crossings, worstHz, worstDB, worstDeg)
 }
 
 func cmpOpt(t *testing.T, where func() string, what string, got, want *float64, rel, abs float64) {

@@ -20,16 +20,21 @@
 // perturbation η into m roots on a circle of radius about
 // (η·Σ|c_i||z|^i / |p^(m)(z)/m!|)^(1/m) (first-order perturbation of a
 // multiple root), so a group is accepted as one cluster when all its members
-// lie within ClusterSafety times that radius of their mean. The mean of a
+// lie within clusterSafety times that radius of their mean. The mean of a
 // cluster is far more accurate than any member: the error terms of order
 // η^(1/m) cancel in the sum, leaving an error of order η times the
 // cluster's condition.
 //
-// Accuracy reached (measured by the tests): BackwardError is below 1e-14
-// for well-scaled polynomials up to degree 40, including repeated roots and
-// coefficient scales from 1e-150 to 1e150; simple well-conditioned roots are
-// accurate to a few ulps; cluster means of (z−0.9)^4, (z+1)^3 and a repeated
-// complex pair agree with the exact root to 1e-12 or better.
+// Accuracy reached (measured by the tests): BackwardError ≤ 1e-14 for
+// the repeated-root cases ((z−0.9)^4, (z−0.9)^8, (z−1)^2, (z+1)^3, repeated
+// complex pairs) and for coefficient scales from 1e-300 to 1e300; 1.4e-14
+// for the degree-20 Wilkinson polynomial, whose roots are then within 16·eps
+// times their condition number of the integers; ≤ 3.5e-13 over 220 random
+// polynomials of degree ≤ 20 cross-checked with numpy.roots; ≤ 4e-11 for
+// random degree-40 polynomials (the companion eigenvalues alone give about
+// 1e-8 there; polishing brings every residual to rounding level). Cluster
+// means agree with the exact multiple root to 1e-12 or better, while the
+// members are off by eps^(1/m).
 package roots
 
 import (
@@ -53,17 +58,17 @@ const MaxDegree = 64
 // eps is the unit roundoff of float64.
 const eps = 0x1p-52
 
-// PolishIterations bounds the Newton steps taken per simple root. Starting
+// polishIterations bounds the Newton steps taken per simple root. Starting
 // from a backward-stable eigenvalue, Newton converges quadratically, so two
 // or three steps reach the attainable accuracy; the rest guards slow cases.
-const PolishIterations = 6
+const polishIterations = 6
 
-// ClusterSafety multiplies the perturbation radius of a multiple root when
+// clusterSafety multiplies the perturbation radius of a multiple root when
 // deciding whether a group of roots is one cluster. The radius formula is a
 // first-order estimate; a factor of a few absorbs its constant without
 // merging roots that are resolved (a factor of 10 would merge the roots 15
 // and 16 of the degree-20 Wilkinson polynomial, which are distinct).
-const ClusterSafety = 4
+const clusterSafety = 4
 
 // clusterEtaFactor scales eps to the relative coefficient perturbation
 // assumed for the clustering test: the companion eigenvalue solver has a
@@ -324,11 +329,11 @@ func evalAbs(p poly.Poly, z complex128) (complex128, float64) {
 	return v, s
 }
 
-// PolishNoise sets the noise floor of polishing: once |p(z)| is below
-// PolishNoise·eps·Σ|c_i||z|^i, the residual is rounding error and a Newton
+// polishNoise sets the noise floor of polishing: once |p(z)| is below
+// polishNoise·eps·Σ|c_i||z|^i, the residual is rounding error and a Newton
 // step would move the root at random (as it would for the middle roots of
 // the Wilkinson polynomial).
-const PolishNoise = 4
+const polishNoise = 4
 
 // polish refines a simple root by Newton's method on p, taking a step only
 // while the residual is above its rounding-error floor and keeping it only
@@ -338,8 +343,8 @@ func polish(p poly.Poly, z complex128, complexRoot bool) complex128 {
 	best := z
 	v, s := evalAbs(p, z)
 	bestRes := cmplx.Abs(v)
-	for range PolishIterations {
-		if bestRes <= PolishNoise*eps*s {
+	for range polishIterations {
+		if bestRes <= polishNoise*eps*s {
 			break
 		}
 		d := dp.EvalC(best)
@@ -397,10 +402,10 @@ func clusterRadius(p poly.Poly, c complex128, m int, eta float64) float64 {
 	if am == 0 {
 		return math.Inf(1)
 	}
-	return ClusterSafety * math.Pow(eta*s/am, 1/float64(m))
+	return clusterSafety * math.Pow(eta*s/am, 1/float64(m))
 }
 
-// ClusterTol is the relative, coefficient-by-coefficient change of p
+// clusterTol is the relative, coefficient-by-coefficient change of p
 // within which a group of m roots counts as one m-fold root. It is a small
 // multiple of eps, not of n·eps: the degree-20 Wilkinson polynomial
 // ∏(z−j), j = 1…20, is only about 18 eps away from one with a double root
@@ -408,7 +413,7 @@ func clusterRadius(p poly.Poly, c complex128, m int, eta float64) float64 {
 // the true clusters measured in the tests, built by multiplying rounded
 // factors, lie within 10.3 eps. The margin is thin by nature: beyond it a
 // cluster is reported as separate simple roots, each still backward stable.
-const ClusterTol = 12 * eps
+const clusterTol = 12 * eps
 
 // multipleDistance bounds from above the smallest relative perturbation
 // max_i |δ_i|/|p_i| (real δ, zero coefficients kept zero) that makes c an
@@ -523,7 +528,7 @@ func cluster(p poly.Poly, items []item, eta float64) []group {
 			c = complex(real(c), 0)
 		}
 		spread := spreadOf(zs, c)
-		if spread <= clusterRadius(p, c, len(zs), eta) && multipleDistance(p, refineMultiple(p, c, len(zs), self, spread), len(zs), ClusterTol) <= ClusterTol {
+		if spread <= clusterRadius(p, c, len(zs), eta) && multipleDistance(p, refineMultiple(p, c, len(zs), self, spread), len(zs), clusterTol) <= clusterTol {
 			cands = append(cands, cand{group{members: members, self: self, n: len(zs)}, spread})
 		}
 	}
@@ -633,7 +638,7 @@ func spreadOf(zs []complex128, c complex128) float64 {
 
 // refineMultiple polishes the mean c of an m-fold cluster (in w units; the
 // members have not been polished, so they are still in w units too).
-func refineMultiple(w poly.Poly, c complex128, m int, real_ bool, spread float64) complex128 {
+func refineMultiple(w poly.Poly, c complex128, m int, realOnly bool, spread float64) complex128 {
 	d := w
 	for range m - 1 {
 		d = d.Deriv()
@@ -641,13 +646,13 @@ func refineMultiple(w poly.Poly, c complex128, m int, real_ bool, spread float64
 	dd := d.Deriv()
 	best := c
 	bestRes := cmplx.Abs(d.EvalC(c))
-	for range PolishIterations {
+	for range polishIterations {
 		den := dd.EvalC(best)
 		if den == 0 || bestRes == 0 {
 			break
 		}
 		next := best - d.EvalC(best)/den
-		if real_ {
+		if realOnly {
 			next = complex(real(next), 0)
 		}
 		r := cmplx.Abs(d.EvalC(next))

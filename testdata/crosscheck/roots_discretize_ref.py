@@ -42,7 +42,7 @@ def random_roots(rng, degree, repeated):
             if repeated and rng.random() < 0.5:
                 mult = int(min(left, rng.integers(2, 5)))
             roots += [x] * mult
-    return roots[:degree] if len(roots) == degree else roots[: degree - 1] + [np.real(roots[degree - 1])]
+    return roots  # pairs only when two places are left, so len == degree
 
 
 def poly_low_first(roots, lead):

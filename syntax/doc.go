@@ -1,0 +1,36 @@
+// Package syntax reads .loop files: it lexes, parses into the tree of
+// ast.go, maps byte offsets to lines and columns (pos.go), and prints the
+// canonical layout (format.go). It imports only the standard library and
+// knows nothing of analysis or the editor protocol.
+//
+// # Contract
+//
+// Parse never fails: it returns a tree for every input, with BadStmt,
+// BadItem and BadExpr where text could not be read, and an ErrorList in
+// source order whose entries carry the exact span of the offending token
+// (an empty span at the end of the line when something is missing there).
+// The parser checks shape only; which methods, metrics, sign values and
+// units exist is for analysis to say.
+//
+// # Choices where the format page is silent
+//
+//   - A leading byte order mark is skipped. Space, tab and '\r' are blanks;
+//     only '\n' ends a line, so CRLF files read like LF files.
+//   - Inside '(' ... ')' line breaks are blanks, except that a line starting
+//     with a statement keyword (sample, use, gain, block, loop) or with '}'
+//     closes the statement, so a missing ')' costs one error.
+//   - Keywords are context words: via, prewarp, min, max and the statement
+//     and item keywords are ordinary names elsewhere. The only reserved
+//     names are s and z, which no gain, block or loop may be called. In an
+//     expression via ends the expression instead of multiplying.
+//   - Any number may carry a minus (sample, prewarp, min, max, require);
+//     analysis rejects what makes no sense.
+//   - A unit is any name, "µs" (U+00B5 or U+03BC), "%", or two names joined
+//     by '/' ("rad/s"). A number alone where a unit belongs is read with
+//     Unit "" (analysis reports it).
+//   - Exponents are written in digits (z^2, z^-1, z^(-1)); '^' does not
+//     chain. See MaxExponent and MaxExprDepth for the limits.
+//   - Strings have no escapes and end at the line's end.
+//   - A loop body runs to its '}'; a line starting a top-level statement, or
+//     the end of the file, ends a loop whose '}' is missing.
+package syntax
