@@ -22,7 +22,9 @@ import (
 	"strings"
 
 	"ringside/analysis"
+	"ringside/analysis/plot"
 	"ringside/analysis/report"
+	"ringside/server"
 	"ringside/syntax"
 )
 
@@ -240,4 +242,87 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 	return status
+}
+
+func runPlot(args []string, stdout, stderr io.Writer) int {
+	fset := flag.NewFlagSet("plot", flag.ContinueOnError)
+	fset.SetOutput(stderr)
+	loopName := fset.String("loop", "", "plot only this loop (default: every loop of the file)")
+	out := fset.String("o", "", "output file: .svg (default), .png, or .html for one page with every loop")
+	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
+	files, err := parseInterleaved(fset, args)
+	if err != nil {
+		return exitUsage
+	}
+	if len(files) != 1 {
+		fmt.Fprint(stderr, "ringside plot: name exactly one .loop file\n")
+		return exitUsage
+	}
+	abs, _ := filepath.Abs(files[0])
+	src, err := os.ReadFile(abs)
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], errors.Unwrap(err))
+		return exitUsage
+	}
+	rootDir, _ := os.Getwd()
+	if *root != "" {
+		rootDir, _ = filepath.Abs(*root)
+	}
+	res := analysis.Check(context.Background(), abs, src, analysis.Env{Roots: []string{rootDir}, Options: analysis.DefaultOptions()})
+	ext := strings.ToLower(filepath.Ext(*out))
+	if *out == "" {
+		ext = ".svg"
+	}
+	var loops []*analysis.Loop
+	for _, l := range res.Loops {
+		if *loopName == "" || l.Name == *loopName {
+			loops = append(loops, l)
+		}
+	}
+	if len(loops) == 0 {
+		if *loopName != "" {
+			fmt.Fprintf(stderr, "ringside plot: %s has no loop named %q\n", files[0], *loopName)
+		} else {
+			fmt.Fprintf(stderr, "ringside plot: %s has no loops\n", files[0])
+		}
+		return exitUsage
+	}
+	var data []byte
+	switch ext {
+	case ".html", ".htm":
+		if *loopName != "" {
+			res.Loops = loops
+		}
+		data, err = plot.Page(res)
+	case ".svg", ".png":
+		if len(loops) > 1 {
+			fmt.Fprintf(stderr, "ringside plot: %s has %d loops; name one with --loop, or write them all with -o OUT.html\n", files[0], len(loops))
+			return exitUsage
+		}
+		if ext == ".png" {
+			data, err = plot.LoopPNG(res, loops[0])
+		} else {
+			data, err = plot.LoopSVG(res, loops[0])
+		}
+	default:
+		fmt.Fprintf(stderr, "ringside plot: unknown output type %q (want .svg, .png or .html)\n", ext)
+		return exitUsage
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside plot: %v\n", err)
+		return 1
+	}
+	if *out == "" {
+		stdout.Write(data)
+		return 0
+	}
+	if err := os.WriteFile(*out, data, 0o644); err != nil {
+		fmt.Fprintf(stderr, "ringside plot: cannot write %s: %v\n", *out, err)
+		return exitUsage
+	}
+	return 0
+}
+
+func runServe(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	return server.Main(args, stdin, stdout, stderr)
 }

@@ -1,0 +1,295 @@
+package plot
+
+import (
+	"fmt"
+	"image/color"
+	"math"
+	"math/cmplx"
+
+	gplot "gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"ringside/analysis"
+	"ringside/analysis/pole"
+	"ringside/analysis/roots"
+)
+
+const (
+	// circlePoints is how many points draw the unit circle: at 360 the
+	// chord error is 1 − cos(π/360) ≈ 4e-5 of the radius, far below a
+	// pixel at any size the figure is drawn.
+	circlePoints = 360
+	// zMinHalfSpan is the smallest half-width of the z-plane view: the
+	// unit circle with a margin for markers.
+	zMinHalfSpan = 1.25
+	// zMargin widens the view beyond the farthest pole or zero so its
+	// marker is not cut by the frame.
+	zMargin = 1.1
+)
+
+// zPlane is the z-plane panel: the plot, the points it shows and which
+// closed-loop poles break a requirement.
+type zPlane struct {
+	plot      *gplot.Plot
+	legend    []legendItem
+	closed    []complex128
+	open      []complex128 // poles of L
+	zeros     []complex128 // zeros of L
+	violating []complex128 // closed-loop poles that break a requirement
+	halfSpan  float64      // half-width of the square data region to show
+}
+
+// legendItem is one legend entry, drawn below the z-plane.
+type legendItem struct {
+	text  string
+	thumb gplot.Thumbnailer
+}
+
+// poleChecks are the limits a closed-loop pole is held to.
+type poleChecks struct {
+	maxRadius  *float64 // `require radius <= X`
+	minRadius  *float64 // `require radius >= X` (unusual but valid)
+	minDamping *float64 // `require damping >= X`
+	maxDamping *float64 // `require damping <= X`
+}
+
+func checksOf(l *analysis.Loop) poleChecks {
+	var c poleChecks
+	for i := range l.Requirements {
+		q := &l.Requirements[i]
+		w := q.Want
+		switch {
+		case q.Metric == "radius" && q.Op == "<=":
+			c.maxRadius = &w
+		case q.Metric == "radius" && q.Op == ">=":
+			c.minRadius = &w
+		case q.Metric == "damping" && q.Op == ">=":
+			c.minDamping = &w
+		case q.Metric == "damping" && q.Op == "<=":
+			c.maxDamping = &w
+		}
+	}
+	return c
+}
+
+// breaks reports whether a closed-loop pole breaks stability or a pole
+// requirement. The on-circle tolerance is the analysis's own, carried by
+// the pole's Shape. Pure delays at z = 0 are not held to a damping limit,
+// as in Loop.MinDamping.
+func (c poleChecks) breaks(p pole.Info) bool {
+	if p.Shape == pole.Constant || p.Shape == pole.Growing {
+		return true
+	}
+	if c.maxRadius != nil && p.Radius > *c.maxRadius {
+		return true
+	}
+	if c.minRadius != nil && p.Radius < *c.minRadius {
+		return true
+	}
+	if p.Shape != pole.Impulse {
+		if c.minDamping != nil && p.Damping < *c.minDamping {
+			return true
+		}
+		if c.maxDamping != nil && p.Damping > *c.maxDamping {
+			return true
+		}
+	}
+	return false
+}
+
+// openRoots returns the roots of a polynomial of L. A constant has none;
+// the zero polynomial (L ≡ 0 has no zeros worth drawing) gives none either.
+func openRoots(p []float64, what string) ([]complex128, error) {
+	q := trimPoly(p)
+	if len(q) <= 1 {
+		return nil, nil
+	}
+	r, err := roots.Find(q)
+	if err != nil {
+		return nil, fmt.Errorf("plot: open-loop %s: %w", what, err)
+	}
+	out := make([]complex128, 0, len(r.Roots))
+	for _, z := range r.Roots {
+		if !cmplx.IsNaN(z) && !cmplx.IsInf(z) {
+			out = append(out, z)
+		}
+	}
+	return out, nil
+}
+
+func trimPoly(p []float64) []float64 {
+	n := len(p)
+	for n > 0 && p[n-1] == 0 {
+		n--
+	}
+	return p[:n]
+}
+
+func xys(zs []complex128) plotter.XYs {
+	out := make(plotter.XYs, len(zs))
+	for i, z := range zs {
+		out[i] = plotter.XY{X: real(z), Y: imag(z)}
+	}
+	return out
+}
+
+func circleXYs(r float64) plotter.XYs {
+	out := make(plotter.XYs, circlePoints+1)
+	for i := range out {
+		s, c := math.Sincos(2 * math.Pi * float64(i) / circlePoints)
+		out[i] = plotter.XY{X: r * c, Y: r * s}
+	}
+	return out
+}
+
+// dampingCurve is the locus of constant damping ratio ζ (0 < ζ < 1):
+// z = e^{sT} with s = ωn(−ζ ± j√(1−ζ²)), i.e. |z| = exp(−θζ/√(1−ζ²)) at
+// angle θ ∈ [−π, π]. Poles inside the curve (nearer the origin) are
+// better damped.
+func dampingCurve(zeta float64) plotter.XYs {
+	k := zeta / math.Sqrt(1-zeta*zeta)
+	out := make(plotter.XYs, circlePoints+1)
+	for i := range out {
+		th := -math.Pi + 2*math.Pi*float64(i)/circlePoints
+		r := math.Exp(-math.Abs(th) * k)
+		s, c := math.Sincos(th)
+		out[i] = plotter.XY{X: r * c, Y: r * s}
+	}
+	return out
+}
+
+func newZPlane(l *analysis.Loop) (*zPlane, error) {
+	open, err := openRoots(l.Open.Den, "poles")
+	if err != nil {
+		return nil, err
+	}
+	zeros, err := openRoots(l.Open.Num, "zeros")
+	if err != nil {
+		return nil, err
+	}
+	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan}
+	checks := checksOf(l)
+	for _, p := range l.Poles {
+		if cmplx.IsNaN(p.Z) || cmplx.IsInf(p.Z) {
+			return nil, fmt.Errorf("plot: loop %s has a non-finite closed-loop pole", l.Name)
+		}
+		zp.closed = append(zp.closed, p.Z)
+		if checks.breaks(p) {
+			zp.violating = append(zp.violating, p.Z)
+		}
+	}
+	for _, set := range [][]complex128{zp.closed, zp.open, zp.zeros} {
+		for _, z := range set {
+			zp.halfSpan = math.Max(zp.halfSpan, zMargin*math.Max(math.Abs(real(z)), math.Abs(imag(z))))
+		}
+	}
+
+	p := newPlot()
+	p.Title.Text = "z-plane (closed-loop and open-loop)"
+	p.X.Label.Text = "Re z"
+	p.Y.Label.Text = "Im z"
+	p.Add(plotter.NewGrid())
+
+	axisStyle := draw.LineStyle{Color: colGrid, Width: vg.Points(refWidth)}
+	h := zp.halfSpan * 4 // the axes run past any view
+	for _, seg := range []plotter.XYs{{{X: -h, Y: 0}, {X: h, Y: 0}}, {{X: 0, Y: -h}, {X: 0, Y: h}}} {
+		ln, err := plotter.NewLine(seg)
+		if err != nil {
+			return nil, err
+		}
+		ln.LineStyle = axisStyle
+		p.Add(ln)
+	}
+
+	circ, err := plotter.NewLine(circleXYs(1))
+	if err != nil {
+		return nil, err
+	}
+	circ.LineStyle = draw.LineStyle{Color: colCircle, Width: vg.Points(refWidth * 1.5)}
+	p.Add(circ)
+	zp.legend = append(zp.legend, legendItem{"unit circle", circ})
+
+	if r := checks.maxRadius; r != nil && *r > 0 && !math.IsInf(*r, 0) {
+		lim, err := plotter.NewLine(circleXYs(*r))
+		if err != nil {
+			return nil, err
+		}
+		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dashed()}
+		p.Add(lim)
+		zp.legend = append(zp.legend, legendItem{"radius limit " + analysis.FormatNumber(*r), lim})
+	}
+	if z := checks.minDamping; z != nil && *z > 0 && *z < 1 {
+		lim, err := plotter.NewLine(dampingCurve(*z))
+		if err != nil {
+			return nil, err
+		}
+		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dotted()}
+		p.Add(lim)
+		zp.legend = append(zp.legend, legendItem{"damping limit ζ = " + analysis.FormatNumber(*z), lim})
+	}
+
+	scatter := func(zs []complex128, g draw.GlyphDrawer, col color.Color, r float64, text string) error {
+		if len(zs) == 0 {
+			return nil
+		}
+		s, err := plotter.NewScatter(xys(zs))
+		if err != nil {
+			return err
+		}
+		s.GlyphStyle = draw.GlyphStyle{Color: col, Radius: vg.Points(r), Shape: g}
+		p.Add(s)
+		zp.legend = append(zp.legend, legendItem{text, s})
+		return nil
+	}
+	if err := scatter(zp.open, crossGlyph{vg.Points(glyphStroke)}, colOpenPole, markerSize+0.5, "open-loop pole (of L)"); err != nil {
+		return nil, err
+	}
+	if err := scatter(zp.zeros, ringGlyph{vg.Points(glyphStroke)}, colOpenZero, markerSize+0.5, "open-loop zero (of L)"); err != nil {
+		return nil, err
+	}
+	if err := scatter(zp.closed, draw.CircleGlyph{}, colClosedPole, markerSize, "closed-loop pole"); err != nil {
+		return nil, err
+	}
+	if err := scatter(zp.violating, ringGlyph{vg.Points(glyphStroke + 0.4)}, colViolation, violationSize, "breaks a requirement"); err != nil {
+		return nil, err
+	}
+	zp.plot = p
+	zp.setView(1, 1)
+	return zp, nil
+}
+
+// setView sets the axis ranges so that one data unit has the same length
+// on both axes for a data area w wide and h high (any unit): the shorter
+// side shows [−halfSpan, halfSpan], the longer side proportionally more.
+func (zp *zPlane) setView(w, h float64) {
+	hx, hy := zp.halfSpan, zp.halfSpan
+	if w > h {
+		hx *= w / h
+	} else {
+		hy *= h / w
+	}
+	zp.plot.X.Min, zp.plot.X.Max = -hx, hx
+	zp.plot.Y.Min, zp.plot.Y.Max = -hy, hy
+}
+
+// equalScale fixes the ranges for the tile c. The data area depends on the
+// width of the tick labels, which depends on the ranges, so a few rounds
+// are run until the area stops moving (it settles in one or two).
+func (zp *zPlane) equalScale(c draw.Canvas) draw.Canvas {
+	var dc draw.Canvas
+	for range 6 {
+		dc = zp.plot.DataCanvas(c)
+		w, h := float64(dc.Max.X-dc.Min.X), float64(dc.Max.Y-dc.Min.Y)
+		if w <= 0 || h <= 0 {
+			return dc
+		}
+		before := [2]float64{zp.plot.X.Max, zp.plot.Y.Max}
+		zp.setView(w, h)
+		if math.Abs(before[0]-zp.plot.X.Max) < 1e-12 && math.Abs(before[1]-zp.plot.Y.Max) < 1e-12 {
+			break
+		}
+	}
+	return zp.plot.DataCanvas(c)
+}
