@@ -48,6 +48,8 @@ type checker struct {
 	ld    *loader
 	root  *unit
 	gains map[string]float64
+	// base evaluates blocks at the declared gains; sweeps reuse it.
+	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
 }
@@ -57,6 +59,7 @@ func (c *checker) run(ctx context.Context) {
 	c.declare()
 	c.gainValues()
 	ev := c.evaluator(c.gains, c.diags)
+	c.base = ev
 	c.blocks(ev)
 	for _, st := range c.root.file.Stmts {
 		ls, ok := st.(*syntax.LoopStmt)

@@ -23,6 +23,25 @@ type evaluator struct {
 	t     float64 // sample period, 0 when unknown
 	memo  map[string]*blockValue
 	diags *diagList // nil: do not report (sweeps)
+	// A sweep sets one gain to another value. Blocks that do not depend
+	// on it are taken from base, already evaluated.
+	sweepGain string
+	sweepK    float64
+	base      *evaluator
+}
+
+// sweep returns an evaluator that sets gain name to k and reuses every
+// block of ev that does not depend on it.
+func (ev *evaluator) sweep(name string, k float64) *evaluator {
+	return &evaluator{scope: ev.scope, gains: ev.gains, t: ev.t, memo: map[string]*blockValue{}, sweepGain: name, sweepK: k, base: ev}
+}
+
+// gain is the value of a gain in this evaluation.
+func (ev *evaluator) gain(name string) float64 {
+	if ev.base != nil && name == ev.sweepGain {
+		return ev.sweepK
+	}
+	return ev.gains[name]
 }
 
 type blockValue struct {
@@ -56,6 +75,11 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return &blockValue{}
 		}
 		return bv
+	}
+	if ev.base != nil {
+		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !bv.gains[ev.sweepGain] {
+			return bv
+		}
 	}
 	bv := &blockValue{busy: true, gains: map[string]bool{}}
 	ev.memo[d.Name] = bv
@@ -262,7 +286,7 @@ func (ev *evaluator) name(d *Decl, x *syntax.NameRef, v byte, bv *blockValue) (p
 	}
 	if ref.Gain != nil {
 		bv.gains[x.Name] = true
-		return poly.RConst(ev.gains[x.Name]), nil
+		return poly.RConst(ev.gain(x.Name)), nil
 	}
 	if ref == d {
 		return poly.Rational{}, &evalError{x.Span, CodeUnknownName, fmt.Sprintf("block %s cannot use itself", x.Name)}

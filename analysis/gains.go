@@ -31,12 +31,7 @@ type pendingFix struct {
 // loopAt evaluates a loop's characteristic polynomial and open loop with
 // gain name set to k.
 func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
-	gains := make(map[string]float64, len(c.gains))
-	for n, v := range c.gains {
-		gains[n] = v
-	}
-	gains[name] = k
-	ev := c.evaluator(gains, nil)
+	ev := c.base.sweep(name, k)
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
@@ -209,8 +204,12 @@ const SafeMaxTolerance = 1e-4
 // the last value known to pass. Where f is defined at both ends it steps by
 // the Illinois variant of regula falsi (the margin in dB is smooth in the
 // gain, so this takes a handful of steps); otherwise it bisects.
-func largestMeeting(f func(float64) float64, lo, hi float64) float64 {
-	flo, fhi := f(lo), math.NaN()
+//
+// fhi is f's value at hi when known without computing it (NaN otherwise):
+// at a stability limit a closed-loop pole sits on the circle, L = −1 there,
+// so the gain margin is 0 dB and the excess is minus the requirement.
+func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
+	flo := f(lo)
 	side := 0
 	for i := 0; i < 100 && hi-lo > SafeMaxTolerance*math.Max(math.Abs(lo), math.Abs(hi)); i++ {
 		mid := lo + (hi-lo)/2
@@ -262,6 +261,14 @@ func (c *checker) scalingGuess(name string, k0 float64, loops []*Loop) (float64,
 	return guess, !math.IsInf(guess, 1)
 }
 
+func (c *checker) maxRequiredGM(loops []*Loop) float64 {
+	m := 0.0
+	for _, l := range loops {
+		m = math.Max(m, c.requiredGM(l))
+	}
+	return m
+}
+
 func maxAbs(p poly.Poly) float64 {
 	m := 0.0
 	for _, v := range p {
@@ -279,7 +286,7 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	if guess, found := c.scalingGuess(g.Name, k0, loops); found && k0 > 0 && guess > 0 {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if ok(lo) && !ok(hi) {
-			v := largestMeeting(f, lo, hi)
+			v := largestMeeting(f, lo, hi, math.NaN())
 			lim.SafeMax = &v
 			return
 		}
@@ -305,7 +312,11 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 				return
 			}
 		}
-		v := largestMeeting(f, k0, hi)
+		fhi := math.NaN()
+		if lim.StableMax != nil {
+			fhi = -c.maxRequiredGM(loops)
+		}
+		v := largestMeeting(f, k0, hi, fhi)
 		lim.SafeMax = &v
 		return
 	}
@@ -336,7 +347,11 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 			continue
 		}
 		if ok(lo) {
-			v := largestMeeting(f, lo, top)
+			fhi := math.NaN()
+			if lim.StableMax != nil && top == *lim.StableMax {
+				fhi = -c.maxRequiredGM(loops)
+			}
+			v := largestMeeting(f, lo, top, fhi)
 			lim.SafeMax = &v
 			return
 		}

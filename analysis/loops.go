@@ -92,7 +92,7 @@ func (c *checker) elements(ev *evaluator, names []*syntax.Ident, report bool) ([
 			continue
 		}
 		if d.Gain != nil {
-			out = append(out, element{name: id.Name, ident: id, tf: poly.RConst(ev.gains[id.Name]), decl: d})
+			out = append(out, element{name: id.Name, ident: id, tf: poly.RConst(ev.gain(id.Name)), decl: d})
 			continue
 		}
 		bv := ev.block(d)

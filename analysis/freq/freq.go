@@ -112,6 +112,7 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 		return m, err
 	}
 	grid := lp.grid()
+	pts := lp.evalGrid(grid)
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
 
 	// Phase crossings.
@@ -127,7 +128,7 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 			phaseTh = []float64{th}
 		}
 	} else {
-		phaseTh = roots(lp.g, lp.gScale, grid)
+		phaseTh = roots(lp.g, lp.gScale, grid, pts.g, pts.gScale)
 	}
 	for _, th := range phaseTh {
 		N, D := lp.eval(th)
@@ -156,7 +157,7 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 			gainTh = []float64{th}
 		}
 	} else {
-		gainTh = roots(lp.h, lp.hScale, grid)
+		gainTh = roots(lp.h, lp.hScale, grid, pts.h, pts.hScale)
 	}
 	for _, th := range gainTh {
 		l, ok := lp.value(th)
@@ -183,7 +184,7 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 	}
 
 	// Peak sensitivity.
-	if db, th, ok := lp.peakSensitivity(grid); ok {
+	if db, th, ok := lp.peakSensitivity(grid, pts); ok {
 		m.PeakSensitivityDB, m.PeakSensitivityHz = ptr(db), ptr(toHz(th))
 	}
 	return m, nil
@@ -203,7 +204,8 @@ func ptr(v float64) *float64 { return &v }
 // loop holds N and D rescaled by a common factor (L is unchanged) so that
 // products of values neither overflow nor underflow.
 type loop struct {
-	num, den poly.Poly
+	num, den    poly.Poly
+	closedRoots []complex128 // roots of N + D, set by grid
 }
 
 // ErrZeroPoly reports a zero numerator or denominator.
@@ -336,7 +338,29 @@ func (l loop) unitOnCircle() bool {
 // the degree, geometric clusters near 0 and π, and clusters around the
 // angles of roots of N, D and N + D that lie near the circle (there the
 // phase and magnitude change over an angular width of about ||r| − 1|).
-func (l loop) grid() []float64 {
+// gridValues holds the functions the crossing and peak searches need at
+// every grid point, from one evaluation of N and D there.
+type gridValues struct {
+	g, gScale, h, hScale, sens []float64
+}
+
+func (l loop) evalGrid(grid []float64) gridValues {
+	n := len(grid)
+	v := gridValues{make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)}
+	for i, th := range grid {
+		N, D := l.eval(th)
+		aN, aD := cmplx.Abs(N), cmplx.Abs(D)
+		v.g[i] = imag(N * cmplx.Conj(D))
+		v.gScale[i] = aN * aD
+		v.h[i] = sq(N) - sq(D)
+		v.hScale[i] = sq(N) + sq(D)
+		v.sens[i] = aD / cmplx.Abs(N+D)
+	}
+	return v
+}
+
+// grid also records the roots of N + D, which the peak search needs.
+func (l *loop) grid() []float64 {
 	n := max(l.num.Degree(), l.den.Degree(), 1)
 	count := max(minBaseGrid, baseGridPerDegree*n)
 	g := make([]float64, 0, count+512)
@@ -347,10 +371,13 @@ func (l loop) grid() []float64 {
 		e := math.Pi * math.Pow(10, -float64(k))
 		g = append(g, e, math.Pi-e)
 	}
-	for _, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
+	for i, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
 		rs, ok := companionRoots(p)
 		if !ok {
 			continue
+		}
+		if i == 2 {
+			l.closedRoots = rs
 		}
 		for _, r := range rs {
 			d := math.Abs(cmplx.Abs(r) - 1)
@@ -386,12 +413,12 @@ func (l loop) grid() []float64 {
 // neighbours is refined by golden section: if the refined |f| is within
 // TouchTol·scale it is one tangential touch, and if it dips deeper through
 // zero it is two roots.
-func roots(f, scale func(float64) float64, grid []float64) []float64 {
-	v := make([]float64, len(grid))
+// fv and sv are f and scale on the grid, computed once by the caller.
+func roots(f, scale func(float64) float64, grid, fv, sv []float64) []float64 {
+	v := fv
 	zero := make([]bool, len(grid))
-	for i, th := range grid {
-		v[i] = f(th)
-		zero[i] = math.Abs(v[i]) <= NoiseTol*scale(th)
+	for i := range grid {
+		zero[i] = math.Abs(v[i]) <= NoiseTol*sv[i]
 	}
 	var out []float64
 	last := len(grid) - 1
@@ -411,7 +438,7 @@ func roots(f, scale func(float64) float64, grid []float64) []float64 {
 		if i < last && !zero[i+1] && v[i]*v[i+1] < 0 {
 			out = append(out, bisect(f, scale, grid[i], grid[i+1], v[i]))
 		}
-		if (i == 0 || i == last) && math.Abs(v[i]) <= TouchTol*scale(grid[i]) {
+		if (i == 0 || i == last) && math.Abs(v[i]) <= TouchTol*sv[i] {
 			out = append(out, grid[i]) // touch at an end (h is even about 0 and π)
 			continue
 		}
@@ -510,26 +537,21 @@ func (l loop) bestOnGrid(grid []float64, obj func(float64) (float64, bool)) (flo
 
 // peakSensitivity returns max 20·log10(|D|/|N + D|) over [0, π] and its
 // angle; ok is false when N + D has a root on the circle.
-func (l loop) peakSensitivity(grid []float64) (db, th float64, ok bool) {
+func (l loop) peakSensitivity(grid []float64, pts gridValues) (db, th float64, ok bool) {
 	cl := l.num.Add(l.den)
 	if cl.IsZero() {
 		return 0, 0, false
 	}
-	if rs, ok := companionRoots(cl); ok {
-		for _, r := range rs {
-			if math.Abs(cmplx.Abs(r)-1) <= ClosedLoopCircleTol {
-				return 0, 0, false
-			}
+	for _, r := range l.closedRoots {
+		if math.Abs(cmplx.Abs(r)-1) <= ClosedLoopCircleTol {
+			return 0, 0, false
 		}
 	}
 	sens := func(x float64) float64 {
 		N, D := l.eval(x)
 		return cmplx.Abs(D) / cmplx.Abs(N+D)
 	}
-	v := make([]float64, len(grid))
-	for i, x := range grid {
-		v[i] = sens(x)
-	}
+	v := pts.sens
 	best, bestTh := -1.0, 0.0
 	for i := range grid {
 		left := i == 0 || v[i] >= v[i-1]
