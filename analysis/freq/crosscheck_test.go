@@ -12,6 +12,7 @@ import (
 
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/poly"
+	polyroots "ringside/analysis/roots"
 )
 
 // Tolerances of the scipy cross-check. Both sides locate crossings to
@@ -128,7 +129,7 @@ func TestCrossCheckScipy(t *testing.T) {
 				t.Errorf("%s: SchurStable = %v (%v), numpy stable = %v", where(), st, err, r.Stable)
 			}
 		}
-		if rs, ok := companionRoots(cl); ok {
+		if rs, ok := polyroots.Companion(cl); ok {
 			maxR := 0.0
 			for _, z := range rs {
 				maxR = math.Max(maxR, cmplx.Abs(z))

@@ -22,6 +22,7 @@ import (
 	"sort"
 
 	"ringside/analysis/poly"
+	polyroots "ringside/analysis/roots"
 )
 
 // Crossing is one crossing of the response: Hz is its frequency; Value is
@@ -372,7 +373,7 @@ func (l *loop) grid() []float64 {
 		g = append(g, e, math.Pi-e)
 	}
 	for i, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
-		rs, ok := companionRoots(p)
+		rs, ok := polyroots.Companion(p)
 		if !ok {
 			continue
 		}

@@ -12,6 +12,7 @@ import (
 	"sort"
 
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 )
 
 // Interval is an open interval (Lo, Hi) of gain values. A nil end is
@@ -180,7 +181,7 @@ func affineCandidates(a, b poly.Poly) []float64 {
 	}
 	q := a.Mul(rec(b)).Sub(rec(a).Mul(b))
 	if !negligible(q, a, b) {
-		if roots, ok := companionRoots(q); ok {
+		if roots, ok := roots.Companion(q); ok {
 			for _, r := range roots {
 				if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
 					thetas = append(thetas, polishAngle(a, b, cmplx.Phase(r)))

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 )
 
 func TestSchurStableKnown(t *testing.T) {
@@ -96,7 +97,7 @@ func TestSchurStableAgainstEigen(t *testing.T) {
 			}
 		}
 		p := poly.FromRoots(rs).Scale(0.1 + 10*rng.Float64())
-		eig, ok := companionRoots(p)
+		eig, ok := roots.Companion(p)
 		if !ok {
 			t.Fatal("eigen failed")
 		}
@@ -292,7 +293,7 @@ func TestAffineRandomAgainstEigenAndNumeric(t *testing.T) {
 				continue
 			}
 			near(t, e.name+" numeric", e.nu, *e.ex, 1e-7)
-			rs, _ := companionRoots(a.Add(b.Scale(*e.ex)))
+			rs, _ := roots.Companion(a.Add(b.Scale(*e.ex)))
 			maxR := 0.0
 			for _, r := range rs {
 				maxR = math.Max(maxR, cmplx.Abs(r))

@@ -235,19 +235,11 @@ func quadratic(b, c float64) []complex128 {
 // polynomial w (degree ≥ 3), in Dgeev's layout: conjugate pairs adjacent,
 // Im > 0 first, exact conjugates.
 func companionRoots(w poly.Poly) ([]complex128, error) {
-	n := len(w) - 1
-	a := mat.NewDense(n, n, nil)
-	for j := 0; j < n; j++ {
-		a.Set(0, j, -w[n-1-j]/w[n])
-	}
-	for i := 1; i < n; i++ {
-		a.Set(i, i-1, 1)
-	}
-	var e mat.Eigen
-	if !e.Factorize(a, mat.EigenNone) {
+	r, ok := Companion(w)
+	if !ok {
 		return nil, errors.New("roots: the eigenvalue iteration did not converge")
 	}
-	return e.Values(nil), nil
+	return r, nil
 }
 
 // item is one real root or one conjugate pair (z with Im > 0 standing for
