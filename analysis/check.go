@@ -13,6 +13,11 @@ import (
 // early and says so.
 func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	env.Options = env.Options.withDefaults()
+	if env.Options.Budget > 0 {
+		var cancel context.CancelFunc
+		ctx, cancel = context.WithTimeout(ctx, env.Options.Budget)
+		defer cancel()
+	}
 	path = filepath.Clean(path)
 	roots := env.Roots
 	if len(roots) == 0 {
@@ -67,8 +72,13 @@ func (c *checker) run(ctx context.Context) {
 			continue
 		}
 		if err := ctx.Err(); err != nil {
-			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis cancelled (time budget reached) before this loop; figures are missing, not zero")
+			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
+			c.res.Loops = append(c.res.Loops, &Loop{Name: ls.Name.Name, Stmt: ls})
 			continue
+		}
+		if len(c.res.Loops) >= MaxLoops {
+			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("more than %d loops in one file: this loop and the ones after it are not analysed; split the file", MaxLoops))
+			break
 		}
 		c.res.Loops = append(c.res.Loops, c.loop(ev, ls))
 	}

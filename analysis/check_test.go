@@ -10,6 +10,7 @@ import (
 	"sort"
 	"strings"
 	"testing"
+	"time"
 )
 
 // checkSrc analyses src as the file main.loop in a temporary workspace,
@@ -399,5 +400,32 @@ func TestHostileExpressions(t *testing.T) {
 		if errs == 0 {
 			t.Errorf("%q: no diagnostic", src)
 		}
+	}
+}
+
+// A time budget stops the analysis cleanly: loops left over are reported,
+// none gets made-up figures.
+func TestBudget(t *testing.T) {
+	src := withDelay(corpus(200, 5))
+	opt := DefaultOptions()
+	opt.Budget = time.Millisecond
+	r := Check(context.Background(), "/b/c.loop", []byte(src), Env{Roots: []string{"/b"}, Options: opt})
+	stopped := 0
+	for _, d := range r.Diagnostics {
+		if d.Code == CodeNumeric && strings.Contains(d.Message, "stopped") {
+			stopped++
+		}
+	}
+	if stopped == 0 {
+		t.Fatal("a 1 ms budget on 200 loops stopped nothing")
+	}
+	analysed := 0
+	for _, l := range r.Loops {
+		if l.OK {
+			analysed++
+		}
+	}
+	if analysed+stopped != 200 || len(r.Loops) != 200 {
+		t.Errorf("%d analysed + %d stopped != 200 loops", analysed, stopped)
 	}
 }

@@ -8,6 +8,8 @@
 package analysis
 
 import (
+	"time"
+
 	"ringside/analysis/discretize"
 	"ringside/analysis/freq"
 	"ringside/analysis/pole"
@@ -28,7 +30,16 @@ type Options struct {
 	// Quick skips the loop numerics (closed-loop poles, margins, step
 	// response, gain limits): what an editor runs on every keystroke.
 	Quick bool
+	// Budget bounds the time of one Check (0: no bound). When it runs
+	// out, the loops not yet analysed get a warning saying so and no
+	// figures; nothing is guessed.
+	Budget time.Duration
 }
+
+// MaxLoops is the most loops one file may hold (20,000): far beyond any
+// controller, and it keeps a pasted or generated file from stalling an
+// editor. Loops past it are reported, not analysed.
+const MaxLoops = 20000
 
 // Default thresholds (loop-format.md: gain margin ≥ 6 dB, phase margin ≥ 30°).
 const (

@@ -28,15 +28,15 @@ const fuzzTimeLimit = 5 * time.Second
 func FuzzRoots(f *testing.F) {
 	f.Add([]byte{})
 	f.Add([]byte{0, 2, 6, 6, 6})                         // 1 + z + z^2
-	f.Add([]byte{1, 4, 0, 0, 1, 3, 0, 0, 6})             // (z-1)^4 on the circle
-	f.Add([]byte{1, 6, 0, 64, 3, 2, 64, 0, 6})           // repeated ±j
+	f.Add([]byte{1, 4, 6, 1, 0, 3})                      // (z-1)^4 on the circle
+	f.Add([]byte{1, 4, 6, 0, 64, 1})                     // (z^2+1)^2: repeated ±j
 	f.Add([]byte{0, 3, 1, 6, 6, 6})                      // NaN coefficient
 	f.Add([]byte{0, 2, 3, 9, 4, 9, 6})                   // huge and tiny
-	f.Add([]byte{1, 64, 0, 17, 3, 4, 10, 3, 2, 0, 6, 6}) // degree 64
-	f.Add([]byte{1, 70, 0, 1, 0, 6})                     // degree above MaxDegree
+	f.Add([]byte{1, 64, 6, 4, 10, 3, 2, 0, 6, 5, 9, 70}) // degree 64, mixed roots
+	f.Add([]byte{1, 70, 6, 2, 0, 3})                     // degree 70, above MaxDegree
 	f.Fuzz(func(t *testing.T, data []byte) {
 		fb := &fuzzBytes{b: data}
-		p := fb.poly(MaxDegree + 4)
+		p := fb.poly(MaxDegree + 8)
 		var res Result
 		var err error
 		done := make(chan struct{})
@@ -190,6 +190,7 @@ func (f *fuzzBytes) poly(maxDeg int) poly.Poly {
 		}
 		return p
 	}
+	scale := f.coef()
 	var rs []complex128
 	for len(rs) < n {
 		z := f.root()
@@ -201,5 +202,5 @@ func (f *fuzzBytes) poly(maxDeg int) poly.Poly {
 			}
 		}
 	}
-	return poly.FromRoots(rs).Scale(f.coef())
+	return poly.FromRoots(rs).Scale(scale)
 }
