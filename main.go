@@ -1,7 +1,7 @@
 // Command ringside checks .loop files of discrete-time control loops, from
 // the command line or as a language server.
 //
-//	ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] PATH...
+//	ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
 //	ringside fmt [-w] FILE...
 //	ringside plot FILE [--loop NAME] [-o OUT]
 //	ringside serve [--stdio] [--log-file PATH] [--log-level LEVEL]
@@ -34,7 +34,7 @@ const version = "0.1.0"
 const usage = `ringside: stability, margins and gain limits of discrete-time control loops in .loop files
 
 usage:
-  ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] PATH...
+  ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
   ringside fmt [-w] FILE...
   ringside plot FILE [--loop NAME] [-o OUT.svg|OUT.png|OUT.html]
   ringside serve [--stdio] [--log-file PATH] [--log-level debug|info|warn|error]
@@ -100,6 +100,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
 	fset.Float64Var(&opts.PhaseMarginDeg, "phase-margin", opts.PhaseMarginDeg, "default required phase margin in degrees")
 	fset.Float64Var(&opts.Tolerance, "tolerance", opts.Tolerance, "how close to the unit circle a pole radius counts as on it")
+	fset.DurationVar(&opts.Budget, "budget", 0, "time limit per file (e.g. 30s); loops not reached are reported, not guessed")
 	paths, err := parseInterleaved(fset, args)
 	if err != nil {
 		return exitUsage
