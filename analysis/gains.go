@@ -4,11 +4,13 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"sort"
 
 	"ringside/analysis/freq"
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 	"ringside/syntax"
 )
 
@@ -103,8 +105,10 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 		return lim
 	}
 	lim.StableMin, lim.StableMax, lim.Exact, lim.CurrentStable, lim.Found = iv.Lo, iv.Hi, iv.Exact, iv.ContainsCurrent, iv.Found
-	snapZero(lim.StableMin, k0, lim.StableMax)
-	snapZero(lim.StableMax, k0, lim.StableMin)
+	if c.openOnCircle(g.Name, loops) {
+		snapZero(lim.StableMin, lim.StableMax)
+		snapZero(lim.StableMax, lim.StableMin)
+	}
 	c.safeMax(g, loops, lim)
 	return lim
 }
@@ -460,22 +464,40 @@ func capGainFix(g *Gain) (Fix, bool) {
 	return Fix{Title: fmt.Sprintf("Cap %s below its stability limit (max %s)", g.Name, fmtNum(cap)), Edits: edits}, true
 }
 
-// ZeroSnap: an interval end closer to zero than this, relative to the size
-// of the other figures, is zero. A gain of zero often opens a loop with an
-// integrator in it, putting a pole exactly on the circle; the affine fit
-// places that end only to rounding (~1e-9 relative), and "7e-14" would
-// read as a real limit.
-const ZeroSnap = 1e-7
+// ZeroSnap: when the gain at zero leaves a pole on the unit circle (an
+// integrator in a loop the gain opens), zero is an exact end of the stable
+// interval; the computed end carries the rounding of an expanded
+// polynomial, up to ~1e-5 of the interval's width when the plant's
+// coefficients are small. An end within ZeroSnap of zero, relative to the
+// interval's width, is then zero.
+const ZeroSnap = 1e-3
 
-func snapZero(end *float64, k0 float64, other *float64) {
-	if end == nil {
+// openOnCircle reports whether some loop has a closed-loop pole on the unit
+// circle with the gain set to zero.
+func (c *checker) openOnCircle(name string, loops []*Loop) bool {
+	for _, l := range loops {
+		char, _, ok := c.loopAt(l, name, 0)
+		if !ok || char.Degree() < 1 {
+			continue
+		}
+		r, err := roots.Find(char)
+		if err != nil {
+			continue
+		}
+		for _, z := range r.Roots {
+			if math.Abs(cmplx.Abs(z)-1) <= c.env.Options.Tolerance {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+func snapZero(end, other *float64) {
+	if end == nil || other == nil {
 		return
 	}
-	scale := math.Abs(k0)
-	if other != nil {
-		scale = math.Max(scale, math.Abs(*other))
-	}
-	if math.Abs(*end) <= ZeroSnap*scale {
+	if math.Abs(*end) <= ZeroSnap*math.Abs(*other-*end) {
 		*end = 0
 	}
 }

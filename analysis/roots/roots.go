@@ -101,8 +101,10 @@ type Result struct {
 }
 
 // Find returns the roots of p. It fails for the zero polynomial, a
-// non-finite coefficient, a degree above MaxDegree, or roots whose modulus
-// does not fit in float64. A nonzero constant has no roots.
+// non-finite coefficient, a degree above MaxDegree, roots whose modulus
+// does not fit in float64, or coefficients too far apart in size to be
+// rescaled around the roots' geometric mean without underflow. A nonzero
+// constant has no roots.
 func Find(p poly.Poly) (Result, error) {
 	p = p.Trim()
 	if !p.Finite() {
@@ -121,6 +123,12 @@ func Find(p poly.Poly) (Result, error) {
 	}
 	q := p[zeros:]
 	sc := rescale(q)
+	if sc.w[0] == 0 || sc.w[len(sc.w)-1] == 0 {
+		// The coefficients span more than the float64 exponent range
+		// around the roots' geometric mean; the underflowed end would
+		// silently change the degree (or invent zero roots).
+		return Result{}, errors.New("roots: the coefficients span too wide a range for float64 (some root's modulus is out of range)")
+	}
 
 	var wroots []complex128
 	switch len(q) - 1 {
