@@ -222,6 +222,7 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 		{"margin", "sample 10 ms\ngain k = 150\nblock integ = 0.01 / (z - 1)\nloop l {\n  forward k integ\n  require gain_margin >= 6 dB\n}\n", CodeGainMarginLow},
 		{"via", "sample 1 ms\nblock p = 5 / (s + 5)\nloop l {\n  forward p\n  feedback d\n}\nblock d = z^-1\n", CodeNoVia},
 		{"sample", "block p = 5 / (s + 5) via zoh\n", CodeNoSample},
+		{"flip sign", "sample 1 ms\nblock p = 0.8 / (z - 0.5)\nloop l {\n  forward p\n  sign positive\n}\n", CodePoleOutside},
 		{"sign", "sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n  sign negtive\n}\n", CodeBadSign},
 	}
 	for _, c := range cases {

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"ringside/analysis/freq"
+	"ringside/analysis/gainlimit"
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
@@ -375,7 +376,35 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 		x.Related = append(x.Related, Related{Path: e.decl.Path, Span: e.decl.Ident.Span,
 			Message: fmt.Sprintf("block %s has the nearest open-loop pole, z = %s", e.name, fmtComplex(bestZ))})
 	}
+	c.flipSignFix(x, l, fwd, fb)
 	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l, stability: true})
+}
+
+// flipSignFix offers the other feedback sign when the loop would be stable
+// with it: a sign typed the wrong way round is a common slip, and the
+// editor user chooses whether it is one.
+func (c *checker) flipSignFix(x *Diagnostic, l *Loop, fwd, fb []element) {
+	_, char, _ := polys(tfs(fwd), tfs(fb), !l.Positive)
+	if st, err := gainlimit.SchurStable(char); err != nil || !st {
+		return
+	}
+	want, note := "negative", "negative (the usual feedback)"
+	if !l.Positive {
+		want, note = "positive", "positive"
+	}
+	var edit Edit
+	found := false
+	for _, it := range l.Stmt.Items {
+		if s, ok := it.(*syntax.SignItem); ok && s.Value != nil {
+			edit, found = Edit{Path: c.res.Path, Span: s.Value.Span, NewText: want}, true
+		}
+	}
+	if !found {
+		at := l.Stmt.LBrace + 1
+		edit = Edit{Path: c.res.Path, Span: syntax.Span{From: at, To: at}, NewText: "\n  sign " + want}
+	}
+	x.Message += fmt.Sprintf("; with sign %s it would be stable: check the sign of the measurement", want)
+	x.Fixes = append(x.Fixes, Fix{Title: "Flip the feedback sign to " + note, Edits: []Edit{edit}})
 }
 
 // poleValues returns the poles of tf (the block's own when analysed).
