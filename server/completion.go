@@ -1,0 +1,153 @@
+package server
+
+import (
+	"context"
+	"encoding/json"
+	"regexp"
+	"sort"
+	"strings"
+
+	"go.lsp.dev/jsonrpc2"
+
+	"ringside/analysis"
+	"ringside/server/protocol"
+	"ringside/syntax"
+)
+
+var (
+	topKeywords  = []string{"sample", "use", "gain", "block", "loop"}
+	itemKeywords = []string{"forward", "feedback", "sign", "require"}
+	methods      = []string{"zoh", "foh", "tustin", "matched"}
+	signs        = []string{"negative", "positive"}
+	// unitsFor lists the units that fit after a number, by what it measures.
+	unitsTime    = []string{"s", "ms", "us", "µs"}
+	unitsFreq    = []string{"Hz", "kHz", "rad/s"}
+	unitsMetric  = map[string][]string{"gain_margin": {"dB"}, "phase_margin": {"deg"}, "delay_margin": {"s", "ms", "us", "samples"}, "peak_sensitivity": {"dB"}, "overshoot": {"%"}, "settling": {"s", "ms", "us"}}
+	lineTokenRE  = regexp.MustCompile(`[A-Za-z_][A-Za-z0-9_]*|[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?|>=|<=|\S`)
+	numberTokRE  = regexp.MustCompile(`^[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?$`)
+	partialTokRE = regexp.MustCompile(`[A-Za-z_][A-Za-z0-9_]*$`)
+)
+
+// completion offers what may come next at the cursor: keywords by context,
+// names in scope, methods after via, units after numbers, metrics after
+// require, signs after sign.
+func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, error) {
+	var p protocol.TextDocumentPositionParams
+	if err := decode(params, &p); err != nil {
+		return nil, err
+	}
+	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	if err != nil {
+		return nil, err
+	}
+	pos, err := m.PositionOffset(p.Position)
+	if err != nil {
+		return nil, errorf(jsonrpc2.InvalidParams, "%v", err)
+	}
+	async(ctx)
+	lineStart := syntax.NewLines(src).LineStart(int(p.Position.Line))
+	before := string(src[lineStart:pos])
+	if i := strings.IndexByte(before, '#'); i >= 0 {
+		return protocol.CompletionList{Items: []protocol.CompletionItem{}}, nil // in a comment
+	}
+	partial := partialTokRE.FindString(before)
+	toks := lineTokenRE.FindAllString(before[:len(before)-len(partial)], -1)
+	inLoop := insideLoop(src, pos)
+	var items []protocol.CompletionItem
+	add := func(kind int, detail string, words ...string) {
+		for _, w := range words {
+			items = append(items, protocol.CompletionItem{Label: w, Kind: kind, Detail: detail})
+		}
+	}
+	names := func() {
+		res, err := sn.check(ctx, path, false)
+		if err != nil {
+			return
+		}
+		var list []string
+		for n := range res.Scope {
+			list = append(list, n)
+		}
+		sort.Strings(list)
+		for _, n := range list {
+			d := res.Scope[n]
+			if d.Gain != nil {
+				add(protocol.CompletionKindVariable, "gain = "+analysis.FormatNumber(d.Gain.Value), n)
+			} else {
+				add(protocol.CompletionKindFunction, "block", n)
+			}
+		}
+	}
+	last := ""
+	if len(toks) > 0 {
+		last = toks[len(toks)-1]
+	}
+	first := ""
+	if len(toks) > 0 {
+		first = toks[0]
+	}
+	switch {
+	case len(toks) == 0 && inLoop:
+		add(protocol.CompletionKindKeyword, "loop item", itemKeywords...)
+	case len(toks) == 0:
+		add(protocol.CompletionKindKeyword, "statement", topKeywords...)
+	case last == "via":
+		add(protocol.CompletionKindEnum, "discretization method", methods...)
+	case last == "sign":
+		add(protocol.CompletionKindEnum, "feedback sign", signs...)
+	case last == "require":
+		add(protocol.CompletionKindEnum, "metric", analysis.MetricNames()...)
+	case numberTokRE.MatchString(last):
+		switch {
+		case first == "sample":
+			add(protocol.CompletionKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
+		case first == "require" && len(toks) >= 2:
+			add(protocol.CompletionKindUnit, "unit", unitsMetric[toks[1]]...)
+		case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
+			add(protocol.CompletionKindUnit, "unit", unitsFreq...)
+		case first == "gain":
+			add(protocol.CompletionKindKeyword, "range", "min", "max")
+		case first == "block":
+			add(protocol.CompletionKindKeyword, "discretization", "via")
+		}
+	case first == "forward" || first == "feedback":
+		names()
+	case first == "block" && contains(toks, "="):
+		if last == "tustin" {
+			add(protocol.CompletionKindKeyword, "prewarp frequency", "prewarp")
+			break
+		}
+		names()
+		add(protocol.CompletionKindKeyword, "transform variable", "s", "z")
+		if !strings.ContainsAny(last, "+-*/^(=") {
+			add(protocol.CompletionKindKeyword, "discretization", "via")
+		}
+	}
+	if items == nil {
+		items = []protocol.CompletionItem{}
+	}
+	return protocol.CompletionList{Items: items}, nil
+}
+
+// insideLoop reports whether pos lies inside a loop's braces.
+func insideLoop(src []byte, pos syntax.Pos) bool {
+	f, _ := syntax.Parse("", src)
+	for _, st := range f.Stmts {
+		l, ok := st.(*syntax.LoopStmt)
+		if !ok {
+			continue
+		}
+		end := l.RBrace
+		if end == syntax.NoPos {
+			end = l.End()
+			if end < syntax.Pos(len(src)) && pos > end {
+				// An unclosed loop runs to the next statement.
+				end = syntax.Pos(len(src))
+			}
+		}
+		if l.LBrace != syntax.NoPos && l.LBrace < pos && pos <= end {
+			return true
+		}
+	}
+	return false
+}

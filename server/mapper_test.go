@@ -1,0 +1,86 @@
+package server
+
+import (
+	"strings"
+	"testing"
+
+	"ringside/server/protocol"
+	"ringside/syntax"
+)
+
+func TestMapper(t *testing.T) {
+	// "é" is 2 bytes / 1 UTF-16 unit / 1 code point; "😀" is 4 / 2 / 1.
+	src := []byte("gain é = 1\r\n# 😀x\r\nblock\n")
+	for _, tc := range []struct {
+		enc  string
+		off  int
+		line uint32
+		char uint32
+	}{
+		{protocol.EncodingUTF16, 0, 0, 0},
+		{protocol.EncodingUTF16, 7, 0, 6},   // after "gain é"
+		{protocol.EncodingUTF8, 7, 0, 7},    // bytes
+		{protocol.EncodingUTF32, 7, 0, 6},   // code points
+		{protocol.EncodingUTF16, 12, 0, 10}, // the "\n" of CRLF: end of line 0
+		{protocol.EncodingUTF16, 13, 1, 0},
+		{protocol.EncodingUTF16, 19, 1, 4}, // after "# 😀"
+		{protocol.EncodingUTF8, 19, 1, 6},
+		{protocol.EncodingUTF32, 19, 1, 3},
+		{protocol.EncodingUTF16, 20, 1, 5}, // after x
+		{protocol.EncodingUTF16, len(src), 3, 0},
+	} {
+		m := NewMapper(src, tc.enc)
+		p, err := m.OffsetPosition(syntax.Pos(tc.off))
+		if err != nil || p.Line != tc.line || p.Character != tc.char {
+			t.Errorf("%s OffsetPosition(%d) = %v %v, want %d:%d", tc.enc, tc.off, p, err, tc.line, tc.char)
+		}
+		if tc.off == 12 {
+			continue // inside CRLF: maps back to the line end, offset 11
+		}
+		off, err := m.PositionOffset(p)
+		if err != nil || int(off) != tc.off {
+			t.Errorf("%s PositionOffset(%v) = %d %v, want %d", tc.enc, p, off, err, tc.off)
+		}
+	}
+	m := NewMapper(src, "")
+	for _, tc := range []struct {
+		p    protocol.Position
+		want string
+	}{
+		{pos(0, 12), "invalid column 12 on line 0 (want 0-10 in utf-16)"},
+		{pos(9, 0), "invalid line 9 (want 0-3)"},
+		{pos(1, 3), "column 3 on line 1 falls inside a character"},
+	} {
+		if _, err := m.PositionOffset(tc.p); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("PositionOffset(%v) error %v, want %q", tc.p, err, tc.want)
+		}
+	}
+	if _, err := m.OffsetPosition(99); err == nil || err.Error() != "invalid offset 99 (want 0-28)" {
+		t.Errorf("OffsetPosition(99) error %v", err)
+	}
+	// invalid UTF-8 counts as one unit and never panics
+	bad := NewMapper([]byte("a\xffb"), protocol.EncodingUTF16)
+	if p, err := bad.OffsetPosition(2); err != nil || p.Character != 2 {
+		t.Errorf("invalid byte: %v %v", p, err)
+	}
+}
+
+func TestApplyChanges(t *testing.T) {
+	text := []byte("gain ké = 1\r\nblock 😀 = 2\r\n")
+	// replace "1" (UTF-16 col 10 on line 0) and, after it, the 😀 (cols 6-8 on line 1)
+	got, err := applyChanges(text, []protocol.TextDocumentContentChangeEvent{
+		{Range: &protocol.Range{Start: pos(0, 10), End: pos(0, 11)}, Text: "0.5"},
+		{Range: &protocol.Range{Start: pos(1, 6), End: pos(1, 8)}, Text: "b"},
+		{Range: &protocol.Range{Start: pos(2, 0), End: pos(2, 0)}, Text: "# end"},
+	}, protocol.EncodingUTF16)
+	if err != nil || string(got) != "gain ké = 0.5\r\nblock b = 2\r\n# end" {
+		t.Errorf("applyChanges = %q, %v", got, err)
+	}
+	if string(text) != "gain ké = 1\r\nblock 😀 = 2\r\n" {
+		t.Errorf("input modified: %q", text)
+	}
+	_, err = applyChanges(text, []protocol.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(0, 40), End: pos(0, 41)}, Text: "x"}}, protocol.EncodingUTF16)
+	if err == nil || !strings.Contains(err.Error(), "want 0-11") {
+		t.Errorf("bad range error: %v", err)
+	}
+}

@@ -1,0 +1,382 @@
+package server
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"go.lsp.dev/jsonrpc2"
+
+	"ringside/analysis"
+	"ringside/server/protocol"
+	"ringside/syntax"
+)
+
+func syntaxPos(i int) syntax.Pos { return syntax.Pos(i) }
+
+func TestLifecycle(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	// unknown method: MethodNotFound; unknown notification: ignored
+	if err := c.call("ringside/noSuchThing", map[string]any{}, nil); rpcCode(err) != jsonrpc2.MethodNotFound {
+		t.Errorf("unknown method: got %v, want MethodNotFound", err)
+	}
+	c.notify("ringside/noSuchNotification", map[string]any{})
+	if err := c.call(protocol.MethodInitialize, map[string]any{"capabilities": map[string]any{}}, nil); rpcCode(err) != jsonrpc2.InvalidRequest {
+		t.Errorf("second initialize: got %v, want InvalidRequest", err)
+	}
+	uri := c.open("stable.loop")
+	var syms []protocol.DocumentSymbol
+	if err := c.call(protocol.MethodDocumentSymbol, map[string]any{"textDocument": map[string]any{"uri": uri}}, &syms); err != nil || len(syms) == 0 {
+		t.Fatalf("documentSymbol: %v %v", syms, err)
+	}
+	if err := c.call(protocol.MethodShutdown, nil, nil); err != nil {
+		t.Fatalf("shutdown: %v", err)
+	}
+	if err := c.call(protocol.MethodHover, map[string]any{"textDocument": map[string]any{"uri": uri}, "position": pos(0, 0)}, nil); rpcCode(err) != jsonrpc2.InvalidRequest {
+		t.Errorf("request after shutdown: got %v, want InvalidRequest", err)
+	}
+	c.notify(protocol.MethodExit, nil)
+	if err := c.wait(); err != nil {
+		t.Errorf("Run after shutdown+exit = %v, want nil", err)
+	}
+}
+
+func TestBeforeInitialize(t *testing.T) {
+	sc, cc := netPipe()
+	done := make(chan error, 1)
+	go func() {
+		done <- Run(context.Background(), sc, sc, Config{OnBug: func(r string) { t.Errorf("bug: %s", r) }})
+	}()
+	conn := jsonrpc2.NewConn(jsonrpc2.NewHeaderStream(cc))
+	conn.Go(context.Background(), jsonrpc2.MethodNotFoundHandler)
+	defer conn.Close()
+	ctx, cancel := context.WithTimeout(context.Background(), waitTimeout)
+	defer cancel()
+	_, err := conn.Call(ctx, protocol.MethodHover, json.RawMessage(`{}`), nil)
+	if rpcCode(err) != protocol.CodeServerNotInitialized {
+		t.Errorf("hover before initialize: %v, want code -32002", err)
+	}
+	conn.Notify(ctx, protocol.MethodExit, nil)
+	select {
+	case err := <-done:
+		if !errors.Is(err, ErrNoShutdown) {
+			t.Errorf("exit without shutdown: Run = %v, want ErrNoShutdown", err)
+		}
+	case <-time.After(waitTimeout):
+		t.Fatal("Run did not return")
+	}
+}
+
+// frame builds one Content-Length framed message.
+func frame(body string) string {
+	return fmt.Sprintf("Content-Length: %d\r\n\r\n%s", len(body), body)
+}
+
+func TestMainExitStatus(t *testing.T) {
+	init := frame(`{"jsonrpc":"2.0","id":1,"method":"initialize","params":{"capabilities":{}}}`)
+	for _, tc := range []struct {
+		name, input string
+		want        int
+	}{
+		{"clean", init + frame(`{"jsonrpc":"2.0","id":2,"method":"shutdown"}`) + frame(`{"jsonrpc":"2.0","method":"exit"}`), 0},
+		{"exit without shutdown", init + frame(`{"jsonrpc":"2.0","method":"exit"}`), 1},
+		{"stream ends", init, 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var out, errOut bytes.Buffer
+			got := Main([]string{"--stdio", "--log-level", "error"}, strings.NewReader(tc.input), &out, &errOut)
+			if got != tc.want {
+				t.Errorf("Main = %d, want %d (stderr %s)", got, tc.want, errOut.String())
+			}
+			if !strings.HasPrefix(out.String(), "Content-Length: ") {
+				t.Errorf("stdout carries more than protocol: %q", out.String())
+			}
+		})
+	}
+	var errOut bytes.Buffer
+	if got := Main([]string{"--log-level", "loud"}, strings.NewReader(""), &bytes.Buffer{}, &errOut); got != 2 || !strings.Contains(errOut.String(), "log-level") {
+		t.Errorf("bad flag: %d %q", got, errOut.String())
+	}
+}
+
+// checkFile runs analysis the way `ringside check` does, for comparison.
+func checkFile(t *testing.T, root, rel string, quick bool, opts ...analysis.Options) *analysis.Result {
+	t.Helper()
+	path := filepath.Join(root, rel)
+	src, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o := analysis.DefaultOptions()
+	if len(opts) > 0 {
+		o = opts[0]
+	}
+	o.Quick = quick
+	return analysis.Check(context.Background(), path, src, analysis.Env{Roots: []string{root}, Options: o})
+}
+
+// wantDiagnostics converts a result's diagnostics the way the server must.
+func wantDiagnostics(t *testing.T, res *analysis.Result) []string {
+	var out []string
+	m := NewMapper(res.File.Src, protocol.EncodingUTF16)
+	for _, d := range res.Diagnostics {
+		if analysis.SummaryCode(d.Code) {
+			continue
+		}
+		r, err := m.SpanRange(d.Span)
+		if err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", r.Start.Line, r.Start.Character, r.End.Line, r.End.Character, severity(d.Severity), d.Code, d.Message))
+	}
+	return out
+}
+
+func gotDiagnostics(ds []protocol.Diagnostic) []string {
+	var out []string
+	for _, d := range ds {
+		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", d.Range.Start.Line, d.Range.Start.Character, d.Range.End.Line, d.Range.End.Character, d.Severity, d.Code, d.Message))
+	}
+	return out
+}
+
+func TestDiagnosticsQuickThenFullOnSave(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("unstable.loop")
+	quick := c.waitDiags(uri, anyDiags)
+	if got, want := strings.Join(gotDiagnostics(quick), "\n"), strings.Join(wantDiagnostics(t, checkFile(t, c.root, "unstable.loop", true)), "\n"); got != want {
+		t.Errorf("quick diagnostics:\n%s\nwant (as ringside check, quick):\n%s", got, want)
+	}
+	if findCode(quick, analysis.CodePoleOutside) != nil {
+		t.Errorf("quick check reported loop numerics")
+	}
+	c.save(uri)
+	full := c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
+	if got, want := strings.Join(gotDiagnostics(full), "\n"), strings.Join(wantDiagnostics(t, checkFile(t, c.root, "unstable.loop", false)), "\n"); got != want {
+		t.Errorf("full diagnostics:\n%s\nwant (as ringside check):\n%s", got, want)
+	}
+	for _, d := range full {
+		if d.Source != "ringside" || d.Code == analysis.CodeLoopVerdict || d.Code == analysis.CodeGainLimits {
+			t.Errorf("diagnostic %s: source %q (summary codes must not be published)", d.Code, d.Source)
+		}
+	}
+	po := findCode(full, analysis.CodePoleOutside)
+	if po.Severity != protocol.SeverityError || len(po.RelatedInformation) == 0 || !strings.HasSuffix(string(po.RelatedInformation[0].Location.URI), "plants/belt.loop") {
+		t.Errorf("pole-outside: severity %d related %+v", po.Severity, po.RelatedInformation)
+	}
+	var data diagData
+	if err := json.Unmarshal(po.Data, &data); err != nil || len(data.Fixes) == 0 || !strings.Contains(data.Fixes[0].Title, "11.4") {
+		t.Errorf("pole-outside data: %s (%v)", po.Data, err)
+	}
+	if w := findCode(full, analysis.CodeBlockOnCircle); w == nil || w.Severity != protocol.SeverityWarning {
+		t.Errorf("block-pole-on-circle missing or not a warning: %+v", w)
+	}
+}
+
+func TestTriggerChangeRunsFullWhileTyping(t *testing.T) {
+	c := newClient(t, clientOptions{init: map[string]any{"initializationOptions": map[string]any{"trigger": "change"}}})
+	uri := c.open("unstable.loop")
+	c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
+	// switch back to save through didChangeConfiguration (under "ringside")
+	c.notify(protocol.MethodDidChangeConfiguration, map[string]any{"settings": map[string]any{"ringside": map[string]any{"trigger": "save"}}})
+	c.waitDiags(uri, lacksCode(analysis.CodePoleOutside))
+	c.replace(uri, c.text(uri)+"\n")
+	c.waitDiags(uri, lacksCode(analysis.CodePoleOutside))
+}
+
+func TestSettingsReachAnalysis(t *testing.T) {
+	// stable.loop has PM 89.1° (see ringside check); requiring 95° must fail it.
+	c := newClient(t, clientOptions{init: map[string]any{"initializationOptions": map[string]any{"ringside": map[string]any{"phaseMarginDeg": 95, "trigger": "change"}}}})
+	uri := c.open("stable.loop")
+	c.waitDiags(uri, hasCode(analysis.CodePhaseMarginLow))
+	c.notify(protocol.MethodDidChangeConfiguration, map[string]any{"settings": map[string]any{"phaseMarginDeg": 30}})
+	// every check is full (trigger change): the next publication has the
+	// figures and no longer misses the phase margin
+	if ds := c.waitDiags(uri, anyDiags); findCode(ds, analysis.CodePhaseMarginLow) != nil {
+		t.Errorf("phase margin 30° still missed: %v", gotDiagnostics(ds))
+	}
+	// a bad value is refused and changes nothing
+	if _, err := parseSettings(defaultSettings(), json.RawMessage(`{"tolerance": 5}`)); err == nil || !strings.Contains(err.Error(), "tolerance") {
+		t.Errorf("bad tolerance accepted: %v", err)
+	}
+}
+
+func TestDependentFileRechecked(t *testing.T) {
+	c := newClient(t, clientOptions{init: map[string]any{"initializationOptions": map[string]any{"trigger": "change"}}})
+	uri := c.open("unstable.loop")
+	c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
+	belt := c.open("plants/belt.loop")
+	c.waitDiags(belt, anyDiags)
+	// Break the used file: unstable.loop must be re-checked and say so.
+	c.replace(belt, strings.Replace(c.text(belt), "gain kp = 0.8", "gain kp = (", 1))
+	c.waitDiags(uri, hasCode(analysis.CodeUseErrors))
+}
+
+func TestHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("unstable.loop")
+	hover := func(p protocol.Position) (string, bool) {
+		t.Helper()
+		var raw json.RawMessage
+		if err := c.call(protocol.MethodHover, protocol.TextDocumentPositionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Position: p}, &raw); err != nil {
+			t.Fatalf("hover: %v", err)
+		}
+		if string(raw) == "null" {
+			return "", false
+		}
+		var h protocol.Hover
+		if err := json.Unmarshal(raw, &h); err != nil {
+			t.Fatal(err)
+		}
+		if h.Contents.Kind != "markdown" {
+			t.Errorf("hover kind %q", h.Contents.Kind)
+		}
+		return h.Contents.Value, true
+	}
+	// block used in a path, declared in the used file
+	belt, ok := hover(c.posOf(uri, "belt\n", 0, 1))
+	for _, want := range []string{"**block belt**", "zero-order hold", "T = 1 ms", "H(s) = 40 / (s^2 + 9 s + 40)", "H(z) = ", "| pole | radius | angle | ζ | ωn | τ | mode |", "decaying, oscillating", "DC gain H(1) = 1"} {
+		if !ok || !strings.Contains(belt, want) {
+			t.Errorf("hover on belt lacks %q:\n%s", want, belt)
+		}
+	}
+	// the loop name
+	loop, ok := hover(c.posOf(uri, "belt_speed", 0, 2))
+	for _, want := range []string{"UNSTABLE", "closed-loop pole", "| gain | -32.9 dB | 1.01 Hz |", "| phase |", "✗ gain_margin >= 6 dB", "missed"} {
+		if !ok || !strings.Contains(loop, want) {
+			t.Errorf("hover on loop lacks %q:\n%s", want, loop)
+		}
+	}
+	// a gain, at its declaration
+	gain, ok := hover(c.posOf(uri, "ki = 400", 0, 0))
+	for _, want := range []string{"**gain ki** = 400", "**unstable**", "0 < ki < 15.9706 (exact)", "up to ki = 11.4"} {
+		if !ok || !strings.Contains(gain, want) {
+			t.Errorf("hover on gain lacks %q:\n%s", want, gain)
+		}
+	}
+	// null on a comment, a blank line, a keyword, a number
+	for _, p := range []protocol.Position{pos(0, 3), pos(2, 0), c.posOf(uri, "gain ki", 0, 1), c.posOf(uri, "400", 0, 1), c.posOf(uri, "forward", 0, 2)} {
+		if h, ok := hover(p); ok {
+			t.Errorf("hover at %v = %q, want null", p, h)
+		}
+	}
+}
+
+// changeTrigger makes every check full, so that any publication after an
+// edit shows the loop figures (a quick one would lack them trivially).
+var changeTrigger = clientOptions{init: map[string]any{"initializationOptions": map[string]any{"trigger": "change"}}}
+
+func TestCodeActionFixesGain(t *testing.T) {
+	c := newClient(t, changeTrigger)
+	uri := c.open("unstable.loop")
+	ds := c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
+	d := findCode(ds, analysis.CodePoleOutside)
+	var actions []protocol.CodeAction
+	if err := c.call(protocol.MethodCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
+		Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{*d}}}, &actions); err != nil {
+		t.Fatal(err)
+	}
+	var fix *protocol.CodeAction
+	for i := range actions {
+		if actions[i].Kind != protocol.CodeActionQuickFix {
+			t.Errorf("action kind %q", actions[i].Kind)
+		}
+		if strings.HasPrefix(actions[i].Title, "Set ki to 11.4") {
+			fix = &actions[i]
+		}
+	}
+	if fix == nil {
+		t.Fatalf("no gain fix among %+v", actions)
+	}
+	v := c.applyEdit(fix.Edit)
+	if !strings.Contains(c.text(uri), "gain ki = 11.4\n") {
+		t.Fatalf("edit gave:\n%s", c.text(uri))
+	}
+	after := c.waitDiagsFrom(uri, v, anyDiags)
+	if findCode(after, analysis.CodePoleOutside) != nil || findCode(after, analysis.CodeBlockOnCircle) == nil {
+		t.Errorf("after the fix: %v", gotDiagnostics(after))
+	}
+	if findCode(after, analysis.CodeGainMarginLow) != nil {
+		t.Errorf("gain margin still low after the fix: %v", gotDiagnostics(after))
+	}
+}
+
+// TestQuickFixes applies the first fix of each diagnostic kind and checks
+// the diagnostic is gone.
+func TestQuickFixes(t *testing.T) {
+	for _, tc := range []struct {
+		name, code, title, text, want string
+	}{
+		{"sign", analysis.CodeBadSign, "Change to `sign negative`", "sample 1 ms\nblock c = 0.5 / (z - 0.5)\nloop l {\n  forward c\n  sign negativ\n}\n", "sign negative"},
+		{"metric", analysis.CodeUnknownMetric, "Change to gain_margin", "sample 1 ms\nblock c = 0.5 / (z - 0.5)\nloop l {\n  forward c\n  require gain_margn >= 6 dB\n}\n", "require gain_margin >= 6 dB"},
+		{"via", analysis.CodeNoVia, "Add `via zoh`", "sample 1 ms\nblock p = 1 / (s + 1)\nloop l {\n  forward p\n}\n", "via zoh"},
+		{"sample", analysis.CodeNoSample, "Add `sample 1 ms`", "block p = 1 / (s + 1) via zoh\nloop l {\n  forward p\n}\n", "sample 1 ms\n"},
+		{"cap", analysis.CodePoleOutside, "Cap ki", "sample 1 ms\ngain ki = 3\nblock c = ki * z^-1\nloop l {\n  forward c\n}\n", " max "},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c := newClient(t, changeTrigger)
+			uri := c.open("fix.loop", tc.text)
+			ds := c.waitDiags(uri, hasCode(tc.code))
+			d := findCode(ds, tc.code)
+			var actions []protocol.CodeAction
+			if err := c.call(protocol.MethodCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
+				Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{*d}}}, &actions); err != nil {
+				t.Fatal(err)
+			}
+			var fix *protocol.CodeAction
+			for i := range actions {
+				if strings.HasPrefix(actions[i].Title, tc.title) {
+					fix = &actions[i]
+				}
+			}
+			if fix == nil {
+				t.Fatalf("no action %q among %+v (diag %s)", tc.title, actions, d.Message)
+			}
+			v := c.applyEdit(fix.Edit)
+			if !strings.Contains(c.text(uri), tc.want) {
+				t.Fatalf("after the fix:\n%s", c.text(uri))
+			}
+			if ds := c.waitDiagsFrom(uri, v, anyDiags); findCode(ds, tc.code) != nil {
+				t.Errorf("%s still reported: %v", tc.code, gotDiagnostics(ds))
+			}
+		})
+	}
+}
+
+// TestFixInUsedFile: a fix whose edit lands in the file reached by use is
+// mapped with that file's text and URI. (analysis proposes fixes only for
+// names declared in the checked file today, so the fix is built here.)
+func TestFixInUsedFile(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("unstable.loop")
+	belt := c.open("plants/belt.loop")
+	sn := c.server.snapshot()
+	res, err := sn.check(context.Background(), filepath.Join(c.root, "unstable.loop"), false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := res.Scope["kp"]
+	we, ok := sn.workspaceEdit(res, analysis.Fix{Title: "t", Edits: []analysis.Edit{{Path: d.Path, Span: d.Gain.Stmt.Value.Span, NewText: "0.4"}}})
+	if !ok || len(we.Changes[belt]) != 1 || len(we.Changes[uri]) != 0 {
+		t.Fatalf("edit %+v", we)
+	}
+	c.applyEdit(&we)
+	if !strings.Contains(c.text(belt), "gain kp = 0.4\n") {
+		t.Errorf("belt.loop after the edit:\n%s", c.text(belt))
+	}
+}
+
+func readFile(t *testing.T, root, rel string) string {
+	b, err := os.ReadFile(filepath.Join(root, rel))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
+}

@@ -1,0 +1,644 @@
+package server
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/url"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"time"
+
+	"go.lsp.dev/jsonrpc2"
+	"go.uber.org/zap"
+
+	"ringside/analysis"
+	"ringside/server/protocol"
+)
+
+// session is the mutable state of a server, guarded by Server.mu.
+type session struct {
+	docs     map[string]*document // open documents by cleaned absolute path
+	roots    []string             // workspace folders, absolute
+	settings Settings
+	encoding string
+	progress bool // the client accepts window/workDoneProgress/create
+	// gen counts every change that can alter an analysis (text, settings,
+	// folders, files on disk); cached results of an older gen are stale.
+	gen   uint64
+	cache map[cacheKey]*analysis.Result
+	// known are the .loop files of the workspace (scanned or opened).
+	known map[string]bool
+	diag  map[string]*diagState
+}
+
+type document struct {
+	uri     protocol.DocumentURI
+	path    string
+	version int32
+	text    []byte // never modified in place: a change makes a new slice
+}
+
+type cacheKey struct {
+	path string
+	full bool
+	gen  uint64
+}
+
+// diagState tracks the pending check of one open document.
+type diagState struct {
+	seq    uint64
+	timer  *time.Timer
+	cancel context.CancelFunc
+	uses   map[string]bool // files the last check read
+}
+
+func newSession() *session {
+	return &session{
+		docs:     map[string]*document{},
+		settings: defaultSettings(),
+		encoding: protocol.EncodingUTF16,
+		cache:    map[cacheKey]*analysis.Result{},
+		known:    map[string]bool{},
+		diag:     map[string]*diagState{},
+	}
+}
+
+// Settings are the user's options, from initializationOptions or
+// workspace/didChangeConfiguration, either at the top level or under
+// "ringside".
+type Settings struct {
+	GainMarginDB   float64 `json:"gainMarginDb"`
+	PhaseMarginDeg float64 `json:"phaseMarginDeg"`
+	Trigger        string  `json:"trigger"` // "save" or "change"
+	Tolerance      float64 `json:"tolerance"`
+}
+
+func defaultSettings() Settings {
+	o := analysis.DefaultOptions()
+	return Settings{GainMarginDB: o.GainMarginDB, PhaseMarginDeg: o.PhaseMarginDeg, Trigger: "save", Tolerance: o.Tolerance}
+}
+
+// parseSettings overlays raw settings on cur; a bad value is an error
+// naming it and leaves cur as it was.
+func parseSettings(cur Settings, raw json.RawMessage) (Settings, error) {
+	raw = bytes.TrimSpace(raw)
+	if len(raw) == 0 || string(raw) == "null" {
+		return cur, nil
+	}
+	var top map[string]json.RawMessage
+	if err := json.Unmarshal(raw, &top); err != nil {
+		return cur, fmt.Errorf("settings must be an object: %v", err)
+	}
+	if inner, ok := top["ringside"]; ok {
+		if err := json.Unmarshal(inner, &top); err != nil {
+			return cur, fmt.Errorf("settings.ringside must be an object: %v", err)
+		}
+	}
+	next := cur
+	num := func(key string, dst *float64, ok func(float64) bool, want string) error {
+		v, present := top[key]
+		if !present || string(v) == "null" {
+			return nil
+		}
+		var f float64
+		if err := json.Unmarshal(v, &f); err != nil || !ok(f) {
+			return fmt.Errorf("setting %s = %s: want %s", key, v, want)
+		}
+		*dst = f
+		return nil
+	}
+	finite := func(f float64) bool { return !math.IsNaN(f) && !math.IsInf(f, 0) }
+	if err := num("gainMarginDb", &next.GainMarginDB, func(f float64) bool { return finite(f) && f >= 0 && f <= 100 }, "a number of dB from 0 to 100"); err != nil {
+		return cur, err
+	}
+	if err := num("phaseMarginDeg", &next.PhaseMarginDeg, func(f float64) bool { return finite(f) && f >= 0 && f < 180 }, "a number of degrees from 0 to 180"); err != nil {
+		return cur, err
+	}
+	if err := num("tolerance", &next.Tolerance, func(f float64) bool { return f > 0 && f < 0.1 }, "a number between 0 and 0.1"); err != nil {
+		return cur, err
+	}
+	if v, present := top["trigger"]; present && string(v) != "null" {
+		var t string
+		if json.Unmarshal(v, &t) != nil || (t != "save" && t != "change") {
+			return cur, fmt.Errorf("setting trigger = %s: want \"save\" or \"change\"", v)
+		}
+		next.Trigger = t
+	}
+	return next, nil
+}
+
+func (st Settings) options(quick bool) analysis.Options {
+	return analysis.Options{GainMarginDB: st.GainMarginDB, PhaseMarginDeg: st.PhaseMarginDeg, Tolerance: st.Tolerance, Quick: quick}
+}
+
+// ---- URIs ----
+
+// uriPath converts a file URI to a cleaned absolute path.
+func uriPath(u protocol.DocumentURI) (string, error) {
+	pu, err := url.Parse(string(u))
+	if err != nil {
+		return "", fmt.Errorf("invalid URI %q: %v", u, err)
+	}
+	if pu.Scheme != "file" {
+		return "", fmt.Errorf("unsupported URI %q: only file URIs are served", u)
+	}
+	p := pu.Path
+	if runtime.GOOS == "windows" {
+		p = strings.TrimPrefix(p, "/")
+	}
+	p = filepath.FromSlash(p)
+	if !filepath.IsAbs(p) {
+		return "", fmt.Errorf("URI %q has no absolute path", u)
+	}
+	return filepath.Clean(p), nil
+}
+
+// pathURI converts an absolute path to a file URI.
+func pathURI(p string) protocol.DocumentURI {
+	p = filepath.ToSlash(p)
+	if !strings.HasPrefix(p, "/") {
+		p = "/" + p
+	}
+	return protocol.DocumentURI((&url.URL{Scheme: "file", Path: p}).String())
+}
+
+// ---- snapshots ----
+
+// snapshot is an immutable view of the session for one request or check.
+type snapshot struct {
+	s        *Server
+	docs     map[string]*document
+	roots    []string
+	settings Settings
+	encoding string
+	gen      uint64
+}
+
+// snapshot copies the current state (call with s.mu unlocked).
+func (s *Server) snapshot() *snapshot {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.snapshotLocked()
+}
+
+func (s *Server) snapshotLocked() *snapshot {
+	docs := make(map[string]*document, len(s.ses.docs))
+	for k, v := range s.ses.docs {
+		docs[k] = v
+	}
+	return &snapshot{s: s, docs: docs, roots: append([]string(nil), s.ses.roots...), settings: s.ses.settings, encoding: s.ses.encoding, gen: s.ses.gen}
+}
+
+// read returns a file's text: the open buffer, else the disk.
+func (sn *snapshot) read(path string) ([]byte, error) {
+	if d, ok := sn.docs[path]; ok {
+		return d.text, nil
+	}
+	return os.ReadFile(path)
+}
+
+// mapper returns a mapper for a file's current text, or an error.
+func (sn *snapshot) mapper(path string) (*Mapper, []byte, error) {
+	src, err := sn.read(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	return NewMapper(src, sn.encoding), src, nil
+}
+
+// check analyses path (quick or full) from the snapshot, reusing a result of
+// the same generation.
+func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysis.Result, error) {
+	key := cacheKey{path: path, full: full, gen: sn.gen}
+	s := sn.s
+	s.mu.Lock()
+	if r, ok := s.ses.cache[key]; ok {
+		s.mu.Unlock()
+		return r, nil
+	}
+	s.mu.Unlock()
+	src, err := sn.read(path)
+	if err != nil {
+		return nil, err
+	}
+	env := analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(!full)}
+	res := analysis.Check(ctx, path, src, env)
+	if ctx.Err() != nil {
+		return nil, errCancelled
+	}
+	s.mu.Lock()
+	if s.ses.gen == sn.gen {
+		if len(s.ses.cache) > 256 {
+			for k := range s.ses.cache {
+				if k.gen != sn.gen {
+					delete(s.ses.cache, k)
+				}
+			}
+		}
+		s.ses.cache[key] = res
+	}
+	s.mu.Unlock()
+	return res, nil
+}
+
+// docParams resolves a request's document: its snapshot, path and mapper.
+func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
+	path, err := uriPath(uri)
+	if err != nil {
+		return nil, "", nil, nil, errorf(jsonrpc2.InvalidParams, "%v", err)
+	}
+	sn := s.snapshot()
+	m, src, err := sn.mapper(path)
+	if err != nil {
+		return nil, "", nil, nil, errorf(protocol.CodeRequestFailed, "cannot read %s: %v", path, err)
+	}
+	return sn, path, m, src, nil
+}
+
+// ---- lifecycle ----
+
+func (s *Server) initialize(params json.RawMessage) (any, error) {
+	var p protocol.InitializeParams
+	if err := decode(params, &p); err != nil {
+		return nil, err
+	}
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	ses := s.ses
+	for _, f := range p.WorkspaceFolders {
+		if path, err := uriPath(f.URI); err == nil {
+			ses.roots = append(ses.roots, path)
+		}
+	}
+	if len(ses.roots) == 0 && p.RootURI != "" {
+		if path, err := uriPath(p.RootURI); err == nil {
+			ses.roots = append(ses.roots, path)
+		}
+	}
+	if len(ses.roots) == 0 && p.RootPath != "" && filepath.IsAbs(p.RootPath) {
+		ses.roots = append(ses.roots, filepath.Clean(p.RootPath))
+	}
+	if g := p.Capabilities.General; g != nil {
+		// The client lists encodings in order of preference; take the
+		// first one the server knows.
+	pick:
+		for _, e := range g.PositionEncodings {
+			switch e {
+			case protocol.EncodingUTF8, protocol.EncodingUTF16, protocol.EncodingUTF32:
+				ses.encoding = e
+				break pick
+			}
+		}
+	}
+	if w := p.Capabilities.Window; w != nil {
+		ses.progress = w.WorkDoneProgress
+	}
+	if st, err := parseSettings(ses.settings, p.InitializationOptions); err != nil {
+		s.log.Warn("initializationOptions ignored", zap.Error(err))
+	} else {
+		ses.settings = st
+	}
+	s.initialized = true
+	version := s.cfg.Version
+	if version == "" {
+		version = "dev"
+	}
+	return protocol.InitializeResult{
+		ServerInfo: &protocol.ServerInfo{Name: "ringside", Version: version},
+		Capabilities: protocol.ServerCapabilities{
+			PositionEncoding:                ses.encoding,
+			TextDocumentSync:                &protocol.TextDocumentSyncOptions{OpenClose: true, Change: protocol.SyncIncremental, Save: &protocol.SaveOptions{IncludeText: false}},
+			HoverProvider:                   true,
+			CompletionProvider:              &protocol.CompletionOptions{TriggerCharacters: []string{" "}},
+			DefinitionProvider:              true,
+			ReferencesProvider:              true,
+			DocumentSymbolProvider:          true,
+			WorkspaceSymbolProvider:         true,
+			CodeActionProvider:              &protocol.CodeActionOptions{CodeActionKinds: []string{protocol.CodeActionQuickFix}},
+			CodeLensProvider:                &protocol.CodeLensOptions{},
+			DocumentFormattingProvider:      true,
+			DocumentRangeFormattingProvider: true,
+			RenameProvider:                  &protocol.RenameOptions{PrepareProvider: true},
+			FoldingRangeProvider:            true,
+			ExecuteCommandProvider:          &protocol.ExecuteCommandOptions{Commands: []string{plotCommand}},
+			SemanticTokensProvider:          &protocol.SemanticTokensOptions{Legend: protocol.SemanticTokensLegend{TokenTypes: tokenTypes, TokenModifiers: []string{}}, Full: true},
+			InlayHintProvider:               true,
+		},
+	}, nil
+}
+
+// stopAll cancels pending checks (shutdown, exit).
+func (s *Server) stopAll() {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	for _, d := range s.ses.diag {
+		if d.timer != nil {
+			d.timer.Stop()
+		}
+		if d.cancel != nil {
+			d.cancel()
+		}
+		d.seq++
+	}
+}
+
+// ---- text synchronisation ----
+
+func (s *Server) didOpen(params json.RawMessage) error {
+	var p protocol.DidOpenTextDocumentParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	path, err := uriPath(p.TextDocument.URI)
+	if err != nil {
+		return err
+	}
+	s.mu.Lock()
+	s.ses.docs[path] = &document{uri: p.TextDocument.URI, path: path, version: p.TextDocument.Version, text: []byte(p.TextDocument.Text)}
+	s.ses.known[path] = true
+	s.ses.gen++
+	s.mu.Unlock()
+	s.changed(path, false)
+	return nil
+}
+
+func (s *Server) didChange(params json.RawMessage) error {
+	var p protocol.DidChangeTextDocumentParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	path, err := uriPath(p.TextDocument.URI)
+	if err != nil {
+		return err
+	}
+	s.mu.Lock()
+	d, ok := s.ses.docs[path]
+	if !ok {
+		s.mu.Unlock()
+		return fmt.Errorf("didChange for %s, which is not open", path)
+	}
+	text, err := applyChanges(d.text, p.ContentChanges, s.ses.encoding)
+	if err != nil {
+		s.mu.Unlock()
+		// The client's view and ours differ now; say so loudly rather than
+		// analyse text the user never wrote.
+		s.notify(protocol.MethodLogMessage, map[string]any{"type": 1, "message": "ringside: " + err.Error() + "; close and reopen the file to resynchronise"})
+		return err
+	}
+	s.ses.docs[path] = &document{uri: d.uri, path: path, version: p.TextDocument.Version, text: text}
+	s.ses.gen++
+	s.mu.Unlock()
+	s.changed(path, false)
+	return nil
+}
+
+// applyChanges applies LSP content changes in order to a copy of text.
+func applyChanges(text []byte, changes []protocol.TextDocumentContentChangeEvent, encoding string) ([]byte, error) {
+	for i, c := range changes {
+		if c.Range == nil {
+			text = []byte(c.Text)
+			continue
+		}
+		m := NewMapper(text, encoding)
+		span, err := m.RangeSpan(*c.Range)
+		if err != nil {
+			return nil, fmt.Errorf("change %d: %v", i, err)
+		}
+		next := make([]byte, 0, len(text)-int(span.To-span.From)+len(c.Text))
+		next = append(next, text[:span.From]...)
+		next = append(next, c.Text...)
+		next = append(next, text[span.To:]...)
+		text = next
+	}
+	return text, nil
+}
+
+func (s *Server) didSave(params json.RawMessage) error {
+	var p protocol.DidSaveTextDocumentParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	path, err := uriPath(p.TextDocument.URI)
+	if err != nil {
+		return err
+	}
+	s.mu.Lock()
+	if d, ok := s.ses.docs[path]; ok && p.Text != nil && *p.Text != string(d.text) {
+		s.ses.docs[path] = &document{uri: d.uri, path: path, version: d.version, text: []byte(*p.Text)}
+	}
+	s.ses.gen++
+	s.mu.Unlock()
+	s.changed(path, true)
+	return nil
+}
+
+func (s *Server) didClose(params json.RawMessage) error {
+	var p protocol.DidCloseTextDocumentParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	path, err := uriPath(p.TextDocument.URI)
+	if err != nil {
+		return err
+	}
+	s.mu.Lock()
+	uri := protocol.DocumentURI("")
+	if d, ok := s.ses.docs[path]; ok {
+		uri = d.uri
+	}
+	delete(s.ses.docs, path)
+	if d := s.ses.diag[path]; d != nil {
+		if d.timer != nil {
+			d.timer.Stop()
+		}
+		if d.cancel != nil {
+			d.cancel()
+		}
+		delete(s.ses.diag, path)
+	}
+	s.ses.gen++
+	s.mu.Unlock()
+	if uri != "" {
+		s.notify(protocol.MethodPublishDiagnostics, protocol.PublishDiagnosticsParams{URI: uri, Diagnostics: []protocol.Diagnostic{}})
+	}
+	// Files that used the closed buffer now read it from disk.
+	s.changed(path, false)
+	return nil
+}
+
+func (s *Server) didChangeConfiguration(params json.RawMessage) error {
+	var p protocol.DidChangeConfigurationParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	s.mu.Lock()
+	st, err := parseSettings(s.ses.settings, p.Settings)
+	if err == nil {
+		s.ses.settings = st
+		s.ses.gen++
+	}
+	s.mu.Unlock()
+	if err != nil {
+		return err
+	}
+	s.recheckAll(false)
+	return nil
+}
+
+func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {
+	var p protocol.DidChangeWorkspaceFoldersParams
+	if err := decode(params, &p); err != nil {
+		return err
+	}
+	s.mu.Lock()
+	for _, f := range p.Event.Removed {
+		if path, err := uriPath(f.URI); err == nil {
+			for i, r := range s.ses.roots {
+				if r == path {
+					s.ses.roots = append(s.ses.roots[:i], s.ses.roots[i+1:]...)
+					break
+				}
+			}
+		}
+	}
+	for _, f := range p.Event.Added {
+		if path, err := uriPath(f.URI); err == nil {
+			s.ses.roots = append(s.ses.roots, path)
+		}
+	}
+	s.ses.gen++
+	s.mu.Unlock()
+	s.startScan()
+	s.recheckAll(false)
+	return nil
+}
+
+// filesChanged handles files changed on disk: every open file is re-checked.
+func (s *Server) filesChanged() {
+	s.mu.Lock()
+	s.ses.gen++
+	s.mu.Unlock()
+	s.recheckAll(false)
+}
+
+// ---- diagnostics scheduling ----
+
+// changed schedules the check of path and of every open file whose last
+// check read it. save asks for the full analysis at once.
+func (s *Server) changed(path string, save bool) {
+	s.mu.Lock()
+	var targets []string
+	if _, open := s.ses.docs[path]; open {
+		targets = append(targets, path)
+	}
+	for p, d := range s.ses.diag {
+		if p != path && d.uses[path] {
+			if _, open := s.ses.docs[p]; open {
+				targets = append(targets, p)
+			}
+		}
+	}
+	s.mu.Unlock()
+	for _, t := range targets {
+		s.schedule(t, save)
+	}
+}
+
+func (s *Server) recheckAll(save bool) {
+	s.mu.Lock()
+	var targets []string
+	for p := range s.ses.docs {
+		targets = append(targets, p)
+	}
+	s.mu.Unlock()
+	for _, t := range targets {
+		s.schedule(t, save)
+	}
+}
+
+// schedule (re)starts the check of an open document: after the debounce
+// delay while typing, at once on save. A newer schedule supersedes an older
+// one, whose result is dropped.
+func (s *Server) schedule(path string, save bool) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.shutdown {
+		return
+	}
+	d := s.ses.diag[path]
+	if d == nil {
+		d = &diagState{}
+		s.ses.diag[path] = d
+	}
+	if d.timer != nil {
+		d.timer.Stop()
+	}
+	if d.cancel != nil {
+		d.cancel()
+	}
+	d.seq++
+	seq := d.seq
+	full := save || s.ses.settings.Trigger == "change"
+	ctx, cancel := context.WithCancel(s.ctx)
+	d.cancel = cancel
+	delay := s.cfg.Debounce
+	if save || delay < 0 {
+		delay = 0
+	}
+	run := func() { s.runCheck(ctx, path, seq, full) }
+	if delay == 0 {
+		d.timer = nil
+		go run()
+		return
+	}
+	d.timer = time.AfterFunc(delay, run)
+}
+
+// runCheck analyses one document and publishes its diagnostics, unless a
+// newer check was scheduled meanwhile.
+func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full bool) {
+	defer func() {
+		if r := recover(); r != nil {
+			s.bug("panic checking %s: %v\n%s", path, r, debugStack())
+		}
+	}()
+	sn := s.snapshot()
+	doc, ok := sn.docs[path]
+	if !ok {
+		return
+	}
+	res, err := sn.check(ctx, path, full)
+	if err != nil {
+		return
+	}
+	m := NewMapper(doc.text, sn.encoding)
+	diags := sn.protocolDiagnostics(res, m)
+	uses := map[string]bool{}
+	for p := range res.Files {
+		uses[p] = true
+	}
+	// publishing is serialised so that an older check can never overwrite
+	// the diagnostics of a newer one.
+	s.publishMu.Lock()
+	defer s.publishMu.Unlock()
+	s.mu.Lock()
+	d := s.ses.diag[path]
+	current := d != nil && d.seq == seq && ctx.Err() == nil
+	if current {
+		d.uses = uses
+	}
+	s.mu.Unlock()
+	if !current {
+		return
+	}
+	v := doc.version
+	s.notify(protocol.MethodPublishDiagnostics, protocol.PublishDiagnosticsParams{URI: doc.uri, Version: &v, Diagnostics: diags})
+}
+
+func debugStack() string { return string(debug.Stack()) }

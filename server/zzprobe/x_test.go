@@ -1,2 +1,0 @@
-package x
-import _ "go.lsp.dev/protocol"
