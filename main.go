@@ -325,5 +325,6 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 }
 
 func runServe(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	server.Version = version
 	return server.Main(args, stdin, stdout, stderr)
 }
