@@ -430,3 +430,20 @@ func TestBudget(t *testing.T) {
 		t.Errorf("%d analysed + %d stopped != 200 loops", analysed, stopped)
 	}
 }
+
+// A loop using a gain and a block of another file gets fixes that edit
+// that file.
+func TestFixesInUsedFile(t *testing.T) {
+	r := checkSrc(t, "use \"parts.loop\"\nsample 1 ms\nloop l {\n  forward k p\n  feedback d\n}\nblock d = z^-1\nloop m {\n  forward cont\n  feedback d\n}\n",
+		map[string]string{"parts.loop": "gain k = 1.8\nblock p = 1 / (z - 0.9)\nblock cont = 5 / (s + 5)\n"})
+	parts := filepath.Join(filepath.Dir(r.Path), "parts.loop")
+	for _, code := range []string{CodePoleOutside, CodeNoVia} {
+		d := findDiag(r, code)
+		if d == nil || len(d.Fixes) == 0 {
+			t.Fatalf("%s: no diagnostic or no fix: %+v", code, d)
+		}
+		if e := d.Fixes[0].Edits[0]; e.Path != parts {
+			t.Errorf("%s fix edits %s, want %s", code, e.Path, parts)
+		}
+	}
+}

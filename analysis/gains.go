@@ -75,7 +75,20 @@ func (c *checker) affine(l *Loop, name string, k0 float64) (a, b poly.Poly, ok b
 // gainLimits computes each gain's stable interval and safe maximum over the
 // loops of this file that use it, then attaches gain fixes.
 func (c *checker) gainLimits(ctx context.Context) {
-	for _, g := range c.res.Gains {
+	// This file's gains, then gains of used files that its loops depend on
+	// (so that a fix may edit the file declaring the gain).
+	gains := append([]*Gain(nil), c.res.Gains...)
+	var used []string
+	for name, d := range c.res.Scope {
+		if d.Gain != nil && d.Path != c.res.Path {
+			used = append(used, name)
+		}
+	}
+	sort.Strings(used)
+	for _, name := range used {
+		gains = append(gains, c.res.Scope[name].Gain)
+	}
+	for _, g := range gains {
 		if ctx.Err() != nil {
 			break
 		}

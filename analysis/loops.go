@@ -115,10 +115,8 @@ func (c *checker) reportUnusable(d *Decl, id *syntax.Ident) {
 	if bv.v == 's' && bv.contOK && (st.Via == nil || st.Via.Method == nil) {
 		x := c.diags.add(c.res.Path, id.Span, Error, CodeNoVia,
 			fmt.Sprintf("block %s is continuous (in s) and has no `via`: the loop needs it in z; add a discretization method such as `via zoh` (a plant behind a DAC and sample-and-hold)", id.Name))
-		if d.Path == c.res.Path {
-			x.Fixes = append(x.Fixes, Fix{Title: fmt.Sprintf("Add `via zoh` to block %s", id.Name),
-				Edits: []Edit{{Path: d.Path, Span: syntax.Span{From: st.Expr.End(), To: st.Expr.End()}, NewText: " via zoh"}}})
-		}
+		x.Fixes = append(x.Fixes, Fix{Title: fmt.Sprintf("Add `via zoh` to block %s", id.Name),
+			Edits: []Edit{{Path: d.Path, Span: syntax.Span{From: st.Expr.End(), To: st.Expr.End()}, NewText: " via zoh"}}})
 		x.Related = append(x.Related, Related{Path: d.Path, Span: st.Name.Span, Message: "block declared here"})
 		return
 	}
