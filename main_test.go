@@ -2,10 +2,12 @@ package main
 
 import (
 	"bytes"
+	"encoding/json"
 	"flag"
 	"fmt"
 	"go/parser"
 	"go/token"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -33,6 +35,14 @@ func TestDemoGolden(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%v (run go test -run TestDemoGolden -update)", err)
 		}
+		if format == "json" {
+			// Figures are compared to 1e-9 relative: the 15th digit of a
+			// margin may move with any reordering of floating-point work.
+			if diff := jsonDiff(out.Bytes(), want); diff != "" {
+				t.Errorf("json report differs from %s (go test -run TestDemoGolden -update, then review the diff): %s", golden, diff)
+			}
+			continue
+		}
 		if !bytes.Equal(out.Bytes(), want) {
 			t.Errorf("%s report differs from %s (go test -run TestDemoGolden -update, then review the diff)\n%s", format, golden, firstDiff(out.String(), string(want)))
 		}
@@ -51,6 +61,54 @@ func firstDiff(got, want string) string {
 		}
 		if a != b {
 			return fmt.Sprintf("line %d:\n got: %s\nwant: %s", i+1, a, b)
+		}
+	}
+	return ""
+}
+
+// jsonDiff describes the first difference between two JSON documents,
+// numbers equal within 1e-9 relative (1e-12 absolute near zero).
+func jsonDiff(a, b []byte) string {
+	var x, y any
+	if err := json.Unmarshal(a, &x); err != nil {
+		return "got invalid JSON: " + err.Error()
+	}
+	if err := json.Unmarshal(b, &y); err != nil {
+		return "golden invalid JSON: " + err.Error()
+	}
+	return valueDiff("$", x, y)
+}
+
+func valueDiff(path string, x, y any) string {
+	switch a := x.(type) {
+	case map[string]any:
+		b, ok := y.(map[string]any)
+		if !ok || len(a) != len(b) {
+			return fmt.Sprintf("%s: %v vs %v", path, x, y)
+		}
+		for k, v := range a {
+			if d := valueDiff(path+"."+k, v, b[k]); d != "" {
+				return d
+			}
+		}
+	case []any:
+		b, ok := y.([]any)
+		if !ok || len(a) != len(b) {
+			return fmt.Sprintf("%s: length %d vs %v", path, len(a), y)
+		}
+		for i := range a {
+			if d := valueDiff(fmt.Sprintf("%s[%d]", path, i), a[i], b[i]); d != "" {
+				return d
+			}
+		}
+	case float64:
+		b, ok := y.(float64)
+		if !ok || math.Abs(a-b) > 1e-9*math.Max(math.Abs(a), math.Abs(b))+1e-12 {
+			return fmt.Sprintf("%s: %v vs %v", path, x, y)
+		}
+	default:
+		if x != y {
+			return fmt.Sprintf("%s: %v vs %v", path, x, y)
 		}
 	}
 	return ""
