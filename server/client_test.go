@@ -14,8 +14,9 @@ import (
 	"time"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 )
 
 // waitTimeout bounds every wait for an asynchronous message: far above the
@@ -30,7 +31,7 @@ type testClient struct {
 	root     string
 	server   *Server
 	runDone  chan error
-	diags    chan protocol.PublishDiagnosticsParams
+	diags    chan lspext.PublishDiagnosticsParams
 	progress chan json.RawMessage
 	mu       sync.Mutex
 	texts    map[protocol.DocumentURI]string
@@ -60,8 +61,8 @@ func newClient(t testing.TB, o clientOptions) *testClient {
 	copyDir(t, "testdata/ws", root)
 	root, _ = filepath.EvalSymlinks(root)
 	c := &testClient{t: t, root: root, runDone: make(chan error, 1),
-		diags: make(chan protocol.PublishDiagnosticsParams, 1000), progress: make(chan json.RawMessage, 1000),
-		texts: map[protocol.DocumentURI]string{}, versions: map[protocol.DocumentURI]int32{}, encoding: protocol.EncodingUTF16}
+		diags: make(chan lspext.PublishDiagnosticsParams, 1000), progress: make(chan json.RawMessage, 1000),
+		texts: map[protocol.DocumentURI]string{}, versions: map[protocol.DocumentURI]int32{}, encoding: lspext.EncodingUTF16}
 	sc, cc := net.Pipe()
 	if o.debounce == 0 {
 		o.debounce = 20 * time.Millisecond
@@ -81,7 +82,7 @@ func newClient(t testing.TB, o clientOptions) *testClient {
 	c.server = <-got
 	testHookNewServer = nil
 	hookMu.Unlock()
-	c.conn = jsonrpc2.NewConn(jsonrpc2.NewHeaderStream(cc))
+	c.conn = jsonrpc2.NewConn(jsonrpc2.NewStream(cc))
 	c.conn.Go(context.Background(), c.handle)
 	t.Cleanup(func() {
 		if !c.ended {
@@ -100,7 +101,7 @@ func newClient(t testing.TB, o clientOptions) *testClient {
 	for k, v := range o.init {
 		params[k] = v
 	}
-	var res protocol.InitializeResult
+	var res lspext.InitializeResult
 	if err := c.call(protocol.MethodInitialize, params, &res); err != nil {
 		t.Fatalf("initialize: %v", err)
 	}
@@ -130,16 +131,26 @@ func (c *testClient) wait() error {
 }
 
 // handle answers the server's requests and queues its notifications.
-func (c *testClient) handle(ctx context.Context, req *jsonrpc2.Request) (any, error) {
-	if req.IsCall() {
+func (c *testClient) handle(ctx context.Context, reply jsonrpc2.Replier, req jsonrpc2.Request) error {
+	if _, ok := req.(*jsonrpc2.Call); ok {
 		// Answer from another goroutine so the read loop keeps reading: over
 		// net.Pipe (no buffer) a read loop blocked writing would deadlock
 		// against a server doing the same.
-		jsonrpc2.Async(ctx)
+		go func() {
+			res, err := c.answer(req)
+			reply(ctx, res, err)
+		}()
+		return nil
 	}
+	c.answer(req)
+	return nil
+}
+
+// answer gives the result of one message from the server.
+func (c *testClient) answer(req jsonrpc2.Request) (any, error) {
 	switch req.Method() {
-	case protocol.MethodPublishDiagnostics:
-		var p protocol.PublishDiagnosticsParams
+	case protocol.MethodTextDocumentPublishDiagnostics:
+		var p lspext.PublishDiagnosticsParams
 		if err := json.Unmarshal(req.Params(), &p); err != nil {
 			c.t.Errorf("bad publishDiagnostics: %v", err)
 		}
@@ -171,6 +182,10 @@ func (c *testClient) call(method string, params, result any) error {
 	_, err := c.conn.Call(ctx, method, marshalParams(params), &raw)
 	if err != nil {
 		return err
+	}
+	if len(raw) == 0 {
+		// jsonrpc2 hands a null result over as an empty one
+		raw = json.RawMessage("null")
 	}
 	switch r := result.(type) {
 	case nil:
@@ -210,7 +225,7 @@ func (c *testClient) open(rel string, text ...string) protocol.DocumentURI {
 	c.texts[uri] = body
 	c.versions[uri] = 1
 	c.mu.Unlock()
-	c.notify(protocol.MethodDidOpen, protocol.DidOpenTextDocumentParams{TextDocument: protocol.TextDocumentItem{URI: uri, LanguageID: "loop", Version: 1, Text: body}})
+	c.notify(protocol.MethodTextDocumentDidOpen, protocol.DidOpenTextDocumentParams{TextDocument: protocol.TextDocumentItem{URI: uri, LanguageID: "loop", Version: 1, Text: body}})
 	return uri
 }
 
@@ -221,8 +236,8 @@ func (c *testClient) replace(uri protocol.DocumentURI, text string) int32 {
 	v := c.versions[uri]
 	c.texts[uri] = text
 	c.mu.Unlock()
-	c.notify(protocol.MethodDidChange, protocol.DidChangeTextDocumentParams{TextDocument: protocol.VersionedTextDocumentIdentifier{URI: uri, Version: v},
-		ContentChanges: []protocol.TextDocumentContentChangeEvent{{Text: text}}})
+	c.notify(protocol.MethodTextDocumentDidChange, lspext.DidChangeTextDocumentParams{TextDocument: protocol.VersionedTextDocumentIdentifier{TextDocumentIdentifier: protocol.TextDocumentIdentifier{URI: uri}, Version: v},
+		ContentChanges: []lspext.TextDocumentContentChangeEvent{{Text: text}}})
 	return v
 }
 
@@ -234,20 +249,20 @@ func (c *testClient) edit(uri protocol.DocumentURI, r protocol.Range, text strin
 	c.versions[uri]++
 	v := c.versions[uri]
 	c.mu.Unlock()
-	next, err := applyChanges([]byte(cur), []protocol.TextDocumentContentChangeEvent{{Range: &r, Text: text}}, c.encoding)
+	next, err := applyChanges([]byte(cur), []lspext.TextDocumentContentChangeEvent{{Range: &r, Text: text}}, c.encoding)
 	if err != nil {
 		c.t.Fatalf("edit: %v", err)
 	}
 	c.mu.Lock()
 	c.texts[uri] = string(next)
 	c.mu.Unlock()
-	c.notify(protocol.MethodDidChange, protocol.DidChangeTextDocumentParams{TextDocument: protocol.VersionedTextDocumentIdentifier{URI: uri, Version: v},
-		ContentChanges: []protocol.TextDocumentContentChangeEvent{{Range: &r, Text: text}}})
+	c.notify(protocol.MethodTextDocumentDidChange, lspext.DidChangeTextDocumentParams{TextDocument: protocol.VersionedTextDocumentIdentifier{TextDocumentIdentifier: protocol.TextDocumentIdentifier{URI: uri}, Version: v},
+		ContentChanges: []lspext.TextDocumentContentChangeEvent{{Range: &r, Text: text}}})
 	return v
 }
 
 func (c *testClient) save(uri protocol.DocumentURI) {
-	c.notify(protocol.MethodDidSave, protocol.DidSaveTextDocumentParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}})
+	c.notify(protocol.MethodTextDocumentDidSave, lspext.DidSaveTextDocumentParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}})
 }
 
 // waitDiags waits for a publication for uri that satisfies ok.

@@ -4,7 +4,7 @@ import (
 	"context"
 	"encoding/json"
 
-	"ringside/server/protocol"
+	"go.lsp.dev/protocol"
 )
 
 // codeAction offers the fixes of the diagnostics in the request's context,
@@ -17,7 +17,7 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	if len(p.Context.Only) > 0 && !contains(p.Context.Only, protocol.CodeActionQuickFix) {
+	if len(p.Context.Only) > 0 && !contains(p.Context.Only, protocol.QuickFix) {
 		return []protocol.CodeAction{}, nil
 	}
 	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
@@ -47,7 +47,7 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 				if !ok {
 					continue
 				}
-				actions = append(actions, protocol.CodeAction{Title: f.Title, Kind: protocol.CodeActionQuickFix,
+				actions = append(actions, protocol.CodeAction{Title: f.Title, Kind: protocol.QuickFix,
 					Diagnostics: []protocol.Diagnostic{cd}, IsPreferred: i == 0, Edit: &we})
 			}
 		}
@@ -55,7 +55,7 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 	return actions, nil
 }
 
-func contains(list []string, s string) bool {
+func contains[T comparable](list []T, s T) bool {
 	for _, x := range list {
 		if x == s {
 			return true

@@ -8,10 +8,11 @@ import (
 	"strings"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
 	"ringside/analysis/plot"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 )
 
 // plotArgs is the one argument of ringside.plot.
@@ -48,7 +49,7 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 		return nil, errorf(jsonrpc2.InvalidParams, `%s takes one argument {"uri": ..., "loop": ..., "write": false}`, plotCommand)
 	}
 	var a plotArgs
-	if err := json.Unmarshal(p.Arguments[0], &a); err != nil || a.URI == "" {
+	if err := remarshal(p.Arguments[0], &a); err != nil || a.URI == "" {
 		return nil, errorf(jsonrpc2.InvalidParams, `%s: argument must be {"uri": ..., "loop": ..., "write": false}`, plotCommand)
 	}
 	sn, path, _, _, err := s.docRequest(a.URI)
@@ -68,7 +69,7 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 		}
 	}
 	if a.Loop != "" && len(loops) == 0 {
-		return nil, errorf(protocol.CodeRequestFailed, "no loop %q in %s", a.Loop, filepath.Base(path))
+		return nil, errorf(lspext.CodeRequestFailed, "no loop %q in %s", a.Loop, filepath.Base(path))
 	}
 	for _, l := range loops {
 		if ctx.Err() != nil {
@@ -76,19 +77,19 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 		}
 		svg, err := plot.LoopSVG(res, l)
 		if err != nil {
-			return nil, errorf(protocol.CodeRequestFailed, "loop %s: %v", l.Name, err)
+			return nil, errorf(lspext.CodeRequestFailed, "loop %s: %v", l.Name, err)
 		}
 		out.Loops = append(out.Loops, plotLoop{Name: l.Name, SVG: string(svg)})
 	}
 	page, err := plot.Page(res)
 	if err != nil {
-		return nil, errorf(protocol.CodeRequestFailed, "plot page: %v", err)
+		return nil, errorf(lspext.CodeRequestFailed, "plot page: %v", err)
 	}
 	out.HTML = string(page)
 	if a.Write {
 		dst := strings.TrimSuffix(path, filepath.Ext(path)) + ".html"
 		if err := os.WriteFile(dst, page, 0o644); err != nil {
-			return nil, errorf(protocol.CodeRequestFailed, "cannot write %s: %v", dst, err)
+			return nil, errorf(lspext.CodeRequestFailed, "cannot write %s: %v", dst, err)
 		}
 		out.Written = append(out.Written, dst)
 	}

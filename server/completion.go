@@ -8,9 +8,9 @@ import (
 	"strings"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
 	"ringside/syntax"
 )
 
@@ -54,7 +54,7 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	toks := lineTokenRE.FindAllString(before[:len(before)-len(partial)], -1)
 	inLoop := insideLoop(src, pos)
 	var items []protocol.CompletionItem
-	add := func(kind int, detail string, words ...string) {
+	add := func(kind protocol.CompletionItemKind, detail string, words ...string) {
 		for _, w := range words {
 			items = append(items, protocol.CompletionItem{Label: w, Kind: kind, Detail: detail})
 		}
@@ -72,9 +72,9 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 		for _, n := range list {
 			d := res.Scope[n]
 			if d.Gain != nil {
-				add(protocol.CompletionKindVariable, "gain = "+analysis.FormatNumber(d.Gain.Value), n)
+				add(protocol.CompletionItemKindVariable, "gain = "+analysis.FormatNumber(d.Gain.Value), n)
 			} else {
-				add(protocol.CompletionKindFunction, "block", n)
+				add(protocol.CompletionItemKindFunction, "block", n)
 			}
 		}
 	}
@@ -88,39 +88,39 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	}
 	switch {
 	case len(toks) == 0 && inLoop:
-		add(protocol.CompletionKindKeyword, "loop item", itemKeywords...)
+		add(protocol.CompletionItemKindKeyword, "loop item", itemKeywords...)
 	case len(toks) == 0:
-		add(protocol.CompletionKindKeyword, "statement", topKeywords...)
+		add(protocol.CompletionItemKindKeyword, "statement", topKeywords...)
 	case last == "via":
-		add(protocol.CompletionKindEnum, "discretization method", methods...)
+		add(protocol.CompletionItemKindEnum, "discretization method", methods...)
 	case last == "sign":
-		add(protocol.CompletionKindEnum, "feedback sign", signs...)
+		add(protocol.CompletionItemKindEnum, "feedback sign", signs...)
 	case last == "require":
-		add(protocol.CompletionKindEnum, "metric", analysis.MetricNames()...)
+		add(protocol.CompletionItemKindEnum, "metric", analysis.MetricNames()...)
 	case numberTokRE.MatchString(last):
 		switch {
 		case first == "sample":
-			add(protocol.CompletionKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
+			add(protocol.CompletionItemKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
 		case first == "require" && len(toks) >= 2:
-			add(protocol.CompletionKindUnit, "unit", unitsMetric[toks[1]]...)
+			add(protocol.CompletionItemKindUnit, "unit", unitsMetric[toks[1]]...)
 		case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
-			add(protocol.CompletionKindUnit, "unit", unitsFreq...)
+			add(protocol.CompletionItemKindUnit, "unit", unitsFreq...)
 		case first == "gain":
-			add(protocol.CompletionKindKeyword, "range", "min", "max")
+			add(protocol.CompletionItemKindKeyword, "range", "min", "max")
 		case first == "block":
-			add(protocol.CompletionKindKeyword, "discretization", "via")
+			add(protocol.CompletionItemKindKeyword, "discretization", "via")
 		}
 	case first == "forward" || first == "feedback":
 		names()
 	case first == "block" && contains(toks, "="):
 		if last == "tustin" {
-			add(protocol.CompletionKindKeyword, "prewarp frequency", "prewarp")
+			add(protocol.CompletionItemKindKeyword, "prewarp frequency", "prewarp")
 			break
 		}
 		names()
-		add(protocol.CompletionKindKeyword, "transform variable", "s", "z")
+		add(protocol.CompletionItemKindKeyword, "transform variable", "s", "z")
 		if !strings.ContainsAny(last, "+-*/^(=") {
-			add(protocol.CompletionKindKeyword, "discretization", "via")
+			add(protocol.CompletionItemKindKeyword, "discretization", "via")
 		}
 	}
 	if items == nil {

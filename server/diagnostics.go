@@ -3,20 +3,21 @@ package server
 import (
 	"encoding/json"
 
+	"go.lsp.dev/protocol"
+
 	"ringside/analysis"
-	"ringside/server/protocol"
 	"ringside/syntax"
 )
 
 // severity maps analysis severities to the protocol's.
-func severity(s analysis.Severity) int {
+func severity(s analysis.Severity) protocol.DiagnosticSeverity {
 	switch s {
 	case analysis.Error:
-		return protocol.SeverityError
+		return protocol.DiagnosticSeverityError
 	case analysis.Warning:
-		return protocol.SeverityWarning
+		return protocol.DiagnosticSeverityWarning
 	}
-	return protocol.SeverityInformation
+	return protocol.DiagnosticSeverityInformation
 }
 
 // diagData is what a published diagnostic carries in its data field: its
@@ -74,7 +75,9 @@ func (sn *snapshot) protocolDiagnostic(res *analysis.Result, d analysis.Diagnost
 		}
 	}
 	if len(data.Fixes) > 0 {
-		pd.Data, _ = json.Marshal(data)
+		if b, err := json.Marshal(data); err == nil {
+			pd.Data = json.RawMessage(b)
+		}
 	}
 	return pd, true
 }

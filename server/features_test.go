@@ -10,9 +10,10 @@ import (
 	"testing"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -71,7 +72,7 @@ func TestPositionEncodingNegotiated(t *testing.T) {
 		t.Errorf("range ends %v, want [23 22 22]", ends)
 	}
 	c := newClient(t, clientOptions{})
-	if c.encoding != protocol.EncodingUTF16 {
+	if c.encoding != lspext.EncodingUTF16 {
 		t.Errorf("default encoding %q", c.encoding)
 	}
 }
@@ -81,7 +82,7 @@ func TestDefinitionReferencesRename(t *testing.T) {
 	uri := c.open("unstable.loop")
 	belt := c.uri("plants/belt.loop")
 	var locs []protocol.Location
-	if err := c.call(protocol.MethodDefinition, tdp(uri, c.posOf(uri, "belt\n", 0, 2)), &locs); err != nil || len(locs) != 1 {
+	if err := c.call(protocol.MethodTextDocumentDefinition, tdp(uri, c.posOf(uri, "belt\n", 0, 2)), &locs); err != nil || len(locs) != 1 {
 		t.Fatalf("definition: %v %v", locs, err)
 	}
 	if locs[0].URI != belt || locs[0].Range != (protocol.Range{Start: pos(3, 6), End: pos(3, 10)}) {
@@ -91,7 +92,7 @@ func TestDefinitionReferencesRename(t *testing.T) {
 	var refs []protocol.Location
 	p := protocol.ReferenceParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "kp +", 0, 1))}
 	p.Context.IncludeDeclaration = true
-	if err := c.call(protocol.MethodReferences, p, &refs); err != nil {
+	if err := c.call(protocol.MethodTextDocumentReferences, p, &refs); err != nil {
 		t.Fatal(err)
 	}
 	var got []string
@@ -104,14 +105,14 @@ func TestDefinitionReferencesRename(t *testing.T) {
 	}
 	// rename ki (own) and kp (used file)
 	var we protocol.WorkspaceEdit
-	if err := c.call(protocol.MethodRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "kp +", 0, 0)), NewName: "k_prop"}, &we); err != nil {
+	if err := c.call(protocol.MethodTextDocumentRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "kp +", 0, 0)), NewName: "k_prop"}, &we); err != nil {
 		t.Fatal(err)
 	}
 	if len(we.Changes[uri]) != 1 || len(we.Changes[belt]) != 1 || we.Changes[belt][0].NewText != "k_prop" {
 		t.Errorf("rename edits %+v", we.Changes)
 	}
 	for _, bad := range []struct{ name, want string }{{"gain", "keyword"}, {"z", "transform variable"}, {"ki", "already declared"}, {"belt_speed", "loop"}, {"2x", "not a name"}} {
-		err := c.call(protocol.MethodRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "kp +", 0, 0)), NewName: bad.name}, nil)
+		err := c.call(protocol.MethodTextDocumentRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "kp +", 0, 0)), NewName: bad.name}, nil)
 		if err == nil || !strings.Contains(err.Error(), bad.want) {
 			t.Errorf("rename to %q: %v, want error with %q", bad.name, err, bad.want)
 		}
@@ -136,12 +137,12 @@ func TestSymbols(t *testing.T) {
 	c := newClient(t, clientOptions{caps: map[string]any{"window": map[string]any{"workDoneProgress": true}}})
 	uri := c.open("unstable.loop")
 	var syms []protocol.DocumentSymbol
-	if err := c.call(protocol.MethodDocumentSymbol, docParams(uri), &syms); err != nil {
+	if err := c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(uri), &syms); err != nil {
 		t.Fatal(err)
 	}
 	var names []string
 	for _, s := range syms {
-		names = append(names, s.Name+"/"+itoa(s.Kind))
+		names = append(names, s.Name+"/"+itoa(int(s.Kind)))
 	}
 	if strings.Join(names, " ") != "ki/14 speed/12 enc/12 belt_speed/2" || len(syms[3].Children) != 2 {
 		t.Errorf("outline %v %+v", names, syms)
@@ -193,7 +194,7 @@ func TestCompletion(t *testing.T) {
 		text := base + tc.line
 		uri := c.open("comp.loop", text)
 		var list protocol.CompletionList
-		if err := c.call(protocol.MethodCompletion, tdp(uri, pos(6, len(tc.line))), &list); err != nil {
+		if err := c.call(protocol.MethodTextDocumentCompletion, tdp(uri, pos(6, len(tc.line))), &list); err != nil {
 			t.Fatal(err)
 		}
 		checkItems(t, tc.line, list, tc.want, tc.not)
@@ -211,7 +212,7 @@ func TestCompletion(t *testing.T) {
 		text := "use \"plants/belt.loop\"\ngain ki = 4\nblock d = z^-1\nloop l {\n" + tc.line + "\n}\n"
 		uri := c.open("comp2.loop", text)
 		var list protocol.CompletionList
-		if err := c.call(protocol.MethodCompletion, tdp(uri, pos(4, len(tc.line))), &list); err != nil {
+		if err := c.call(protocol.MethodTextDocumentCompletion, tdp(uri, pos(4, len(tc.line))), &list); err != nil {
 			t.Fatal(err)
 		}
 		checkItems(t, tc.line, list, tc.want, tc.not)
@@ -241,7 +242,7 @@ func TestFormatting(t *testing.T) {
 	src := "sample 1 ms\ngain  kp=0.5\ngain ki2 = 3  # integral\n\n\n\nblock c = kp+ki2*z/(z-1)\nloop l {\n forward c\n}\n"
 	uri := c.open("fmt.loop", src)
 	var edits []protocol.TextEdit
-	if err := c.call(protocol.MethodFormatting, docParams(uri), &edits); err != nil {
+	if err := c.call(protocol.MethodTextDocumentFormatting, docParams(uri), &edits); err != nil {
 		t.Fatal(err)
 	}
 	want, err := syntax.Format([]byte(src))
@@ -261,18 +262,18 @@ func TestFormatting(t *testing.T) {
 		t.Errorf("formatted:\n%q\nwant:\n%q", got, want)
 	}
 	// again: nothing to do
-	if err := c.call(protocol.MethodFormatting, docParams(uri), &edits); err != nil || len(edits) != 0 {
+	if err := c.call(protocol.MethodTextDocumentFormatting, docParams(uri), &edits); err != nil || len(edits) != 0 {
 		t.Errorf("second format: %v %v", edits, err)
 	}
 	// syntax errors: no edits
 	bad := c.open("bad.loop", "gain  kp = (\n")
-	if err := c.call(protocol.MethodFormatting, docParams(bad), &edits); err != nil || len(edits) != 0 {
+	if err := c.call(protocol.MethodTextDocumentFormatting, docParams(bad), &edits); err != nil || len(edits) != 0 {
 		t.Errorf("format with syntax errors: %v %v", edits, err)
 	}
 	// range: only the block line changes; CRLF kept
 	crlf := c.open("crlf.loop", "gain  kp=0.5\r\nblock c = kp*z^-1\r\ngain x=1\r\n")
 	p := map[string]any{"textDocument": map[string]any{"uri": crlf}, "range": protocol.Range{Start: pos(1, 0), End: pos(1, 3)}}
-	if err := c.call(protocol.MethodRangeFormatting, p, &edits); err != nil {
+	if err := c.call(protocol.MethodTextDocumentRangeFormatting, p, &edits); err != nil {
 		t.Fatal(err)
 	}
 	c.applyEdit(&protocol.WorkspaceEdit{Changes: map[protocol.DocumentURI][]protocol.TextEdit{crlf: edits}})
@@ -316,7 +317,7 @@ func TestFoldingLensInlay(t *testing.T) {
 	c := newClient(t, clientOptions{})
 	uri := c.open("stable.loop", "# one\n# two\n"+readFile(t, c.root, "stable.loop"))
 	var folds []protocol.FoldingRange
-	if err := c.call(protocol.MethodFoldingRange, docParams(uri), &folds); err != nil {
+	if err := c.call(protocol.MethodTextDocumentFoldingRange, docParams(uri), &folds); err != nil {
 		t.Fatal(err)
 	}
 	if len(folds) != 2 || folds[0] != (protocol.FoldingRange{StartLine: 7, EndLine: 9, Kind: "region"}) || folds[1] != (protocol.FoldingRange{StartLine: 0, EndLine: 1, Kind: "comment"}) {
@@ -324,15 +325,15 @@ func TestFoldingLensInlay(t *testing.T) {
 	}
 	res := checkFile(t, c.root, "stable.loop", false)
 	var lenses []protocol.CodeLens
-	if err := c.call(protocol.MethodCodeLens, docParams(uri), &lenses); err != nil {
+	if err := c.call(protocol.MethodTextDocumentCodeLens, docParams(uri), &lenses); err != nil {
 		t.Fatal(err)
 	}
 	if len(lenses) != 2 || lenses[0].Command.Title != res.Loops[0].Verdict() || !strings.HasPrefix(lenses[0].Command.Title, "stable, GM 54 dB, PM 89.1°") ||
 		lenses[1].Command.Command != plotCommand || lenses[0].Range.Start.Line != 7 {
 		t.Errorf("lenses %+v (verdict %q)", lenses, res.Loops[0].Verdict())
 	}
-	var hints []protocol.InlayHint
-	if err := c.call(protocol.MethodInlayHint, protocol.InlayHintParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: protocol.Range{Start: pos(0, 0), End: pos(10, 0)}}, &hints); err != nil {
+	var hints []lspext.InlayHint
+	if err := c.call(lspext.MethodInlayHint, lspext.InlayHintParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: protocol.Range{Start: pos(0, 0), End: pos(10, 0)}}, &hints); err != nil {
 		t.Fatal(err)
 	}
 	want := []string{}
@@ -358,7 +359,7 @@ func TestPlotCommand(t *testing.T) {
 	uri := c.open("stable.loop")
 	var res plotResult
 	arg := map[string]any{"uri": uri, "write": false}
-	if err := c.call(protocol.MethodExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, &res); err != nil {
+	if err := c.call(protocol.MethodWorkspaceExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, &res); err != nil {
 		t.Fatal(err)
 	}
 	if len(res.Loops) != 1 || res.Loops[0].Name != "speed" || !strings.Contains(res.Loops[0].SVG, "<svg") || !strings.HasPrefix(strings.ToLower(res.HTML), "<!doctype html>") || len(res.Written) != 0 {
@@ -370,7 +371,7 @@ func TestPlotCommand(t *testing.T) {
 	}
 	arg["write"] = true
 	arg["loop"] = "speed"
-	if err := c.call(protocol.MethodExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, &res); err != nil {
+	if err := c.call(protocol.MethodWorkspaceExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, &res); err != nil {
 		t.Fatal(err)
 	}
 	if len(res.Written) != 1 || res.Written[0] != html {
@@ -380,7 +381,7 @@ func TestPlotCommand(t *testing.T) {
 		t.Errorf("written page differs: %v", err)
 	}
 	arg["loop"] = "nope"
-	if err := c.call(protocol.MethodExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, nil); err == nil || !strings.Contains(err.Error(), `no loop "nope"`) {
+	if err := c.call(protocol.MethodWorkspaceExecuteCommand, map[string]any{"command": plotCommand, "arguments": []any{arg}}, nil); err == nil || !strings.Contains(err.Error(), `no loop "nope"`) {
 		t.Errorf("unknown loop: %v", err)
 	}
 }
@@ -401,7 +402,7 @@ func TestCancelRequest(t *testing.T) {
 	// the pending call is the client's first id after initialize: find it by
 	// cancelling every id the server holds (one).
 	c.server.inflightMu.Lock()
-	var ids []jsonrpc2.ID
+	var ids []requestID
 	for id := range c.server.inflight {
 		ids = append(ids, id)
 	}
@@ -441,7 +442,7 @@ func TestPanicIsReportedAndSurvived(t *testing.T) {
 	}
 	uri := c.open("stable.loop")
 	var syms []protocol.DocumentSymbol
-	if err := c.call(protocol.MethodDocumentSymbol, docParams(uri), &syms); err != nil || len(syms) == 0 {
+	if err := c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(uri), &syms); err != nil || len(syms) == 0 {
 		t.Errorf("server unusable after a panic: %v", err)
 	}
 }
@@ -449,7 +450,7 @@ func TestPanicIsReportedAndSurvived(t *testing.T) {
 func TestLayering(t *testing.T) {
 	// analysis and syntax must not import the server (the layering of
 	// STYLE.md); the server's protocol package must not know .loop files.
-	for _, dir := range []string{"../analysis", "../syntax", "protocol"} {
+	for _, dir := range []string{"../analysis", "../syntax", "lspext"} {
 		err := filepath.Walk(dir, func(p string, info os.FileInfo, err error) error {
 			if err != nil || info.IsDir() || !strings.HasSuffix(p, ".go") {
 				return err
@@ -459,8 +460,8 @@ func TestLayering(t *testing.T) {
 				return err
 			}
 			s := string(b)
-			if strings.Contains(s, "\"ringside/server") && !strings.HasPrefix(dir, "protocol") ||
-				dir == "protocol" && (strings.Contains(s, "\"ringside/analysis") || strings.Contains(s, "\"ringside/syntax")) {
+			if strings.Contains(s, "\"ringside/server") && !strings.HasPrefix(dir, "lspext") ||
+				dir == "lspext" && (strings.Contains(s, "\"ringside/analysis") || strings.Contains(s, "\"ringside/syntax")) {
 				t.Errorf("%s imports across the layering", p)
 			}
 			return nil
@@ -468,5 +469,25 @@ func TestLayering(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+	}
+}
+
+func TestDocumentText(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("stable.loop")
+	c.edit(uri, protocol.Range{Start: pos(0, 0), End: pos(0, 0)}, "# first\n")
+	v := c.edit(uri, protocol.Range{Start: pos(1, 2), End: pos(1, 4)}, "é")
+	var got lspext.DocumentText
+	if err := c.call(lspext.MethodDocumentText, map[string]any{"uri": uri}, &got); err != nil {
+		t.Fatalf("documentText: %v", err)
+	}
+	if got.URI != uri || got.Version != v || got.Text != c.text(uri) {
+		t.Errorf("documentText = %+v, want version %d text %q", got, v, c.text(uri))
+	}
+	if err := c.call(lspext.MethodDocumentText, map[string]any{"uri": c.uri("unstable.loop")}, nil); rpcCode(err) != jsonrpc2.InvalidParams {
+		t.Errorf("documentText of a closed file: %v, want InvalidParams", err)
+	}
+	if err := c.call(lspext.MethodDocumentText, map[string]any{"uri": "untitled:x"}, nil); rpcCode(err) != jsonrpc2.InvalidParams {
+		t.Errorf("documentText of a non-file URI: %v, want InvalidParams", err)
 	}
 }

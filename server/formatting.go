@@ -6,7 +6,8 @@ import (
 	"encoding/json"
 	"strings"
 
-	"ringside/server/protocol"
+	"go.lsp.dev/protocol"
+
 	"ringside/syntax"
 )
 

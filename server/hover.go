@@ -8,11 +8,11 @@ import (
 	"strings"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
-	"ringside/server/protocol"
 )
 
 // hover describes the block, loop or gain under the cursor in compact

@@ -7,8 +7,9 @@ import (
 	"testing"
 	"time"
 
+	"go.lsp.dev/protocol"
+
 	"ringside/analysis"
-	"ringside/server/protocol"
 )
 
 // loopsDoc generates a document of n independent loops, each a gain in
@@ -68,12 +69,12 @@ func BenchmarkLatency(b *testing.B) {
 							start = time.Now()
 						}
 						var h protocol.Hover
-						if err := c.call(protocol.MethodHover, tdp(uri, hoverAt), &h); err != nil || h.Contents.Value == "" {
+						if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, hoverAt), &h); err != nil || h.Contents.Value == "" {
 							b.Fatalf("hover: %v", err)
 						}
 					case "codeAction":
 						var actions []protocol.CodeAction
-						if err := c.call(protocol.MethodCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: diag.Range,
+						if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: diag.Range,
 							Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{diag}}}, &actions); err != nil || len(actions) == 0 {
 							b.Fatalf("codeAction: %v %v", actions, err)
 						}

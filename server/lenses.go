@@ -6,9 +6,10 @@ import (
 	"fmt"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -115,7 +116,7 @@ func (s *Server) codeLens(ctx context.Context, params json.RawMessage) (any, err
 
 // inlayHint shows the largest pole radius after each block declaration.
 func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, error) {
-	var p protocol.InlayHintParams
+	var p lspext.InlayHintParams
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
@@ -132,7 +133,7 @@ func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, er
 	if err != nil {
 		return nil, err
 	}
-	out := []protocol.InlayHint{}
+	out := []lspext.InlayHint{}
 	for _, b := range res.Blocks {
 		if !b.OK || b.Stmt == nil || len(b.Poles) == 0 || b.Stmt.End() < span.From || b.Stmt.End() > span.To {
 			continue
@@ -141,7 +142,7 @@ func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, er
 		if err != nil {
 			continue
 		}
-		out = append(out, protocol.InlayHint{Position: pos, Label: " |p|max " + maxRadiusText(b), Kind: 1, PaddingLeft: true})
+		out = append(out, lspext.InlayHint{Position: pos, Label: " |p|max " + maxRadiusText(b), Kind: 1, PaddingLeft: true})
 	}
 	return out, nil
 }

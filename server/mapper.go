@@ -4,7 +4,9 @@ import (
 	"fmt"
 	"unicode/utf8"
 
-	"ringside/server/protocol"
+	"go.lsp.dev/protocol"
+
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -23,7 +25,7 @@ type Mapper struct {
 // NewMapper indexes src for the given encoding ("" means UTF-16).
 func NewMapper(src []byte, encoding string) *Mapper {
 	if encoding == "" {
-		encoding = protocol.EncodingUTF16
+		encoding = lspext.EncodingUTF16
 	}
 	return &Mapper{src: src, lines: syntax.NewLines(src), encoding: encoding}
 }
@@ -47,9 +49,9 @@ func (m *Mapper) OffsetPosition(off syntax.Pos) (protocol.Position, error) {
 // units counts b in the mapper's code units.
 func (m *Mapper) units(b []byte) int {
 	switch m.encoding {
-	case protocol.EncodingUTF8:
+	case lspext.EncodingUTF8:
 		return len(b)
-	case protocol.EncodingUTF32:
+	case lspext.EncodingUTF32:
 		return utf8.RuneCount(b)
 	}
 	n := 0

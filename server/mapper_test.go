@@ -4,7 +4,9 @@ import (
 	"strings"
 	"testing"
 
-	"ringside/server/protocol"
+	"go.lsp.dev/protocol"
+
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -17,17 +19,17 @@ func TestMapper(t *testing.T) {
 		line uint32
 		char uint32
 	}{
-		{protocol.EncodingUTF16, 0, 0, 0},
-		{protocol.EncodingUTF16, 7, 0, 6},   // after "gain é"
-		{protocol.EncodingUTF8, 7, 0, 7},    // bytes
-		{protocol.EncodingUTF32, 7, 0, 6},   // code points
-		{protocol.EncodingUTF16, 12, 0, 10}, // the "\n" of CRLF: end of line 0
-		{protocol.EncodingUTF16, 13, 1, 0},
-		{protocol.EncodingUTF16, 19, 1, 4}, // after "# 😀"
-		{protocol.EncodingUTF8, 19, 1, 6},
-		{protocol.EncodingUTF32, 19, 1, 3},
-		{protocol.EncodingUTF16, 20, 1, 5}, // after x
-		{protocol.EncodingUTF16, len(src), 3, 0},
+		{lspext.EncodingUTF16, 0, 0, 0},
+		{lspext.EncodingUTF16, 7, 0, 6},   // after "gain é"
+		{lspext.EncodingUTF8, 7, 0, 7},    // bytes
+		{lspext.EncodingUTF32, 7, 0, 6},   // code points
+		{lspext.EncodingUTF16, 12, 0, 10}, // the "\n" of CRLF: end of line 0
+		{lspext.EncodingUTF16, 13, 1, 0},
+		{lspext.EncodingUTF16, 19, 1, 4}, // after "# 😀"
+		{lspext.EncodingUTF8, 19, 1, 6},
+		{lspext.EncodingUTF32, 19, 1, 3},
+		{lspext.EncodingUTF16, 20, 1, 5}, // after x
+		{lspext.EncodingUTF16, len(src), 3, 0},
 	} {
 		m := NewMapper(src, tc.enc)
 		p, err := m.OffsetPosition(syntax.Pos(tc.off))
@@ -59,7 +61,7 @@ func TestMapper(t *testing.T) {
 		t.Errorf("OffsetPosition(99) error %v", err)
 	}
 	// invalid UTF-8 counts as one unit and never panics
-	bad := NewMapper([]byte("a\xffb"), protocol.EncodingUTF16)
+	bad := NewMapper([]byte("a\xffb"), lspext.EncodingUTF16)
 	if p, err := bad.OffsetPosition(2); err != nil || p.Character != 2 {
 		t.Errorf("invalid byte: %v %v", p, err)
 	}
@@ -68,18 +70,18 @@ func TestMapper(t *testing.T) {
 func TestApplyChanges(t *testing.T) {
 	text := []byte("gain ké = 1\r\nblock 😀 = 2\r\n")
 	// replace "1" (UTF-16 col 10 on line 0) and, after it, the 😀 (cols 6-8 on line 1)
-	got, err := applyChanges(text, []protocol.TextDocumentContentChangeEvent{
+	got, err := applyChanges(text, []lspext.TextDocumentContentChangeEvent{
 		{Range: &protocol.Range{Start: pos(0, 10), End: pos(0, 11)}, Text: "0.5"},
 		{Range: &protocol.Range{Start: pos(1, 6), End: pos(1, 8)}, Text: "b"},
 		{Range: &protocol.Range{Start: pos(2, 0), End: pos(2, 0)}, Text: "# end"},
-	}, protocol.EncodingUTF16)
+	}, lspext.EncodingUTF16)
 	if err != nil || string(got) != "gain ké = 0.5\r\nblock b = 2\r\n# end" {
 		t.Errorf("applyChanges = %q, %v", got, err)
 	}
 	if string(text) != "gain ké = 1\r\nblock 😀 = 2\r\n" {
 		t.Errorf("input modified: %q", text)
 	}
-	_, err = applyChanges(text, []protocol.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(0, 40), End: pos(0, 41)}, Text: "x"}}, protocol.EncodingUTF16)
+	_, err = applyChanges(text, []lspext.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(0, 40), End: pos(0, 41)}, Text: "x"}}, lspext.EncodingUTF16)
 	if err == nil || !strings.Contains(err.Error(), "want 0-11") {
 		t.Errorf("bad range error: %v", err)
 	}

@@ -8,9 +8,10 @@ import (
 	"sort"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -177,18 +178,18 @@ func (s *Server) rename(ctx context.Context, params json.RawMessage) (any, error
 		return nil, err
 	}
 	if t == nil || t.decl == nil {
-		return nil, errorf(protocol.CodeRequestFailed, "there is no gain or block name here to rename")
+		return nil, errorf(lspext.CodeRequestFailed, "there is no gain or block name here to rename")
 	}
 	newName := p.NewName
 	switch {
 	case !nameRE.MatchString(newName):
-		return nil, errorf(protocol.CodeRequestFailed, "%q is not a name: use letters, digits and _, starting with a letter or _", newName)
+		return nil, errorf(lspext.CodeRequestFailed, "%q is not a name: use letters, digits and _, starting with a letter or _", newName)
 	case newName == "s" || newName == "z":
-		return nil, errorf(protocol.CodeRequestFailed, "%q is the transform variable and cannot be a name", newName)
+		return nil, errorf(lspext.CodeRequestFailed, "%q is the transform variable and cannot be a name", newName)
 	case keywords[newName]:
-		return nil, errorf(protocol.CodeRequestFailed, "%q is a keyword of the .loop format and cannot be a name", newName)
+		return nil, errorf(lspext.CodeRequestFailed, "%q is a keyword of the .loop format and cannot be a name", newName)
 	case newName == t.name:
-		return nil, errorf(protocol.CodeRequestFailed, "%s already has that name", t.name)
+		return nil, errorf(lspext.CodeRequestFailed, "%s already has that name", t.name)
 	}
 	occ, touched, err := sn.occurrences(ctx, res, t.decl, true)
 	if err != nil {
@@ -197,11 +198,11 @@ func (s *Server) rename(ctx context.Context, params json.RawMessage) (any, error
 	for _, r := range touched {
 		if d, ok := r.Scope[newName]; ok {
 			line, _ := r.Files[d.Path].Lines.LineCol(d.Ident.From)
-			return nil, errorf(protocol.CodeRequestFailed, "%s is already declared (%s line %d); choose another name", newName, baseName(d.Path), line)
+			return nil, errorf(lspext.CodeRequestFailed, "%s is already declared (%s line %d); choose another name", newName, baseName(d.Path), line)
 		}
 		for _, st := range r.File.Stmts {
 			if l, ok := st.(*syntax.LoopStmt); ok && l.Name != nil && l.Name.Name == newName {
-				return nil, errorf(protocol.CodeRequestFailed, "%s is already the name of a loop in %s; choose another name", newName, baseName(r.Path))
+				return nil, errorf(lspext.CodeRequestFailed, "%s is already the name of a loop in %s; choose another name", newName, baseName(r.Path))
 			}
 		}
 	}
@@ -209,12 +210,12 @@ func (s *Server) rename(ctx context.Context, params json.RawMessage) (any, error
 	for _, o := range occ {
 		loc, ok := sn.spanLocation(o.res, o.path, o.span)
 		if !ok {
-			return nil, errorf(protocol.CodeRequestFailed, "cannot map an occurrence in %s", o.path)
+			return nil, errorf(lspext.CodeRequestFailed, "cannot map an occurrence in %s", o.path)
 		}
 		we.Changes[loc.URI] = append(we.Changes[loc.URI], protocol.TextEdit{Range: loc.Range, NewText: newName})
 	}
 	if len(we.Changes) == 0 {
-		return nil, errorf(protocol.CodeRequestFailed, "found no occurrence of %s", t.name)
+		return nil, errorf(lspext.CodeRequestFailed, "found no occurrence of %s", t.name)
 	}
 	return we, nil
 }

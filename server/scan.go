@@ -8,9 +8,8 @@ import (
 	"strings"
 	"sync/atomic"
 
+	"go.lsp.dev/protocol"
 	"go.uber.org/zap"
-
-	"ringside/server/protocol"
 )
 
 // maxScanFiles bounds the start-up scan: a workspace with more .loop files
@@ -43,18 +42,18 @@ func (s *Server) startScan() {
 func (s *Server) scan(roots []string, progress bool) {
 	token := fmt.Sprintf("ringside-scan-%d", scanCount.Add(1))
 	if progress {
-		if err := s.call(s.ctx, protocol.MethodWorkDoneProgressCreate, protocol.WorkDoneProgressCreateParams{Token: token}); err != nil {
+		if err := s.call(s.ctx, protocol.MethodWorkDoneProgressCreate, &protocol.WorkDoneProgressCreateParams{Token: *protocol.NewProgressToken(token)}); err != nil {
 			s.log.Debug("no progress token", zap.Error(err))
 			progress = false
 		}
 	}
 	report := func(v any) {
 		if progress {
-			s.notify(protocol.MethodProgress, protocol.ProgressParams{Token: token, Value: v})
+			s.notify(protocol.MethodProgress, &protocol.ProgressParams{Token: *protocol.NewProgressToken(token), Value: v})
 		}
 	}
-	zero := 0
-	report(protocol.WorkDoneProgressBegin{Kind: "begin", Title: "ringside: indexing .loop files", Percentage: &zero})
+	// ProgressToken marshals through a pointer method: pass pointers.
+	report(&protocol.WorkDoneProgressBegin{Kind: protocol.WorkDoneProgressKindBegin, Title: "ringside: indexing .loop files"})
 	var found []string
 	for _, root := range roots {
 		filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
@@ -78,11 +77,11 @@ func (s *Server) scan(roots []string, progress bool) {
 		s.ses.known[p] = true
 		s.mu.Unlock()
 		if (i+1)%50 == 0 || i == len(found)-1 {
-			pct := 100 * (i + 1) / len(found)
-			report(protocol.WorkDoneProgressReport{Kind: "report", Message: fmt.Sprintf("%d/%d files", i+1, len(found)), Percentage: &pct})
+			pct := uint32(100 * (i + 1) / len(found))
+			report(&protocol.WorkDoneProgressReport{Kind: protocol.WorkDoneProgressKindReport, Message: fmt.Sprintf("%d/%d files", i+1, len(found)), Percentage: pct})
 		}
 	}
-	report(protocol.WorkDoneProgressEnd{Kind: "end", Message: fmt.Sprintf("%d .loop files", len(found))})
+	report(&protocol.WorkDoneProgressEnd{Kind: protocol.WorkDoneProgressKindEnd, Message: fmt.Sprintf("%d .loop files", len(found))})
 	s.log.Info("workspace scanned", zap.Int("files", len(found)))
 	s.mu.Lock()
 	s.scanned++

@@ -4,8 +4,9 @@ import (
 	"context"
 	"encoding/json"
 
+	"go.lsp.dev/protocol"
+
 	"ringside/analysis"
-	"ringside/server/protocol"
 	"ringside/syntax"
 )
 

@@ -2,8 +2,15 @@
 // Server Protocol over a JSON-RPC stream and answers from syntax and
 // analysis.
 //
-// Layering: protocol (LSP types) → Mapper (offsets ↔ positions) → session
-// (open documents, settings, cached results) → one small file per feature.
+// It is built on go.lsp.dev/jsonrpc2 (v0.10) and go.lsp.dev/protocol
+// (LSP 3.16 types); lspext adds the few 3.17 types and ringside's own
+// requests that package lacks, and stream.go frames messages without HTML
+// escaping. Dispatch is the server's own: lifecycle checks, per-request
+// contexts that $/cancelRequest cancels, and recovery from handler panics.
+//
+// Layering: protocol and lspext (LSP types) → Mapper (offsets ↔ positions)
+// → session (open documents, settings, cached results) → one small file per
+// feature.
 // Handlers translate protocol values to byte offsets, call syntax or
 // analysis, and map the answer back; they hold no analysis logic. The server
 // never writes a file, except the plot page when a user asks for it.
@@ -15,14 +22,17 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"runtime/debug"
+	"strconv"
 	"sync"
 	"time"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 	"go.uber.org/zap"
 
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 )
 
 // Config configures a server run.
@@ -64,7 +74,7 @@ func Run(ctx context.Context, in io.Reader, out io.Writer, cfg Config) error {
 	if testHookNewServer != nil {
 		testHookNewServer(s)
 	}
-	stream := jsonrpc2.NewHeaderStream(&rwc{r: in, w: out})
+	stream := newStream(&rwc{r: in, w: out})
 	conn := jsonrpc2.NewConn(stream)
 	s.conn = conn
 	conn.Go(ctx, s.handle)
@@ -75,12 +85,11 @@ func Run(ctx context.Context, in io.Reader, out io.Writer, cfg Config) error {
 	}
 	stop()
 	s.stopAll()
-	// Close waits for handlers still running; do not hold the caller on a
-	// reader that its transport cannot interrupt.
-	closed := make(chan struct{})
-	go func() { conn.Close(); close(closed) }()
+	// Close closes the transport; the read loop then ends. Do not hold the
+	// caller on a reader that its transport cannot interrupt.
+	conn.Close()
 	select {
-	case <-closed:
+	case <-conn.Done():
 	case <-time.After(time.Second):
 	}
 	s.mu.Lock()
@@ -124,7 +133,7 @@ type Server struct {
 	ctx        context.Context
 	conn       jsonrpc2.Conn
 	inflightMu sync.Mutex
-	inflight   map[jsonrpc2.ID]context.CancelFunc
+	inflight   map[requestID]context.CancelFunc
 	exited     chan struct{}
 	exitOnce   sync.Once
 
@@ -138,7 +147,7 @@ type Server struct {
 }
 
 func newServer(ctx context.Context, cfg Config) *Server {
-	return &Server{cfg: cfg, log: cfg.Logger, ctx: ctx, exited: make(chan struct{}), ses: newSession(), inflight: map[jsonrpc2.ID]context.CancelFunc{}}
+	return &Server{cfg: cfg, log: cfg.Logger, ctx: ctx, exited: make(chan struct{}), ses: newSession(), inflight: map[requestID]context.CancelFunc{}}
 }
 
 // bug records an internal error the server survives.
@@ -157,68 +166,144 @@ func errorf(code jsonrpc2.Code, format string, args ...any) error {
 
 var errCancelled = jsonrpc2.NewError(protocol.CodeRequestCancelled, "request cancelled")
 
-// handle is the one entry point of every incoming message. It runs on the
-// connection's read loop, so notifications (and the snapshot taken at the
-// start of each request) are applied in wire order; slow requests then
-// release the loop with jsonrpc2.Async.
-func (s *Server) handle(ctx context.Context, req *jsonrpc2.Request) (result any, err error) {
+// requestID is a request id in its canonical JSON form (a number or a
+// quoted string), so that the id of a call and the id named by
+// $/cancelRequest compare equal.
+type requestID string
+
+// idOf gives the canonical form of a jsonrpc2 id.
+func idOf(id jsonrpc2.ID) requestID {
+	b, err := json.Marshal(&id)
+	if err != nil {
+		return ""
+	}
+	return requestID(b)
+}
+
+// idOfValue gives the canonical form of a decoded JSON id (float64 or string).
+func idOfValue(v any) (requestID, bool) {
+	switch x := v.(type) {
+	case float64:
+		if x != math.Trunc(x) || math.Abs(x) > math.MaxInt32 {
+			return "", false
+		}
+		return requestID(strconv.FormatInt(int64(x), 10)), true
+	case string:
+		b, _ := json.Marshal(x)
+		return requestID(b), true
+	}
+	return "", false
+}
+
+// Number gives the id as a number, when it is one.
+func (id requestID) Number() (int64, bool) {
+	n, err := strconv.ParseInt(string(id), 10, 64)
+	return n, err == nil
+}
+
+// handle is the one entry point of every incoming message. jsonrpc2 calls
+// it on the connection's read loop, so notifications (and the snapshot taken
+// at the start of each request) are applied in wire order. A request runs on
+// its own goroutine while the read loop waits; the handler releases the loop
+// with async once it has its snapshot (or by returning), and replies from
+// its goroutine. The error returned to jsonrpc2 would end the connection, so
+// it is always nil.
+func (s *Server) handle(ctx context.Context, reply jsonrpc2.Replier, req jsonrpc2.Request) error {
 	method := req.Method()
+	call, isCall := req.(*jsonrpc2.Call)
+	if !isCall {
+		func() {
+			defer func() {
+				if r := recover(); r != nil {
+					s.bug("panic handling %s: %v\n%s", method, r, debug.Stack())
+				}
+			}()
+			s.notification(ctx, method, json.RawMessage(req.Params()))
+		}()
+		return nil
+	}
+	send := func(result any, err error) {
+		if err := reply(ctx, result, err); err != nil && ctx.Err() == nil {
+			s.log.Warn("reply failed", zap.String("method", method), zap.Error(err))
+		}
+	}
+	h, result, err := s.lifecycle(method, json.RawMessage(req.Params()))
+	if h == nil {
+		send(result, err)
+		return nil
+	}
+	params := append(json.RawMessage(nil), req.Params()...)
+	// The handler gets a server-lived context that $/cancelRequest cancels
+	// and that carries the release of the read loop.
+	id := idOf(call.ID())
+	rctx, cancel := context.WithCancel(s.ctx)
+	s.inflightMu.Lock()
+	s.inflight[id] = cancel
+	s.inflightMu.Unlock()
+	released := make(chan struct{})
+	var once sync.Once
+	release := func() { once.Do(func() { close(released) }) }
+	hctx := context.WithValue(rctx, releaseKey{}, release)
+	go func() {
+		defer release()
+		res, err := s.runRequest(hctx, method, h, params)
+		s.inflightMu.Lock()
+		delete(s.inflight, id)
+		s.inflightMu.Unlock()
+		cancel()
+		send(res, err)
+	}()
+	<-released
+	return nil
+}
+
+// lifecycle answers what the session state decides alone (initialize,
+// shutdown, requests out of order, unknown methods); otherwise it returns
+// the method's handler.
+func (s *Server) lifecycle(method string, params json.RawMessage) (h requestHandler, result any, err error) {
 	defer func() {
 		if r := recover(); r != nil {
 			s.bug("panic handling %s: %v\n%s", method, r, debug.Stack())
-			result = nil
-			if req.IsCall() {
-				err = errorf(jsonrpc2.InternalError, "internal error in %s (logged): %v", method, r)
-			} else {
-				err = nil
-			}
+			h, result, err = nil, nil, errorf(jsonrpc2.InternalError, "internal error in %s (logged): %v", method, r)
 		}
 	}()
-	if !req.IsCall() {
-		s.notification(ctx, method, json.RawMessage(req.Params()))
-		return nil, nil
-	}
 	s.mu.Lock()
 	initialized, shutdown := s.initialized, s.shutdown
 	s.mu.Unlock()
 	switch {
 	case shutdown:
-		return nil, errorf(jsonrpc2.InvalidRequest, "%s after shutdown: the server only accepts exit now", method)
+		return nil, nil, errorf(jsonrpc2.InvalidRequest, "%s after shutdown: the server only accepts exit now", method)
 	case method == protocol.MethodInitialize:
 		if initialized {
-			return nil, errorf(jsonrpc2.InvalidRequest, "initialize was already received")
+			return nil, nil, errorf(jsonrpc2.InvalidRequest, "initialize was already received")
 		}
-		return s.initialize(json.RawMessage(req.Params()))
+		result, err = s.initialize(params)
+		return nil, result, err
 	case !initialized:
-		return nil, errorf(protocol.CodeServerNotInitialized, "%s before initialize", method)
+		return nil, nil, errorf(jsonrpc2.ServerNotInitialized, "%s before initialize", method)
 	case method == protocol.MethodShutdown:
 		s.mu.Lock()
 		s.shutdown = true
 		s.mu.Unlock()
 		s.stopAll()
-		return nil, nil
+		return nil, nil, nil
 	}
 	h, ok := requestHandlers[method]
 	if !ok {
-		return nil, errorf(jsonrpc2.MethodNotFound, "method %q is not supported", method)
+		return nil, nil, errorf(jsonrpc2.MethodNotFound, "method %q is not supported", method)
 	}
-	params := append(json.RawMessage(nil), req.Params()...)
-	// The request's own context is pooled by jsonrpc2 and must not be the
-	// parent of contexts that outlive it; the handler gets a server-lived
-	// context that $/cancelRequest cancels, carrying the original only for
-	// async.
-	id := req.ID()
-	rctx, cancel := context.WithCancel(s.ctx)
-	defer cancel()
-	s.inflightMu.Lock()
-	s.inflight[id] = cancel
-	s.inflightMu.Unlock()
+	return h, nil, nil
+}
+
+// runRequest runs a request handler, turning a panic into a bug report and
+// an InternalError, and a cancelled context into RequestCancelled.
+func (s *Server) runRequest(ctx context.Context, method string, h requestHandler, params json.RawMessage) (result any, err error) {
 	defer func() {
-		s.inflightMu.Lock()
-		delete(s.inflight, id)
-		s.inflightMu.Unlock()
+		if r := recover(); r != nil {
+			s.bug("panic handling %s: %v\n%s", method, r, debug.Stack())
+			result, err = nil, errorf(jsonrpc2.InternalError, "internal error in %s (logged): %v", method, r)
+		}
 	}()
-	ctx = context.WithValue(rctx, rpcCtxKey{}, ctx)
 	res, err := h(s, ctx, params)
 	if err != nil {
 		return nil, err
@@ -229,19 +314,19 @@ func (s *Server) handle(ctx context.Context, req *jsonrpc2.Request) (result any,
 	return marshal(res)
 }
 
-type rpcCtxKey struct{}
+type releaseKey struct{}
 
 // async releases the connection's read loop so that later messages are
 // read while this request computes. Call it after taking the snapshot: the
 // messages before the request are then applied, the ones after are not.
 func async(ctx context.Context) {
-	if rpc, ok := ctx.Value(rpcCtxKey{}).(context.Context); ok {
-		jsonrpc2.Async(rpc)
+	if release, ok := ctx.Value(releaseKey{}).(func()); ok {
+		release()
 	}
 }
 
 // cancel cancels the in-flight request id, if any.
-func (s *Server) cancel(id jsonrpc2.ID) {
+func (s *Server) cancel(id requestID) {
 	s.inflightMu.Lock()
 	c := s.inflight[id]
 	s.inflightMu.Unlock()
@@ -275,6 +360,16 @@ func (j *jsonBuffer) trimmed() []byte {
 	return j.b
 }
 
+// remarshal converts a decoded JSON value (an interface{} field of a
+// protocol type) into v through its JSON form.
+func remarshal(val any, v any) error {
+	b, err := json.Marshal(val)
+	if err != nil {
+		return err
+	}
+	return json.Unmarshal(b, v)
+}
+
 // decode reads params into v; bad params are InvalidParams.
 func decode(params json.RawMessage, v any) error {
 	if len(params) == 0 {
@@ -286,30 +381,31 @@ func decode(params json.RawMessage, v any) error {
 	return nil
 }
 
-// requestHandler answers one request method. It runs on the read loop until
-// it calls jsonrpc2.Async(ctx) (after taking its snapshot).
+// requestHandler answers one request method. The read loop waits for it until
+// it calls async(ctx) (after taking its snapshot) or returns.
 type requestHandler func(s *Server, ctx context.Context, params json.RawMessage) (any, error)
 
 var requestHandlers map[string]requestHandler
 
 func init() {
 	requestHandlers = map[string]requestHandler{
-		protocol.MethodHover:              (*Server).hover,
-		protocol.MethodCodeAction:         (*Server).codeAction,
-		protocol.MethodDefinition:         (*Server).definition,
-		protocol.MethodReferences:         (*Server).references,
-		protocol.MethodRename:             (*Server).rename,
-		protocol.MethodPrepareRename:      (*Server).prepareRename,
-		protocol.MethodDocumentSymbol:     (*Server).documentSymbol,
-		protocol.MethodWorkspaceSymbol:    (*Server).workspaceSymbol,
-		protocol.MethodCompletion:         (*Server).completion,
-		protocol.MethodFormatting:         (*Server).formatting,
-		protocol.MethodRangeFormatting:    (*Server).rangeFormatting,
-		protocol.MethodSemanticTokensFull: (*Server).semanticTokens,
-		protocol.MethodFoldingRange:       (*Server).foldingRange,
-		protocol.MethodCodeLens:           (*Server).codeLens,
-		protocol.MethodInlayHint:          (*Server).inlayHint,
-		protocol.MethodExecuteCommand:     (*Server).executeCommand,
+		protocol.MethodTextDocumentHover:           (*Server).hover,
+		protocol.MethodTextDocumentCodeAction:      (*Server).codeAction,
+		protocol.MethodTextDocumentDefinition:      (*Server).definition,
+		protocol.MethodTextDocumentReferences:      (*Server).references,
+		protocol.MethodTextDocumentRename:          (*Server).rename,
+		protocol.MethodTextDocumentPrepareRename:   (*Server).prepareRename,
+		protocol.MethodTextDocumentDocumentSymbol:  (*Server).documentSymbol,
+		protocol.MethodWorkspaceSymbol:             (*Server).workspaceSymbol,
+		protocol.MethodTextDocumentCompletion:      (*Server).completion,
+		protocol.MethodTextDocumentFormatting:      (*Server).formatting,
+		protocol.MethodTextDocumentRangeFormatting: (*Server).rangeFormatting,
+		protocol.MethodSemanticTokensFull:          (*Server).semanticTokens,
+		protocol.MethodTextDocumentFoldingRange:    (*Server).foldingRange,
+		protocol.MethodTextDocumentCodeLens:        (*Server).codeLens,
+		lspext.MethodDocumentText:                  (*Server).documentText,
+		lspext.MethodInlayHint:                     (*Server).inlayHint,
+		protocol.MethodWorkspaceExecuteCommand:     (*Server).executeCommand,
 	}
 }
 
@@ -326,12 +422,8 @@ func (s *Server) notification(ctx context.Context, method string, params json.Ra
 	if method == protocol.MethodCancelRequest {
 		var p protocol.CancelParams
 		if json.Unmarshal(params, &p) == nil {
-			var n int64
-			var str string
-			if json.Unmarshal(p.ID, &n) == nil {
-				s.cancel(jsonrpc2.NewNumberID(n))
-			} else if json.Unmarshal(p.ID, &str) == nil {
-				s.cancel(jsonrpc2.NewStringID(str))
+			if id, ok := idOfValue(p.ID); ok {
+				s.cancel(id)
 			}
 		}
 		return
@@ -347,19 +439,19 @@ func (s *Server) notification(ctx context.Context, method string, params json.Ra
 	switch method {
 	case protocol.MethodInitialized:
 		s.startScan()
-	case protocol.MethodDidOpen:
+	case protocol.MethodTextDocumentDidOpen:
 		err = s.didOpen(params)
-	case protocol.MethodDidChange:
+	case protocol.MethodTextDocumentDidChange:
 		err = s.didChange(params)
-	case protocol.MethodDidSave:
+	case protocol.MethodTextDocumentDidSave:
 		err = s.didSave(params)
-	case protocol.MethodDidClose:
+	case protocol.MethodTextDocumentDidClose:
 		err = s.didClose(params)
-	case protocol.MethodDidChangeConfiguration:
+	case protocol.MethodWorkspaceDidChangeConfiguration:
 		err = s.didChangeConfiguration(params)
-	case protocol.MethodDidChangeWorkspaceFolders:
+	case protocol.MethodWorkspaceDidChangeWorkspaceFolders:
 		err = s.didChangeWorkspaceFolders(params)
-	case protocol.MethodDidChangeWatchedFiles:
+	case protocol.MethodWorkspaceDidChangeWatchedFiles:
 		s.filesChanged()
 	default:
 		s.log.Debug("notification ignored", zap.String("method", method))

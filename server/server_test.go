@@ -13,9 +13,10 @@ import (
 	"time"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 	"ringside/syntax"
 )
 
@@ -33,13 +34,13 @@ func TestLifecycle(t *testing.T) {
 	}
 	uri := c.open("stable.loop")
 	var syms []protocol.DocumentSymbol
-	if err := c.call(protocol.MethodDocumentSymbol, map[string]any{"textDocument": map[string]any{"uri": uri}}, &syms); err != nil || len(syms) == 0 {
+	if err := c.call(protocol.MethodTextDocumentDocumentSymbol, map[string]any{"textDocument": map[string]any{"uri": uri}}, &syms); err != nil || len(syms) == 0 {
 		t.Fatalf("documentSymbol: %v %v", syms, err)
 	}
 	if err := c.call(protocol.MethodShutdown, nil, nil); err != nil {
 		t.Fatalf("shutdown: %v", err)
 	}
-	if err := c.call(protocol.MethodHover, map[string]any{"textDocument": map[string]any{"uri": uri}, "position": pos(0, 0)}, nil); rpcCode(err) != jsonrpc2.InvalidRequest {
+	if err := c.call(protocol.MethodTextDocumentHover, map[string]any{"textDocument": map[string]any{"uri": uri}, "position": pos(0, 0)}, nil); rpcCode(err) != jsonrpc2.InvalidRequest {
 		t.Errorf("request after shutdown: got %v, want InvalidRequest", err)
 	}
 	c.notify(protocol.MethodExit, nil)
@@ -54,13 +55,13 @@ func TestBeforeInitialize(t *testing.T) {
 	go func() {
 		done <- Run(context.Background(), sc, sc, Config{OnBug: func(r string) { t.Errorf("bug: %s", r) }})
 	}()
-	conn := jsonrpc2.NewConn(jsonrpc2.NewHeaderStream(cc))
+	conn := jsonrpc2.NewConn(jsonrpc2.NewStream(cc))
 	conn.Go(context.Background(), jsonrpc2.MethodNotFoundHandler)
 	defer conn.Close()
 	ctx, cancel := context.WithTimeout(context.Background(), waitTimeout)
 	defer cancel()
-	_, err := conn.Call(ctx, protocol.MethodHover, json.RawMessage(`{}`), nil)
-	if rpcCode(err) != protocol.CodeServerNotInitialized {
+	_, err := conn.Call(ctx, protocol.MethodTextDocumentHover, json.RawMessage(`{}`), nil)
+	if rpcCode(err) != jsonrpc2.ServerNotInitialized {
 		t.Errorf("hover before initialize: %v, want code -32002", err)
 	}
 	conn.Notify(ctx, protocol.MethodExit, nil)
@@ -125,7 +126,7 @@ func checkFile(t *testing.T, root, rel string, quick bool, opts ...analysis.Opti
 // wantDiagnostics converts a result's diagnostics the way the server must.
 func wantDiagnostics(t *testing.T, res *analysis.Result) []string {
 	var out []string
-	m := NewMapper(res.File.Src, protocol.EncodingUTF16)
+	m := NewMapper(res.File.Src, lspext.EncodingUTF16)
 	for _, d := range res.Diagnostics {
 		if analysis.SummaryCode(d.Code) {
 			continue
@@ -134,7 +135,7 @@ func wantDiagnostics(t *testing.T, res *analysis.Result) []string {
 		if err != nil {
 			t.Fatal(err)
 		}
-		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", r.Start.Line, r.Start.Character, r.End.Line, r.End.Character, severity(d.Severity), d.Code, d.Message))
+		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", r.Start.Line, r.Start.Character, r.End.Line, r.End.Character, int(severity(d.Severity)), d.Code, d.Message))
 	}
 	return out
 }
@@ -142,7 +143,7 @@ func wantDiagnostics(t *testing.T, res *analysis.Result) []string {
 func gotDiagnostics(ds []protocol.Diagnostic) []string {
 	var out []string
 	for _, d := range ds {
-		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", d.Range.Start.Line, d.Range.Start.Character, d.Range.End.Line, d.Range.End.Character, d.Severity, d.Code, d.Message))
+		out = append(out, fmt.Sprintf("%d:%d-%d:%d %d %s %s", d.Range.Start.Line, d.Range.Start.Character, d.Range.End.Line, d.Range.End.Character, int(d.Severity), d.Code, d.Message))
 	}
 	return out
 }
@@ -168,14 +169,14 @@ func TestDiagnosticsQuickThenFullOnSave(t *testing.T) {
 		}
 	}
 	po := findCode(full, analysis.CodePoleOutside)
-	if po.Severity != protocol.SeverityError || len(po.RelatedInformation) == 0 || !strings.HasSuffix(string(po.RelatedInformation[0].Location.URI), "plants/belt.loop") {
-		t.Errorf("pole-outside: severity %d related %+v", po.Severity, po.RelatedInformation)
+	if po.Severity != protocol.DiagnosticSeverityError || len(po.RelatedInformation) == 0 || !strings.HasSuffix(string(po.RelatedInformation[0].Location.URI), "plants/belt.loop") {
+		t.Errorf("pole-outside: severity %d related %+v", int(po.Severity), po.RelatedInformation)
 	}
 	var data diagData
-	if err := json.Unmarshal(po.Data, &data); err != nil || len(data.Fixes) == 0 || !strings.Contains(data.Fixes[0].Title, "11.4") {
+	if err := remarshal(po.Data, &data); err != nil || len(data.Fixes) == 0 || !strings.Contains(data.Fixes[0].Title, "11.4") {
 		t.Errorf("pole-outside data: %s (%v)", po.Data, err)
 	}
-	if w := findCode(full, analysis.CodeBlockOnCircle); w == nil || w.Severity != protocol.SeverityWarning {
+	if w := findCode(full, analysis.CodeBlockOnCircle); w == nil || w.Severity != protocol.DiagnosticSeverityWarning {
 		t.Errorf("block-pole-on-circle missing or not a warning: %+v", w)
 	}
 }
@@ -185,7 +186,7 @@ func TestTriggerChangeRunsFullWhileTyping(t *testing.T) {
 	uri := c.open("unstable.loop")
 	c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
 	// switch back to save through didChangeConfiguration (under "ringside")
-	c.notify(protocol.MethodDidChangeConfiguration, map[string]any{"settings": map[string]any{"ringside": map[string]any{"trigger": "save"}}})
+	c.notify(protocol.MethodWorkspaceDidChangeConfiguration, map[string]any{"settings": map[string]any{"ringside": map[string]any{"trigger": "save"}}})
 	c.waitDiags(uri, lacksCode(analysis.CodePoleOutside))
 	c.replace(uri, c.text(uri)+"\n")
 	c.waitDiags(uri, lacksCode(analysis.CodePoleOutside))
@@ -196,7 +197,7 @@ func TestSettingsReachAnalysis(t *testing.T) {
 	c := newClient(t, clientOptions{init: map[string]any{"initializationOptions": map[string]any{"ringside": map[string]any{"phaseMarginDeg": 95, "trigger": "change"}}}})
 	uri := c.open("stable.loop")
 	c.waitDiags(uri, hasCode(analysis.CodePhaseMarginLow))
-	c.notify(protocol.MethodDidChangeConfiguration, map[string]any{"settings": map[string]any{"phaseMarginDeg": 30}})
+	c.notify(protocol.MethodWorkspaceDidChangeConfiguration, map[string]any{"settings": map[string]any{"phaseMarginDeg": 30}})
 	// every check is full (trigger change): the next publication has the
 	// figures and no longer misses the phase margin
 	if ds := c.waitDiags(uri, anyDiags); findCode(ds, analysis.CodePhaseMarginLow) != nil {
@@ -225,7 +226,7 @@ func TestHover(t *testing.T) {
 	hover := func(p protocol.Position) (string, bool) {
 		t.Helper()
 		var raw json.RawMessage
-		if err := c.call(protocol.MethodHover, protocol.TextDocumentPositionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Position: p}, &raw); err != nil {
+		if err := c.call(protocol.MethodTextDocumentHover, protocol.TextDocumentPositionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Position: p}, &raw); err != nil {
 			t.Fatalf("hover: %v", err)
 		}
 		if string(raw) == "null" {
@@ -279,13 +280,13 @@ func TestCodeActionFixesGain(t *testing.T) {
 	ds := c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
 	d := findCode(ds, analysis.CodePoleOutside)
 	var actions []protocol.CodeAction
-	if err := c.call(protocol.MethodCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
+	if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
 		Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{*d}}}, &actions); err != nil {
 		t.Fatal(err)
 	}
 	var fix *protocol.CodeAction
 	for i := range actions {
-		if actions[i].Kind != protocol.CodeActionQuickFix {
+		if actions[i].Kind != protocol.QuickFix {
 			t.Errorf("action kind %q", actions[i].Kind)
 		}
 		if strings.HasPrefix(actions[i].Title, "Set ki to 11.4") {
@@ -326,7 +327,7 @@ func TestQuickFixes(t *testing.T) {
 			ds := c.waitDiags(uri, hasCode(tc.code))
 			d := findCode(ds, tc.code)
 			var actions []protocol.CodeAction
-			if err := c.call(protocol.MethodCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
+			if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
 				Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{*d}}}, &actions); err != nil {
 				t.Fatal(err)
 			}

@@ -15,10 +15,11 @@ import (
 	"time"
 
 	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
 	"go.uber.org/zap"
 
 	"ringside/analysis"
-	"ringside/server/protocol"
+	"ringside/server/lspext"
 )
 
 // session is the mutable state of a server, guarded by Server.mu.
@@ -62,7 +63,7 @@ func newSession() *session {
 	return &session{
 		docs:     map[string]*document{},
 		settings: defaultSettings(),
-		encoding: protocol.EncodingUTF16,
+		encoding: lspext.EncodingUTF16,
 		cache:    map[cacheKey]*analysis.Result{},
 		known:    map[string]bool{},
 		diag:     map[string]*diagState{},
@@ -256,7 +257,7 @@ func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mappe
 	sn := s.snapshot()
 	m, src, err := sn.mapper(path)
 	if err != nil {
-		return nil, "", nil, nil, errorf(protocol.CodeRequestFailed, "cannot read %s: %v", path, err)
+		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
 	}
 	return sn, path, m, src, nil
 }
@@ -264,7 +265,7 @@ func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mappe
 // ---- lifecycle ----
 
 func (s *Server) initialize(params json.RawMessage) (any, error) {
-	var p protocol.InitializeParams
+	var p lspext.InitializeParams
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
@@ -272,7 +273,7 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	defer s.mu.Unlock()
 	ses := s.ses
 	for _, f := range p.WorkspaceFolders {
-		if path, err := uriPath(f.URI); err == nil {
+		if path, err := uriPath(protocol.DocumentURI(f.URI)); err == nil {
 			ses.roots = append(ses.roots, path)
 		}
 	}
@@ -290,7 +291,7 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	pick:
 		for _, e := range g.PositionEncodings {
 			switch e {
-			case protocol.EncodingUTF8, protocol.EncodingUTF16, protocol.EncodingUTF32:
+			case lspext.EncodingUTF8, lspext.EncodingUTF16, lspext.EncodingUTF32:
 				ses.encoding = e
 				break pick
 			}
@@ -299,38 +300,50 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	if w := p.Capabilities.Window; w != nil {
 		ses.progress = w.WorkDoneProgress
 	}
-	if st, err := parseSettings(ses.settings, p.InitializationOptions); err != nil {
+	opts, err := json.Marshal(p.InitializationOptions)
+	if err == nil {
+		ses.settings, err = parseSettings(ses.settings, opts)
+	}
+	if err != nil {
 		s.log.Warn("initializationOptions ignored", zap.Error(err))
-	} else {
-		ses.settings = st
 	}
 	s.initialized = true
 	version := s.cfg.Version
 	if version == "" {
 		version = "dev"
 	}
-	return protocol.InitializeResult{
+	return lspext.InitializeResult{
 		ServerInfo: &protocol.ServerInfo{Name: "ringside", Version: version},
-		Capabilities: protocol.ServerCapabilities{
-			PositionEncoding:                ses.encoding,
-			TextDocumentSync:                &protocol.TextDocumentSyncOptions{OpenClose: true, Change: protocol.SyncIncremental, Save: &protocol.SaveOptions{IncludeText: false}},
-			HoverProvider:                   true,
-			CompletionProvider:              &protocol.CompletionOptions{TriggerCharacters: []string{" "}},
-			DefinitionProvider:              true,
-			ReferencesProvider:              true,
-			DocumentSymbolProvider:          true,
-			WorkspaceSymbolProvider:         true,
-			CodeActionProvider:              &protocol.CodeActionOptions{CodeActionKinds: []string{protocol.CodeActionQuickFix}},
-			CodeLensProvider:                &protocol.CodeLensOptions{},
-			DocumentFormattingProvider:      true,
-			DocumentRangeFormattingProvider: true,
-			RenameProvider:                  &protocol.RenameOptions{PrepareProvider: true},
-			FoldingRangeProvider:            true,
-			ExecuteCommandProvider:          &protocol.ExecuteCommandOptions{Commands: []string{plotCommand}},
-			SemanticTokensProvider:          &protocol.SemanticTokensOptions{Legend: protocol.SemanticTokensLegend{TokenTypes: tokenTypes, TokenModifiers: []string{}}, Full: true},
-			InlayHintProvider:               true,
-		},
+		Capabilities: lspext.ServerCapabilities{
+			PositionEncoding:  ses.encoding,
+			InlayHintProvider: true,
+			ServerCapabilities: protocol.ServerCapabilities{
+				TextDocumentSync:                &protocol.TextDocumentSyncOptions{OpenClose: true, Change: protocol.TextDocumentSyncKindIncremental, Save: &protocol.SaveOptions{IncludeText: false}},
+				HoverProvider:                   true,
+				CompletionProvider:              &protocol.CompletionOptions{TriggerCharacters: []string{" "}},
+				DefinitionProvider:              true,
+				ReferencesProvider:              true,
+				DocumentSymbolProvider:          true,
+				WorkspaceSymbolProvider:         true,
+				CodeActionProvider:              &protocol.CodeActionOptions{CodeActionKinds: []protocol.CodeActionKind{protocol.QuickFix}},
+				CodeLensProvider:                &protocol.CodeLensOptions{},
+				DocumentFormattingProvider:      true,
+				DocumentRangeFormattingProvider: true,
+				RenameProvider:                  &protocol.RenameOptions{PrepareProvider: true},
+				FoldingRangeProvider:            true,
+				ExecuteCommandProvider:          &protocol.ExecuteCommandOptions{Commands: []string{plotCommand}},
+				SemanticTokensProvider:          &lspext.SemanticTokensOptions{Legend: protocol.SemanticTokensLegend{TokenTypes: legendTypes(), TokenModifiers: []protocol.SemanticTokenModifiers{}}, Full: true},
+			}},
 	}, nil
+}
+
+// legendTypes is tokenTypes as the legend's type.
+func legendTypes() []protocol.SemanticTokenTypes {
+	out := make([]protocol.SemanticTokenTypes, len(tokenTypes))
+	for i, t := range tokenTypes {
+		out[i] = protocol.SemanticTokenTypes(t)
+	}
+	return out
 }
 
 // stopAll cancels pending checks (shutdown, exit).
@@ -369,7 +382,7 @@ func (s *Server) didOpen(params json.RawMessage) error {
 }
 
 func (s *Server) didChange(params json.RawMessage) error {
-	var p protocol.DidChangeTextDocumentParams
+	var p lspext.DidChangeTextDocumentParams
 	if err := decode(params, &p); err != nil {
 		return err
 	}
@@ -388,7 +401,7 @@ func (s *Server) didChange(params json.RawMessage) error {
 		s.mu.Unlock()
 		// The client's view and ours differ now; say so loudly rather than
 		// analyse text the user never wrote.
-		s.notify(protocol.MethodLogMessage, map[string]any{"type": 1, "message": "ringside: " + err.Error() + "; close and reopen the file to resynchronise"})
+		s.notify(protocol.MethodWindowLogMessage, map[string]any{"type": 1, "message": "ringside: " + err.Error() + "; close and reopen the file to resynchronise"})
 		return err
 	}
 	s.ses.docs[path] = &document{uri: d.uri, path: path, version: p.TextDocument.Version, text: text}
@@ -399,7 +412,7 @@ func (s *Server) didChange(params json.RawMessage) error {
 }
 
 // applyChanges applies LSP content changes in order to a copy of text.
-func applyChanges(text []byte, changes []protocol.TextDocumentContentChangeEvent, encoding string) ([]byte, error) {
+func applyChanges(text []byte, changes []lspext.TextDocumentContentChangeEvent, encoding string) ([]byte, error) {
 	for i, c := range changes {
 		if c.Range == nil {
 			text = []byte(c.Text)
@@ -420,7 +433,7 @@ func applyChanges(text []byte, changes []protocol.TextDocumentContentChangeEvent
 }
 
 func (s *Server) didSave(params json.RawMessage) error {
-	var p protocol.DidSaveTextDocumentParams
+	var p lspext.DidSaveTextDocumentParams
 	if err := decode(params, &p); err != nil {
 		return err
 	}
@@ -465,7 +478,7 @@ func (s *Server) didClose(params json.RawMessage) error {
 	s.ses.gen++
 	s.mu.Unlock()
 	if uri != "" {
-		s.notify(protocol.MethodPublishDiagnostics, protocol.PublishDiagnosticsParams{URI: uri, Diagnostics: []protocol.Diagnostic{}})
+		s.notify(protocol.MethodTextDocumentPublishDiagnostics, lspext.PublishDiagnosticsParams{URI: uri, Diagnostics: []protocol.Diagnostic{}})
 	}
 	// Files that used the closed buffer now read it from disk.
 	s.changed(path, false)
@@ -478,7 +491,11 @@ func (s *Server) didChangeConfiguration(params json.RawMessage) error {
 		return err
 	}
 	s.mu.Lock()
-	st, err := parseSettings(s.ses.settings, p.Settings)
+	raw, err := json.Marshal(p.Settings)
+	var st Settings
+	if err == nil {
+		st, err = parseSettings(s.ses.settings, raw)
+	}
 	if err == nil {
 		s.ses.settings = st
 		s.ses.gen++
@@ -498,7 +515,7 @@ func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {
 	}
 	s.mu.Lock()
 	for _, f := range p.Event.Removed {
-		if path, err := uriPath(f.URI); err == nil {
+		if path, err := uriPath(protocol.DocumentURI(f.URI)); err == nil {
 			for i, r := range s.ses.roots {
 				if r == path {
 					s.ses.roots = append(s.ses.roots[:i], s.ses.roots[i+1:]...)
@@ -508,7 +525,7 @@ func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {
 		}
 	}
 	for _, f := range p.Event.Added {
-		if path, err := uriPath(f.URI); err == nil {
+		if path, err := uriPath(protocol.DocumentURI(f.URI)); err == nil {
 			s.ses.roots = append(s.ses.roots, path)
 		}
 	}
@@ -638,7 +655,7 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 		return
 	}
 	v := doc.version
-	s.notify(protocol.MethodPublishDiagnostics, protocol.PublishDiagnosticsParams{URI: doc.uri, Version: &v, Diagnostics: diags})
+	s.notify(protocol.MethodTextDocumentPublishDiagnostics, lspext.PublishDiagnosticsParams{URI: doc.uri, Version: &v, Diagnostics: diags})
 }
 
 func debugStack() string { return string(debug.Stack()) }

@@ -6,14 +6,15 @@ import (
 	"sort"
 	"strings"
 
-	"ringside/server/protocol"
+	"go.lsp.dev/protocol"
+
 	"ringside/syntax"
 )
 
 // declSymbol is one named statement of a file.
 type declSymbol struct {
 	name   string
-	kind   int
+	kind   protocol.SymbolKind
 	detail string
 	span   syntax.Span // whole statement
 	sel    syntax.Span // the name
