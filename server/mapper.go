@@ -66,9 +66,11 @@ func (m *Mapper) units(b []byte) int {
 	return n
 }
 
-// PositionOffset converts a position to a byte offset. A line past the
-// last, a column past the end of its line, or a column inside a character
-// is an error naming the valid range. The position just past the last line
+// PositionOffset converts a position to a byte offset. A column past the
+// end of its line stands for the line's end (LSP 3.17, Position: "If the
+// character value is greater than the line length it defaults back to the
+// line length"). A line past the last, or a column inside a character, is
+// an error naming the valid range. The position just past the last line
 // (line = number of lines, column 0) is accepted as the end of the text,
 // as clients send it for whole-document ranges.
 func (m *Mapper) PositionOffset(p protocol.Position) (syntax.Pos, error) {
@@ -94,10 +96,7 @@ func (m *Mapper) PositionOffset(p protocol.Position) (syntax.Pos, error) {
 		units += w
 		off += size
 	}
-	if units == col {
-		return syntax.Pos(end), nil
-	}
-	return syntax.NoPos, fmt.Errorf("invalid column %d on line %d (want 0-%d in %s)", col, line, units, m.encoding)
+	return syntax.Pos(end), nil
 }
 
 // SpanRange converts a byte span to a range.

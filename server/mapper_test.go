@@ -49,13 +49,16 @@ func TestMapper(t *testing.T) {
 		p    protocol.Position
 		want string
 	}{
-		{pos(0, 12), "invalid column 12 on line 0 (want 0-10 in utf-16)"},
 		{pos(9, 0), "invalid line 9 (want 0-3)"},
 		{pos(1, 3), "column 3 on line 1 falls inside a character"},
 	} {
 		if _, err := m.PositionOffset(tc.p); err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("PositionOffset(%v) error %v, want %q", tc.p, err, tc.want)
 		}
+	}
+	// A column past the line's end is the line's end (LSP 3.17).
+	if off, err := m.PositionOffset(pos(0, 12)); err != nil || off != m.lines.LineEnd(0) {
+		t.Errorf("PositionOffset(0:12) = %d %v, want the end of line 0 (%d)", off, err, m.lines.LineEnd(0))
 	}
 	if _, err := m.OffsetPosition(99); err == nil || err.Error() != "invalid offset 99 (want 0-28)" {
 		t.Errorf("OffsetPosition(99) error %v", err)
@@ -81,8 +84,12 @@ func TestApplyChanges(t *testing.T) {
 	if string(text) != "gain ké = 1\r\nblock 😀 = 2\r\n" {
 		t.Errorf("input modified: %q", text)
 	}
-	_, err = applyChanges(text, []lspext.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(0, 40), End: pos(0, 41)}, Text: "x"}}, lspext.EncodingUTF16)
-	if err == nil || !strings.Contains(err.Error(), "want 0-11") {
+	got, err = applyChanges(text, []lspext.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(0, 40), End: pos(0, 41)}, Text: "x"}}, lspext.EncodingUTF16)
+	if err != nil || string(got) != "gain ké = 1x\r\nblock 😀 = 2\r\n" {
+		t.Errorf("change past the line end (clamped to it): %q %v", got, err)
+	}
+	_, err = applyChanges(text, []lspext.TextDocumentContentChangeEvent{{Range: &protocol.Range{Start: pos(7, 0), End: pos(7, 1)}, Text: "x"}}, lspext.EncodingUTF16)
+	if err == nil || !strings.Contains(err.Error(), "want 0-2") {
 		t.Errorf("bad range error: %v", err)
 	}
 }

@@ -33,6 +33,7 @@ type session struct {
 	// folders, files on disk); cached results of an older gen are stale.
 	gen   uint64
 	cache map[cacheKey]*analysis.Result
+	order []cacheKey // insertion order of cache, oldest first
 	// known are the .loop files of the workspace (scanned or opened).
 	known map[string]bool
 	diag  map[string]*diagState
@@ -235,17 +236,35 @@ func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysi
 	}
 	s.mu.Lock()
 	if s.ses.gen == sn.gen {
-		if len(s.ses.cache) > 256 {
-			for k := range s.ses.cache {
-				if k.gen != sn.gen {
-					delete(s.ses.cache, k)
-				}
-			}
-		}
-		s.ses.cache[key] = res
+		s.ses.remember(key, res)
 	}
 	s.mu.Unlock()
 	return res, nil
+}
+
+// cacheLimit bounds the analysis results kept for reuse. A result of a
+// 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
+// results are kept for the few files in use at the moment, not for every
+// open one; published diagnostics do not need them.
+const cacheLimit = 8
+
+// remember caches res under key, dropping stale generations and then the
+// oldest entries beyond cacheLimit.
+func (ses *session) remember(key cacheKey, res *analysis.Result) {
+	kept := ses.order[:0]
+	for _, k := range ses.order {
+		if k.gen == key.gen && k != key {
+			kept = append(kept, k)
+		} else {
+			delete(ses.cache, k)
+		}
+	}
+	for len(kept) >= cacheLimit {
+		delete(ses.cache, kept[0])
+		kept = kept[1:]
+	}
+	ses.order = append(kept, key)
+	ses.cache[key] = res
 }
 
 // docParams resolves a request's document: its snapshot, path and mapper.
@@ -625,6 +644,17 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 			s.bug("panic checking %s: %v\n%s", path, r, debugStack())
 		}
 	}()
+	// As many checks at once as there are processors: more only multiplies
+	// the memory in flight (a check allocates several times what it keeps).
+	select {
+	case checkSlots <- struct{}{}:
+		defer func() { <-checkSlots }()
+	case <-ctx.Done():
+		return
+	}
+	if ctx.Err() != nil {
+		return // superseded while waiting
+	}
 	sn := s.snapshot()
 	doc, ok := sn.docs[path]
 	if !ok {
@@ -657,5 +687,8 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 	v := doc.version
 	s.notify(protocol.MethodTextDocumentPublishDiagnostics, lspext.PublishDiagnosticsParams{URI: doc.uri, Version: &v, Diagnostics: diags})
 }
+
+// checkSlots bounds the document checks running at once.
+var checkSlots = make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
 
 func debugStack() string { return string(debug.Stack()) }

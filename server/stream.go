@@ -40,7 +40,10 @@ func newStream(rwc io.ReadWriteCloser) *stream {
 // that a corrupt header cannot make the server allocate gigabytes.
 const maxFrame = 256 << 20
 
-// Read implements jsonrpc2.Stream.
+// Read implements jsonrpc2.Stream. A frame that is not a JSON-RPC 2.0
+// message is answered (ParseError or InvalidRequest, as JSON-RPC 2.0 says)
+// and reading goes on; a broken header is answered with a ParseError and
+// reading resumes at the next Content-Length header.
 func (s *stream) Read(ctx context.Context) (jsonrpc2.Message, int64, error) {
 	var total int64
 	for {
@@ -49,8 +52,27 @@ func (s *stream) Read(ctx context.Context) (jsonrpc2.Message, int64, error) {
 		}
 		data, n, err := s.readFrame()
 		total += n
+		var fe *frameError
+		if errors.As(err, &fe) {
+			if err := s.writeWire(wireMessage{JSONRPC: "2.0", ID: json.RawMessage("null"), Error: jsonrpc2.NewError(jsonrpc2.ParseError, fe.Error())}); err != nil {
+				return nil, total, err
+			}
+			if fe.resync {
+				if err := s.skipToHeader(); err != nil {
+					return nil, total, err
+				}
+			}
+			continue
+		}
 		if err != nil {
 			return nil, total, err
+		}
+		data, bad := checkEnvelope(data)
+		if bad != nil {
+			if err := s.writeWire(*bad); err != nil {
+				return nil, total, err
+			}
+			continue
 		}
 		msg, err := jsonrpc2.DecodeMessage(data)
 		if err == nil {
@@ -66,9 +88,110 @@ func (s *stream) Read(ctx context.Context) (jsonrpc2.Message, int64, error) {
 	}
 }
 
-// readFrame reads one Content-Length framed body.
+// frameError is a header or body that cannot be read as a frame; resync
+// says the body's length is unknown, so the stream must look for the next
+// header.
+type frameError struct {
+	msg    string
+	resync bool
+}
+
+func (e *frameError) Error() string { return e.msg }
+
+// contentLength is the header that starts every frame in practice; after a
+// broken header the reader skips to the next one.
+const contentLength = "content-length:"
+
+// skipToHeader discards input up to the next line that starts a
+// Content-Length header, which it leaves unread.
+func (s *stream) skipToHeader() error {
+	for {
+		b, err := s.in.Peek(len(contentLength))
+		if err != nil {
+			return fmt.Errorf("resynchronising after a broken header: %w", err)
+		}
+		if strings.EqualFold(string(b), contentLength) {
+			return nil
+		}
+		if _, err := s.in.ReadByte(); err != nil {
+			return err
+		}
+	}
+}
+
+// bigID marks a numeric id outside jsonrpc2's 32-bit range: it is carried
+// inside as a string with this prefix and written back as the number.
+const bigID = "\x00ringside-number-id:"
+
+// checkEnvelope checks what jsonrpc2's decoder takes on trust (JSON-RPC 2.0
+// section 4 and 5): an object, "jsonrpc": "2.0", an id that is a number or a
+// string, a string method, or a result or error. It returns the answer for
+// a message that fails, else the data to decode (with a large numeric id
+// rewritten, see bigID).
+func checkEnvelope(data []byte) ([]byte, *wireMessage) {
+	null := json.RawMessage("null")
+	invalid := func(id json.RawMessage, why string) *wireMessage {
+		return &wireMessage{JSONRPC: "2.0", ID: id, Error: jsonrpc2.NewError(jsonrpc2.InvalidRequest, "invalid request: "+why)}
+	}
+	body := bytes.TrimSpace(data)
+	if len(body) == 0 || !json.Valid(body) {
+		return nil, &wireMessage{JSONRPC: "2.0", ID: null, Error: jsonrpc2.NewError(jsonrpc2.ParseError, "parse error: the body is not JSON")}
+	}
+	switch body[0] {
+	case '{':
+	case '[':
+		return nil, invalid(null, "batches are not part of the Language Server Protocol; send one message per frame")
+	default:
+		return nil, invalid(null, "a message must be a JSON object")
+	}
+	var env map[string]json.RawMessage
+	if err := json.Unmarshal(body, &env); err != nil {
+		return nil, invalid(null, err.Error())
+	}
+	id, hasID := env["id"]
+	if hasID {
+		switch t := bytes.TrimSpace(id); {
+		case len(t) > 0 && t[0] == '"':
+		case len(t) > 0 && (t[0] == '-' || (t[0] >= '0' && t[0] <= '9')):
+			if n, err := strconv.ParseInt(string(t), 10, 32); err != nil || n != int64(int32(n)) {
+				s, _ := json.Marshal(bigID + string(t))
+				env["id"] = s
+				data, _ = json.Marshal(env)
+			}
+		case string(t) == "null":
+			return nil, invalid(null, "id null is not allowed: use a number or a string")
+		default:
+			return nil, invalid(null, "an id must be a number or a string")
+		}
+	}
+	answerID := null
+	if hasID {
+		answerID = id
+	}
+	if v, ok := env["jsonrpc"]; !ok || string(bytes.TrimSpace(v)) != `"2.0"` {
+		return nil, invalid(answerID, `"jsonrpc" must be "2.0"`)
+	}
+	m, hasMethod := env["method"]
+	_, hasResult := env["result"]
+	_, hasError := env["error"]
+	switch {
+	case hasMethod && (len(bytes.TrimSpace(m)) == 0 || bytes.TrimSpace(m)[0] != '"'):
+		return nil, invalid(answerID, `"method" must be a string`)
+	case !hasMethod && !hasResult && !hasError:
+		if !hasID {
+			return nil, invalid(null, "neither a request, a notification nor a response")
+		}
+		return nil, invalid(answerID, `a request needs a "method"`)
+	}
+	return data, nil
+}
+
+// readFrame reads one Content-Length framed body. A header it cannot use
+// is a *frameError.
 func (s *stream) readFrame() ([]byte, int64, error) {
 	var total, length int64
+	seen := false
+	var bad *frameError
 	for {
 		line, err := s.in.ReadString('\n')
 		total += int64(len(line))
@@ -81,17 +204,23 @@ func (s *stream) readFrame() ([]byte, int64, error) {
 		}
 		name, value, ok := strings.Cut(line, ":")
 		if !ok {
-			return nil, total, fmt.Errorf("invalid header line %q", line)
+			return nil, total, &frameError{fmt.Sprintf("parse error: invalid header line %q", truncate(line, 60)), true}
 		}
 		if strings.EqualFold(strings.TrimSpace(name), "Content-Length") {
 			length, err = strconv.ParseInt(strings.TrimSpace(value), 10, 64)
-			if err != nil || length <= 0 || length > maxFrame {
-				return nil, total, fmt.Errorf("invalid Content-Length %q", value)
+			seen = true
+			if err != nil || length < 0 || length > maxFrame {
+				bad = &frameError{fmt.Sprintf("parse error: invalid Content-Length %q (want 0-%d)", strings.TrimSpace(value), maxFrame), true}
 			}
 		}
 	}
-	if length == 0 {
-		return nil, total, errors.New("missing Content-Length header")
+	switch {
+	case bad != nil:
+		return nil, total, bad
+	case !seen:
+		return nil, total, &frameError{"parse error: missing Content-Length header", true}
+	case length == 0:
+		return nil, total, &frameError{"parse error: empty body (Content-Length: 0)", false}
 	}
 	data := make([]byte, length)
 	n, err := io.ReadFull(s.in, data)
@@ -100,6 +229,13 @@ func (s *stream) readFrame() ([]byte, int64, error) {
 		return nil, total, fmt.Errorf("reading a body: %w", err)
 	}
 	return data, total, nil
+}
+
+func truncate(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	return s[:n] + "…"
 }
 
 // Close implements jsonrpc2.Stream.
@@ -146,7 +282,18 @@ func (s *stream) Write(ctx context.Context, msg jsonrpc2.Message) (int64, error)
 	if err != nil {
 		return 0, err
 	}
+	m.ID = restoreBigID(m.ID)
 	return s.writeWireN(m)
+}
+
+// restoreBigID writes a numeric id carried as a bigID string back as the
+// number the client sent.
+func restoreBigID(id json.RawMessage) json.RawMessage {
+	var s string
+	if len(id) == 0 || id[0] != '"' || json.Unmarshal(id, &s) != nil || !strings.HasPrefix(s, bigID) {
+		return id
+	}
+	return json.RawMessage(strings.TrimPrefix(s, bigID))
 }
 
 func (s *stream) writeWire(m wireMessage) error {
