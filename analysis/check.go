@@ -53,6 +53,8 @@ type checker struct {
 	ld    *loader
 	root  *unit
 	gains map[string]float64
+	// loopNames holds the first loop of each name, for duplicates.
+	loopNames map[string]*syntax.LoopStmt
 	// base evaluates blocks at the declared gains; sweeps reuse it.
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
@@ -227,17 +229,15 @@ func (c *checker) declare() {
 }
 
 func (c *checker) checkLoopName(s *syntax.LoopStmt) {
-	for _, other := range c.root.file.Stmts {
-		o, ok := other.(*syntax.LoopStmt)
-		if !ok || o == s || o.Name == nil {
-			continue
-		}
-		if o.Name.Name == s.Name.Name && o.From < s.From {
-			line, _ := c.root.file.Lines.LineCol(o.From)
-			c.diags.add(c.root.path, s.Name.Span, Error, CodeDuplicateName, fmt.Sprintf("loop %s is already declared on line %d", s.Name.Name, line))
-			return
-		}
+	if c.loopNames == nil {
+		c.loopNames = map[string]*syntax.LoopStmt{}
 	}
+	if first, dup := c.loopNames[s.Name.Name]; dup {
+		line, _ := c.root.file.Lines.LineCol(first.From)
+		c.diags.add(c.root.path, s.Name.Span, Error, CodeDuplicateName, fmt.Sprintf("loop %s is already declared on line %d", s.Name.Name, line))
+		return
+	}
+	c.loopNames[s.Name.Name] = s
 }
 
 // gainValues reads every gain in scope and checks the declared range.
