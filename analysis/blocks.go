@@ -111,8 +111,14 @@ func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Spa
 	if err1 != nil || err2 != nil {
 		return
 	}
-	for _, p := range dr.Clusters {
-		for _, q := range nr.Clusters {
+	c.sharedRoot(b, nr.Clusters, dr.Clusters, v, span)
+}
+
+// sharedRoot warns when a numerator root (zeros) and a denominator root
+// (poles) of a block coincide.
+func (c *checker) sharedRoot(b *Block, zeros, poles []roots.Cluster, v byte, span syntax.Span) {
+	for _, p := range poles {
+		for _, q := range zeros {
 			if cmplx.Abs(p.Value-q.Value) <= CommonRootTolerance*math.Max(1, cmplx.Abs(p.Value)) {
 				c.diags.add(b.Path, span, Warning, CodeCommonRoot,
 					fmt.Sprintf("block %s has numerator and denominator sharing the root %c = %s; loops use the block as written, so this mode stays in every loop's characteristic polynomial (and is reported as hidden)",
@@ -125,24 +131,26 @@ func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Spa
 
 // blockPoles fills in a block's discrete poles and zeros.
 func (c *checker) blockPoles(b *Block) {
-	if b.Var == 'z' {
-		c.commonRoots(b, b.TF, 'z', exprSpan(b.Stmt.Expr))
-	}
 	b.DCGain = dcGain(b.TF)
 	t := c.res.SampleT
 	if t == 0 {
 		t = 1 // pole radius and angle do not need it; times are then per sample
 	}
 	tol := c.env.Options.Tolerance
-	if pr, err := roots.Find(b.TF.Den); err == nil {
+	pr, perr := roots.Find(b.TF.Den)
+	zr, zerr := roots.Find(b.TF.Num)
+	if perr == nil {
 		for _, p := range pr.Roots {
 			b.Poles = append(b.Poles, pole.Describe(p, t, tol))
 		}
 	}
-	if zr, err := roots.Find(b.TF.Num); err == nil {
+	if zerr == nil {
 		for _, z := range zr.Roots {
 			b.Zeros = append(b.Zeros, pole.Describe(z, t, tol))
 		}
+	}
+	if b.Var == 'z' && perr == nil && zerr == nil {
+		c.sharedRoot(b, zr.Clusters, pr.Clusters, 'z', exprSpan(b.Stmt.Expr))
 	}
 	sortPoles(b.Poles)
 	sortPoles(b.Zeros)
