@@ -7,7 +7,6 @@ import (
 	"sort"
 	"strings"
 
-	"go.lsp.dev/jsonrpc2"
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
@@ -36,13 +35,9 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	sn, path, _, src, pos, err := s.docPosition(p)
 	if err != nil {
 		return nil, err
-	}
-	pos, err := m.PositionOffset(p.Position)
-	if err != nil {
-		return nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	async(ctx)
 	lineStart := syntax.NewLines(src).LineStart(int(p.Position.Line))

@@ -7,7 +7,6 @@ import (
 	"math"
 	"strings"
 
-	"go.lsp.dev/jsonrpc2"
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
@@ -22,13 +21,9 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, _, pos, err := s.docPosition(p)
 	if err != nil {
 		return nil, err
-	}
-	pos, err := m.PositionOffset(p.Position)
-	if err != nil {
-		return nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	async(ctx)
 	// Blocks need no loop numerics: try the quick result first.

@@ -7,7 +7,6 @@ import (
 	"regexp"
 	"sort"
 
-	"go.lsp.dev/jsonrpc2"
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
@@ -26,13 +25,9 @@ var nameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
 
 // targetAt resolves the request position to a target in the quick result.
 func (s *Server) targetAt(ctx context.Context, p protocol.TextDocumentPositionParams) (*snapshot, *analysis.Result, *target, error) {
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, _, _, pos, err := s.docPosition(p)
 	if err != nil {
 		return nil, nil, nil, err
-	}
-	pos, err := m.PositionOffset(p.Position)
-	if err != nil {
-		return nil, nil, nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	async(ctx)
 	res, err := sn.check(ctx, path, false)

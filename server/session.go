@@ -20,6 +20,7 @@ import (
 
 	"ringside/analysis"
 	"ringside/server/lspext"
+	"ringside/syntax"
 )
 
 // session is the mutable state of a server, guarded by Server.mu.
@@ -265,6 +266,20 @@ func (ses *session) remember(key cacheKey, res *analysis.Result) {
 	}
 	ses.order = append(kept, key)
 	ses.cache[key] = res
+}
+
+// docPosition resolves a request's document and the byte offset of its
+// position.
+func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
+	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	if err != nil {
+		return nil, "", nil, nil, syntax.NoPos, err
+	}
+	pos, err := m.PositionOffset(p.Position)
+	if err != nil {
+		return nil, "", nil, nil, syntax.NoPos, errorf(jsonrpc2.InvalidParams, "%v", err)
+	}
+	return sn, path, m, src, pos, nil
 }
 
 // docParams resolves a request's document: its snapshot, path and mapper.
