@@ -129,3 +129,13 @@ func (c *checker) summaries() {
 		}
 	}
 }
+
+// SafeValue is the value offered for the gain: SafeMax rounded down to
+// three significant figures (the side that keeps the margin), as the
+// quick-fix writes it.
+func (lim *GainLimits) SafeValue() (float64, bool) {
+	if lim == nil || lim.SafeMax == nil {
+		return 0, false
+	}
+	return roundDown(*lim.SafeMax), true
+}

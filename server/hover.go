@@ -388,8 +388,8 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 	default:
 		fmt.Fprintf(&w, "No value found that makes loops %s stable.\n", strings.Join(lim.Loops, ", "))
 	}
-	if lim.SafeMax != nil {
-		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %.4g.\n", g.Name, *lim.SafeMax)
+	if v, ok := lim.SafeValue(); ok {
+		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %s.\n", g.Name, analysis.FormatNumber(v))
 	} else if lim.SafeMaxNote != "" {
 		fmt.Fprintf(&w, "\n%s.\n", strings.TrimSuffix(lim.SafeMaxNote, "."))
 	}
