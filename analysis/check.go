@@ -4,6 +4,10 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
+	"runtime"
+	"sort"
+	"sync"
+	"sync/atomic"
 
 	"ringside/syntax"
 )
@@ -68,21 +72,49 @@ func (c *checker) run(ctx context.Context) {
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev
 	c.blocks(ev)
+	// Every block in scope is evaluated before the loops, which then only
+	// read the shared evaluator and can be analysed side by side.
+	for _, name := range sortedDecls(c.res.Scope) {
+		if d := c.res.Scope[name]; d.Block != nil {
+			ev.block(d)
+		}
+	}
+	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
-		ls, ok := st.(*syntax.LoopStmt)
-		if !ok || ls.Name == nil {
-			continue
+		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
+			stmts = append(stmts, ls)
 		}
-		if err := ctx.Err(); err != nil {
-			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
-			c.res.Loops = append(c.res.Loops, &Loop{Name: ls.Name.Name, Stmt: ls})
-			continue
+	}
+	if len(stmts) > MaxLoops {
+		for _, ls := range stmts[MaxLoops:] {
+			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("more than %d loops in one file: this loop is not analysed; split the file", MaxLoops))
 		}
-		if len(c.res.Loops) >= MaxLoops {
-			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("more than %d loops in one file: this loop and the ones after it are not analysed; split the file", MaxLoops))
-			break
+		stmts = stmts[:MaxLoops]
+	}
+	// Each loop reports into a list of its own; the lists are joined in
+	// source order, so the result does not depend on the scheduling.
+	loops := make([]*Loop, len(stmts))
+	own := make([]*checker, len(stmts))
+	parallel(len(stmts), func(i int) {
+		ls := stmts[i]
+		lc := *c
+		lc.diags, lc.pending = &diagList{}, nil
+		own[i] = &lc
+		if ctx.Err() != nil {
+			lc.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
+			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls}
+			return
 		}
-		c.res.Loops = append(c.res.Loops, c.loop(ev, ls))
+		loops[i] = lc.loop(ev, ls)
+	})
+	for i, lc := range own {
+		base := len(c.diags.list)
+		c.diags.list = append(c.diags.list, lc.diags.list...)
+		for _, p := range lc.pending {
+			p.diag += base
+			c.pending = append(c.pending, p)
+		}
+		c.res.Loops = append(c.res.Loops, loops[i])
 	}
 	c.gainLimits(ctx)
 	c.summaries()
@@ -278,4 +310,41 @@ func (c *checker) gainValues() {
 			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, fmtNum(g.Value), fmtNum(*g.Max)))
 		}
 	}
+}
+
+// parallel runs f(0) … f(n−1) on as many goroutines as there are
+// processors. Each f must touch only its own index's data.
+func parallel(n int, f func(i int)) {
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers <= 1 {
+		for i := 0; i < n; i++ {
+			f(i)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				i := int(next.Add(1) - 1)
+				if i >= n {
+					return
+				}
+				f(i)
+			}
+		}()
+	}
+	wg.Wait()
+}
+
+func sortedDecls(scope map[string]*Decl) []string {
+	names := make([]string, 0, len(scope))
+	for n := range scope {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	return names
 }

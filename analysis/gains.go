@@ -88,9 +88,12 @@ func (c *checker) gainLimits(ctx context.Context) {
 	for _, name := range used {
 		gains = append(gains, c.res.Scope[name].Gain)
 	}
-	for _, g := range gains {
+	// Gains are independent of each other: each search only reads the
+	// loops and the shared evaluator.
+	parallel(len(gains), func(i int) {
+		g := gains[i]
 		if ctx.Err() != nil {
-			break
+			return
 		}
 		var loops []*Loop
 		for _, l := range c.res.Loops {
@@ -98,11 +101,10 @@ func (c *checker) gainLimits(ctx context.Context) {
 				loops = append(loops, l)
 			}
 		}
-		if len(loops) == 0 {
-			continue
+		if len(loops) > 0 {
+			g.Limits = c.limitsOf(g, loops)
 		}
-		g.Limits = c.limitsOf(g, loops)
-	}
+	})
 	c.attachFixes()
 }
 
