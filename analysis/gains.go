@@ -195,12 +195,12 @@ func (c *checker) excess(name string, k float64, loops []*Loop) float64 {
 		if err != nil || !st {
 			return math.NaN()
 		}
-		m, err := freq.Compute(open, c.res.SampleT)
+		gm, err := freq.GainMargin(open, c.res.SampleT)
 		if err != nil {
 			return math.NaN()
 		}
-		if m.GainMarginDB != nil {
-			worst = math.Min(worst, *m.GainMarginDB-c.requiredGM(l))
+		if gm != nil {
+			worst = math.Min(worst, *gm-c.requiredGM(l))
 		}
 	}
 	return worst
