@@ -46,13 +46,22 @@ func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Ratio
 
 // affine returns a, b with char(k) = a + k·b when that holds.
 func (c *checker) affine(l *Loop, name string, k0 float64) (a, b poly.Poly, ok bool) {
+	return c.affineScaled(l, name, k0, 1)
+}
+
+// affineScaled is affine for the loop with L multiplied by alpha, whose
+// characteristic polynomial is den(L) + alpha·num(L).
+func (c *checker) affineScaled(l *Loop, name string, k0, alpha float64) (a, b poly.Poly, ok bool) {
 	h := math.Max(math.Abs(k0), 1)
 	ks := []float64{k0, k0 + 0.37*h, k0 - 0.61*h, k0 + 1.43*h}
 	var ps []poly.Poly
 	for _, k := range ks {
-		p, _, ok := c.loopAt(l, name, k)
+		p, open, ok := c.loopAt(l, name, k)
 		if !ok {
 			return nil, nil, false
+		}
+		if alpha != 1 {
+			p = open.Den.Add(open.Num.Scale(alpha))
 		}
 		ps = append(ps, p)
 	}
@@ -256,6 +265,39 @@ func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
 	return lo
 }
 
+// marginBoundary returns, for a gain on which every loop's characteristic
+// polynomial is affine, the value where the required gain margin runs out:
+// GM ≥ r dB means the loop with L raised by r dB is still stable, so the
+// boundary is an end of the exact stable interval of that raised loop
+// (its upper end above the current value when the current value passes;
+// otherwise the upper end of the nearest raised-stable interval below).
+// It is a guess that the caller verifies: the margin convention (the
+// crossing nearest 0 dB) can differ on conditionally stable loops.
+func (c *checker) marginBoundary(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
+	if !lim.Exact {
+		return 0, false
+	}
+	best := math.Inf(1)
+	for _, l := range loops {
+		a, b, ok := c.affineScaled(l, name, k0, math.Pow(10, c.requiredGM(l)/20))
+		if !ok {
+			return 0, false
+		}
+		iv, err := gainlimit.Affine(a, b, k0)
+		if err != nil || !iv.Found || iv.Hi == nil {
+			return 0, false
+		}
+		if !iv.ContainsCurrent && *iv.Hi > k0 {
+			return 0, false
+		}
+		best = math.Min(best, *iv.Hi)
+	}
+	if lim.StableMax != nil {
+		best = math.Min(best, *lim.StableMax)
+	}
+	return best, !math.IsInf(best, 1) && best != 0
+}
+
 // scalingGuess returns, for a gain that only scales L (L(k) = (k/k0)·L(k0)
 // in every loop: a proportional gain or a gain block on the path), the
 // value at which the gain margin equals its requirement: the phase
@@ -302,6 +344,17 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
 	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
 	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
+	if guess, found := c.marginBoundary(g.Name, k0, loops, lim); found {
+		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
+		if guess < 0 {
+			lo, hi = hi, lo
+		}
+		if ok(lo) && !ok(hi) {
+			v := largestMeeting(f, lo, hi, math.NaN())
+			lim.SafeMax = &v
+			return
+		}
+	}
 	if guess, found := c.scalingGuess(g.Name, k0, loops); found && k0 > 0 && guess > 0 {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if ok(lo) && !ok(hi) {
