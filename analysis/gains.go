@@ -350,8 +350,7 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 			lo, hi = hi, lo
 		}
 		if ok(lo) && !ok(hi) {
-			v := largestMeeting(f, lo, hi, math.NaN())
-			lim.SafeMax = &v
+			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
 	}
