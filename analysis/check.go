@@ -43,7 +43,7 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	for _, e := range root.errs {
 		diags.add(path, e.Span, Error, CodeSyntax, e.Msg)
 	}
-	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root}
+	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}}
 	c.run(ctx)
 	res.Diagnostics = diags.sorted(path)
 	return res
@@ -57,6 +57,8 @@ type checker struct {
 	ld    *loader
 	root  *unit
 	gains map[string]float64
+	// forms caches affine fits of loops in a gain (gain searches).
+	forms *sync.Map
 	// loopNames holds the first loop of each name, for duplicates.
 	loopNames map[string]*syntax.LoopStmt
 	// base evaluates blocks at the declared gains; sweeps reuse it.

@@ -52,33 +52,69 @@ func (c *checker) affine(l *Loop, name string, k0 float64) (a, b poly.Poly, ok b
 // affineScaled is affine for the loop with L multiplied by alpha, whose
 // characteristic polynomial is den(L) + alpha·num(L).
 func (c *checker) affineScaled(l *Loop, name string, k0, alpha float64) (a, b poly.Poly, ok bool) {
+	f := c.affineForm(l, name, k0)
+	if !f.ok {
+		return nil, nil, false
+	}
+	return f.denA.Add(f.numA.Scale(alpha)), f.denB.Add(f.numB.Scale(alpha)), true
+}
+
+// affineForm holds num(L) and den(L) as affine functions of a gain:
+// num = numA + k·numB, den = denA + k·denB.
+type affineForm struct {
+	numA, numB, denA, denB poly.Poly
+	ok                     bool
+}
+
+type formKey struct {
+	loop *Loop
+	gain string
+}
+
+// affineForm fits num(L) and den(L) through two values of the gain and
+// checks the fit at two more; ok is false when either is not affine.
+// Forms are kept per loop and gain (the gain searches ask several times).
+func (c *checker) affineForm(l *Loop, name string, k0 float64) affineForm {
+	key := formKey{l, name}
+	if f, ok := c.forms.Load(key); ok {
+		return f.(affineForm)
+	}
+	f := c.fitAffine(l, name, k0)
+	c.forms.Store(key, f)
+	return f
+}
+
+func (c *checker) fitAffine(l *Loop, name string, k0 float64) affineForm {
 	h := math.Max(math.Abs(k0), 1)
 	ks := []float64{k0, k0 + 0.37*h, k0 - 0.61*h, k0 + 1.43*h}
-	var ps []poly.Poly
+	var nums, dens []poly.Poly
 	for _, k := range ks {
-		p, open, ok := c.loopAt(l, name, k)
+		_, open, ok := c.loopAt(l, name, k)
 		if !ok {
-			return nil, nil, false
+			return affineForm{}
 		}
-		if alpha != 1 {
-			p = open.Den.Add(open.Num.Scale(alpha))
-		}
-		ps = append(ps, p)
+		nums, dens = append(nums, open.Num), append(dens, open.Den)
 	}
-	b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
-	a = ps[0].Sub(b.Scale(k0))
-	scale := 0.0
-	for _, p := range ps {
-		for _, v := range p {
-			scale = math.Max(scale, math.Abs(v))
+	line := func(ps []poly.Poly) (a, b poly.Poly, ok bool) {
+		b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
+		a = ps[0].Sub(b.Scale(k0))
+		scale := 0.0
+		for _, p := range ps {
+			scale = math.Max(scale, maxAbs(p))
 		}
-	}
-	for i := 2; i < len(ks); i++ {
-		if !a.Add(b.Scale(ks[i])).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
-			return nil, nil, false
+		for i := 2; i < len(ks); i++ {
+			if !a.Add(b.Scale(ks[i]-k0)).Add(b.Scale(k0)).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
+				return nil, nil, false
+			}
 		}
+		return a, b, true
 	}
-	return a, b, true
+	var f affineForm
+	var ok1, ok2 bool
+	f.numA, f.numB, ok1 = line(nums)
+	f.denA, f.denB, ok2 = line(dens)
+	f.ok = ok1 && ok2
+	return f
 }
 
 // gainLimits computes each gain's stable interval and safe maximum over the
