@@ -111,6 +111,9 @@ func Discretize(c poly.Rational, o Options) (poly.Rational, error) {
 		return poly.Rational{}, errors.New("discretize: denominator is zero")
 	case num.Degree() > den.Degree():
 		return poly.Rational{}, fmt.Errorf("discretize: improper transfer function (numerator degree %d above denominator degree %d) has no causal discrete equivalent", num.Degree(), den.Degree())
+	case o.Method < ZOH || o.Method > Matched:
+		// Checked here, before the static-gain shortcut below skips the method.
+		return poly.Rational{}, fmt.Errorf("discretize: unknown method %d", int(o.Method))
 	case math.IsNaN(o.PrewarpHz) || o.PrewarpHz < 0 || math.IsInf(o.PrewarpHz, 0):
 		return poly.Rational{}, fmt.Errorf("discretize: prewarp frequency must be a finite non-negative number, got %g", o.PrewarpHz)
 	case o.PrewarpHz != 0 && o.Method != Tustin:
@@ -252,6 +255,11 @@ func holdEquivalent(num, den poly.Poly, T float64, foh bool) (poly.Rational, err
 	}
 	if foh {
 		m.Set(n, n+1, 1)
+	}
+	// gonum's Exp squares log2(‖M‖) times: an overflowed ‖M‖ (a pole far
+	// beyond 1/T, or a huge T) would never return.
+	if norm := mat.Norm(m, 1); math.IsInf(norm, 0) || math.IsNaN(norm) {
+		return poly.Rational{}, errors.New("discretize: A·T overflows float64 (a pole far too fast for the sample period)")
 	}
 	var e mat.Dense
 	e.Exp(m)

@@ -5,6 +5,7 @@ import (
 	"math/cmplx"
 	"math/rand"
 	"testing"
+	"time"
 
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
@@ -228,5 +229,40 @@ func TestZOHRepeatedPoles(t *testing.T) {
 	}
 	if len(res.Clusters) != 1 || res.Clusters[0].Multiplicity != 3 || math.Abs(real(res.Clusters[0].Value)-math.Exp(-T)) > 1e-12 {
 		t.Errorf("clusters %v, want e^{-T} = %g three times", res.Clusters, math.Exp(-T))
+	}
+}
+
+// TestDiscretizeUnknownMethodStaticGain is the regression for a fuzz
+// crasher (testdata/fuzz/FuzzDiscretize/54b720614030ce44): a constant
+// H(s) took the static-gain shortcut before the method was checked, so an
+// unknown method was accepted.
+func TestDiscretizeUnknownMethodStaticGain(t *testing.T) {
+	for _, m := range []Method{0, Matched + 1} {
+		if _, err := Discretize(poly.R(poly.Poly{2}, poly.Poly{1e300}), Options{Method: m, T: 1}); err == nil {
+			t.Errorf("method %d: want an error", int(m))
+		}
+	}
+}
+
+// TestDiscretizeHoldMatrixOverflow is the regression for a fuzz hang
+// (testdata/fuzz/FuzzDiscretize/bd77f702302d27a7): a pole at s ≈ −6e304
+// with T = 1.43e8 s made ‖A·T‖ overflow, and the matrix exponential's
+// squaring loop never ended. It must return an error promptly.
+func TestDiscretizeHoldMatrixOverflow(t *testing.T) {
+	c := poly.R(poly.Poly{1}, poly.Poly{0.30000000000000004, 72500, 1.1875e-300})
+	for _, m := range []Method{ZOH, FOH} {
+		done := make(chan error, 1)
+		go func() {
+			_, err := Discretize(c, Options{Method: m, T: 1.43e8})
+			done <- err
+		}()
+		select {
+		case err := <-done:
+			if err == nil {
+				t.Errorf("%s: want an error", m)
+			}
+		case <-time.After(5 * time.Second):
+			t.Fatalf("%s: Discretize did not return", m)
+		}
 	}
 }

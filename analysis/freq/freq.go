@@ -105,7 +105,10 @@ const (
 // smallest |GM|, resp. of smallest PM (found on the grid and refined), and
 // the delay margin of that point.
 // Errors: T not finite and positive, a zero or non-finite numerator or
-// denominator.
+// denominator, or a numerator whose leading coefficient underflows, or any
+// coefficient overflows, when scaled to the denominator (sizes more than
+// the float64 range apart), and a delay margin that overflows in seconds
+// (sample periods near 1e300 s).
 func Compute(L poly.Rational, T float64) (Margins, error) {
 	var m Margins
 	lp, err := prepare(L, T)
@@ -170,17 +173,23 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 		if m.PhaseMarginDeg == nil || pm < *m.PhaseMarginDeg {
 			m.PhaseMarginDeg, m.GainCrossoverHz = ptr(pm), ptr(toHz(th))
 		}
-		var dm float64
+		// In samples first: θ/T underflows, and PM/θ·T overflows, for
+		// absurd sample periods (1e300 s).
+		var samples float64
 		switch {
 		case pm <= 0:
-			dm = 0
+			samples = 0
 		case th == 0:
 			continue // a delay does not turn the phase at DC
 		default:
-			dm = pm * math.Pi / 180 / (th / T)
+			samples = pm * math.Pi / 180 / th
+		}
+		dm := samples * T
+		if math.IsInf(dm, 0) {
+			return Margins{}, fmt.Errorf("freq: delay margin of %g samples overflows float64 seconds at T = %g s", samples, T)
 		}
 		if m.DelayMarginS == nil || dm < *m.DelayMarginS {
-			m.DelayMarginS, m.DelayMarginSamples = ptr(dm), ptr(dm/T)
+			m.DelayMarginS, m.DelayMarginSamples = ptr(dm), ptr(samples)
 		}
 	}
 
@@ -227,7 +236,25 @@ func prepare(L poly.Rational, T float64) (loop, error) {
 	for _, v := range d {
 		s = math.Max(s, math.Abs(v))
 	}
-	return loop{num: n.Scale(1 / s), den: d.Scale(1 / s)}, nil
+	// Scale by a power of two (exact; 1/s would overflow for a subnormal s)
+	// and refuse a numerator so much smaller than the denominator that its
+	// leading coefficient underflows (the degree, and so L, would change),
+	// or so much larger that it overflows.
+	_, e := math.Frexp(s)
+	ns, ds := ldexpPoly(n, -e), ldexpPoly(d, -e)
+	if len(ns) != len(n) || len(ds) != len(d) || !ns.Finite() {
+		return loop{}, fmt.Errorf("freq: numerator and denominator sizes differ beyond the float64 range")
+	}
+	return loop{num: ns, den: ds}, nil
+}
+
+// ldexpPoly returns p·2^e, trimmed.
+func ldexpPoly(p poly.Poly, e int) poly.Poly {
+	r := make(poly.Poly, len(p))
+	for i, v := range p {
+		r[i] = math.Ldexp(v, e)
+	}
+	return r.Trim()
 }
 
 func (l loop) eval(th float64) (N, D complex128) {
@@ -364,10 +391,13 @@ func (l loop) evalGrid(grid []float64) gridValues {
 func (l *loop) grid() []float64 {
 	n := max(l.num.Degree(), l.den.Degree(), 1)
 	count := max(minBaseGrid, baseGridPerDegree*n)
-	g := make([]float64, 0, count+512)
+	uniform := make([]float64, 0, count+1)
 	for i := 0; i <= count; i++ {
-		g = append(g, math.Pi*float64(i)/float64(count))
+		uniform = append(uniform, math.Pi*float64(i)/float64(count))
 	}
+	// The extra points are few: sort them alone and merge them into the
+	// (already sorted) uniform grid.
+	g := make([]float64, 0, 512)
 	for k := 1; k <= 10; k++ {
 		e := math.Pi * math.Pow(10, -float64(k))
 		g = append(g, e, math.Pi-e)
@@ -394,8 +424,18 @@ func (l *loop) grid() []float64 {
 		}
 	}
 	sort.Float64s(g)
-	out := g[:0]
-	for _, v := range g {
+	merged := make([]float64, 0, len(uniform)+len(g))
+	for i, j := 0, 0; i < len(uniform) || j < len(g); {
+		if j == len(g) || (i < len(uniform) && uniform[i] <= g[j]) {
+			merged = append(merged, uniform[i])
+			i++
+		} else {
+			merged = append(merged, g[j])
+			j++
+		}
+	}
+	out := merged[:0]
+	for _, v := range merged {
 		if v < 0 || v > math.Pi {
 			continue
 		}

@@ -232,3 +232,81 @@ func TestLogGrid(t *testing.T) {
 		t.Error("bad input: want nil")
 	}
 }
+
+// TestComputeSizesBeyondFloat64 is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzMargins/8a59540a51b342ec): a numerator of 1e-300 over
+// a denominator of size 1e300 underflowed to the zero polynomial when
+// scaled, and Compute panicked. A subnormal denominator made 1/max|D|
+// infinite. Both must be clear errors or finite results, never a panic.
+func TestComputeSizesBeyondFloat64(t *testing.T) {
+	if _, err := Compute(poly.R(poly.Poly{1e-300}, poly.Poly{1, 1e300}), 1e-3); err == nil {
+		t.Error("1e-300/(1e300 z + 1): want an error")
+	}
+	// Crasher 5bc46034609dae14: numerator 1e303 over a denominator of size
+	// 1e-300 overflowed to Inf when scaled, and Compute never returned.
+	if _, err := Compute(poly.R(poly.Poly{1e303, 1e303}, poly.Poly{-1e-300, 1e-300}), 1); err == nil {
+		t.Error("1e303(z+1)/(1e-300(z-1)): want an error")
+	}
+	m, err := Compute(poly.R(poly.Poly{5e-324}, poly.Poly{0, 5e-324}), 1e-3)
+	if err != nil {
+		t.Fatalf("5e-324/(5e-324 z): %v", err)
+	}
+	// L = 1/z: |L| = 1 everywhere, phase −θ, so L(−1) = −1: a phase
+	// crossing at Nyquist with GM exactly 0 dB (closed form).
+	if m.GainMarginDB == nil || math.Abs(*m.GainMarginDB) > 1e-9 {
+		t.Errorf("1/z: gain margin %v, want 0 dB", m.GainMarginDB)
+	}
+}
+
+// GainMargin is Compute's gain margin (same crossings, same choice).
+func TestGainMarginMatchesCompute(t *testing.T) {
+	cases := []poly.Rational{
+		poly.R(poly.New(0.5), poly.New(-1, 1)),                // 0.5/(z − 1)
+		poly.R(poly.New(0.2), poly.New(-0.8, 1)),              // 0.2/(z − 0.8)
+		poly.R(poly.New(0.3, 0.1), poly.New(0.5, -1.5, 1)),    // two poles, a zero
+		poly.R(poly.New(0.05), poly.New(0, 0, -0.9, 1)),       // delay and a lag
+		poly.R(poly.New(1), poly.New(0, 1)),                   // z^-1: |L| = 1
+		poly.R(poly.New(2, 0, 1), poly.New(0.1, 0.2, 0.3, 1)), // conditionally shaped
+	}
+	for i, L := range cases {
+		m, err := Compute(L, 1e-3)
+		if err != nil {
+			t.Fatal(err)
+		}
+		gm, err := GainMargin(L, 1e-3)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if (gm == nil) != (m.GainMarginDB == nil) || gm != nil && *gm != *m.GainMarginDB {
+			t.Errorf("case %d: GainMargin %v, Compute %v", i, gm, m.GainMarginDB)
+		}
+	}
+}
+
+// TestComputeDelayMarginHugePeriod is the regression for a fuzz find
+// (testdata/fuzz/FuzzCheck/0aaa8993aafecb30): at T = 1e300 s the delay
+// margin PM/(θ/T) came out +Inf (θ/T underflowed). L = 1/(z − 0.5) crosses
+// |L| = 1 where |e^{jθ} − 0.5| = 1, cos θ = 1/4; there e^{jθ} − 0.5 has
+// angle π − θ (the triangle 0, 0.5, e^{jθ} is isosceles), so PM = θ rad
+// and the delay margin is exactly 1 sample (closed form), at any T.
+func TestComputeDelayMarginHugePeriod(t *testing.T) {
+	L := poly.R(poly.Poly{1}, poly.Poly{-0.5, 1})
+	for _, T := range []float64{1e-3, 1e300} {
+		m, err := Compute(L, T)
+		if err != nil {
+			t.Fatalf("T = %g: %v", T, err)
+		}
+		if m.DelayMarginSamples == nil || math.Abs(*m.DelayMarginSamples-1) > 1e-9 {
+			t.Errorf("T = %g: delay margin %v samples, want 1", T, m.DelayMarginSamples)
+		}
+		if m.DelayMarginS == nil || math.IsInf(*m.DelayMarginS, 0) || math.Abs(*m.DelayMarginS/T-1) > 1e-9 {
+			t.Errorf("T = %g: delay margin %v s, want %g", T, m.DelayMarginS, T)
+		}
+	}
+	// L = 1e-9/(z − 1) crosses at θ ≈ 1e-9 with PM ≈ 90°: ~1.6e9 samples,
+	// beyond float64 in seconds at T = 1e300 s. An error, never +Inf.
+	m, err := Compute(poly.R(poly.Poly{1e-9}, poly.Poly{-1, 1}), 1e300)
+	if err == nil && m.DelayMarginS != nil && math.IsInf(*m.DelayMarginS, 0) {
+		t.Errorf("1e-9/(z-1) at T = 1e300 s: delay margin %v", *m.DelayMarginS)
+	}
+}

@@ -123,10 +123,11 @@ func Find(p poly.Poly) (Result, error) {
 	}
 	q := p[zeros:]
 	sc := rescale(q)
-	if sc.w[0] == 0 || sc.w[len(sc.w)-1] == 0 {
+	if lost(sc.w[0]) || lost(sc.w[len(sc.w)-1]) {
 		// The coefficients span more than the float64 exponent range
-		// around the roots' geometric mean; the underflowed end would
-		// silently change the degree (or invent zero roots).
+		// around the roots' geometric mean; an end that underflowed (to
+		// zero or to a subnormal, losing its digits) would silently change
+		// the degree, invent zero roots, or overflow the companion matrix.
 		return Result{}, errors.New("roots: the coefficients span too wide a range for float64 (some root's modulus is out of range)")
 	}
 
@@ -142,6 +143,11 @@ func Find(p poly.Poly) (Result, error) {
 		wroots, err = companionRoots(sc.w)
 		if err != nil {
 			return Result{}, err
+		}
+		for _, z := range wroots {
+			if cmplx.IsNaN(z) || cmplx.IsInf(z) {
+				return Result{}, errors.New("roots: the eigenvalue iteration overflowed (coefficients too far apart in size)")
+			}
 		}
 	}
 	pairs := toItems(wroots)
@@ -163,6 +169,7 @@ func Find(p poly.Poly) (Result, error) {
 	}
 	var res Result
 	res.Clusters = clusterValues(sc.w, sc.k, pairs, groups, rank)
+	polishedW := expand(pairs) // in w units, for the fallback backward error
 	for i := range pairs {
 		pairs[i].z = scaleC(pairs[i].z, sc.k)
 		if cmplx.IsInf(pairs[i].z) || cmplx.IsNaN(pairs[i].z) {
@@ -183,7 +190,7 @@ func Find(p poly.Poly) (Result, error) {
 	if zeros > 0 {
 		res.Clusters = append(res.Clusters, Cluster{Value: 0, Multiplicity: zeros})
 	}
-	res.BackwardError = inputBackwardError(p, res.Roots, sc.w, expand(pairs))
+	res.BackwardError = inputBackwardError(p, res.Roots, sc.w, polishedW)
 	return res, nil
 }
 
@@ -221,6 +228,10 @@ func rescale(q poly.Poly) scaled {
 	}
 	return scaled{w: w, k: k}
 }
+
+// lost reports a rescaled end coefficient that underflowed: zero or
+// subnormal (below 2^-1022, where float64 keeps fewer than 53 bits).
+func lost(c float64) bool { return math.Abs(c) < 0x1p-1022 }
 
 func scaleC(z complex128, k int) complex128 {
 	return complex(math.Ldexp(real(z), k), math.Ldexp(imag(z), k))

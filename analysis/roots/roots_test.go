@@ -241,3 +241,54 @@ func TestScales(t *testing.T) {
 		}
 	}
 }
+
+// TestFindCoefficientRangeTooWide is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzRoots/2b538c978f16a9ef): rescaling underflowed the
+// leading coefficient to zero and Find panicked on the lost degree. The
+// polynomial has a root near −c0/c1 ≈ −1e-600, below the smallest float64
+// (4.9e-324, IEEE 754), so an error is the right answer.
+func TestFindCoefficientRangeTooWide(t *testing.T) {
+	p := poly.Poly{1.0390625e-300, 1.0078125e+300, 0, -106.25, -0.04, 71875, -0.6875}
+	if res, err := Find(p); err == nil {
+		t.Fatalf("Find = %v, want an error", res.Roots)
+	}
+}
+
+// TestFindBackwardErrorOnRescaled is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzRoots/c54ff6f715c6d921): when the monic input does not
+// fit in float64 the backward error is measured on the rescaled polynomial,
+// but it was given the roots already scaled back to z, and came out NaN.
+// 1.1875e-300·z³ + z + 1.1875e300 has roots of modulus ~1e200 (|z|³ ≈
+// c0/c3 = 1e600): they fit, their monic polynomial does not.
+func TestFindBackwardErrorOnRescaled(t *testing.T) {
+	res, err := Find(poly.Poly{1.1875e300, 1, 0, 1.1875e-300})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(res.BackwardError >= 0 && res.BackwardError <= 1e-14) {
+		t.Errorf("backward error %v, want ≤ 1e-14", res.BackwardError)
+	}
+	for _, z := range res.Roots {
+		if m := cmplx.Abs(z); math.Abs(math.Log10(m)-200) > 0.01 {
+			t.Errorf("root %v: modulus %v, want ~1e200", z, m)
+		}
+	}
+}
+
+// TestFindSubnormalAfterRescale is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzRoots/ad0a8cfa18e85fc0): rescaling left the leading
+// coefficient subnormal (5e-315), the companion matrix overflowed to NaN
+// eigenvalues, and the clustering panicked. The coefficients span 1e-300 to
+// 1e300 with a leading 2.5e-265: a clear error is the answer.
+func TestFindSubnormalAfterRescale(t *testing.T) {
+	p := poly.Poly{-1e+300, 0, -0.0054375000000000005, 0, -1.2265625e-300, 1.20703125e+300, -0.6875, 1, 1, 2.481040258324024e-265}
+	res, err := Find(p)
+	if err != nil {
+		return
+	}
+	for _, z := range res.Roots {
+		if cmplx.IsNaN(z) || cmplx.IsInf(z) {
+			t.Fatalf("Find = %v: non-finite root", res.Roots)
+		}
+	}
+}

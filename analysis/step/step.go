@@ -87,7 +87,8 @@ func horizon(n int, r float64) (k int, clamped bool) {
 // (r = maxPoleRadius, multiplicity allowance n), plus n, clamped to
 // [MinSamples, MaxSamples]. Errors: T not finite
 // and positive, zero or non-finite polynomials, improper h, maxPoleRadius
-// outside [0, 1), A(1) = 0, or a response that overflows.
+// outside [0, 1), A(1) = 0 or a DC gain B(1)/A(1) that overflows, or a
+// response or step figure that overflows.
 func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error) {
 	if !(T > 0) || math.IsInf(T, 0) {
 		return Result{}, fmt.Errorf("step: sample period %v s must be finite and positive", T)
@@ -113,6 +114,10 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 		return Result{}, fmt.Errorf("step: denominator vanishes at z = 1: a pole on the circle, not stable")
 	}
 	final := b.Eval(1) / a1
+	if math.IsInf(final, 0) || math.IsNaN(final) {
+		// A(1) is rounding-level small: numerically a pole at z = 1.
+		return Result{}, fmt.Errorf("step: DC gain B(1)/A(1) overflows: a pole at (or within rounding of) z = 1, not stable")
+	}
 	bsum := make([]float64, n+1) // bsum[i] = b_i (zero-padded)
 	copy(bsum, b)
 
@@ -137,6 +142,13 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 	}
 	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1 - final}
 	figures(&r, clamped)
+	for _, v := range []float64{r.OvershootPct, r.RiseTimeS, r.SettlingS, r.SteadyStateError} {
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			// Samples dwarfing a tiny Final: the response grows, so the
+			// radius the caller gave was wrong.
+			return Result{}, fmt.Errorf("step: step figures overflow: the response grows, the closed loop is not stable as claimed")
+		}
+	}
 	return r, nil
 }
 

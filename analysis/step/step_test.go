@@ -154,3 +154,27 @@ func TestSimulateErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestSimulateDCGainOverflow is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzStep/9e10eb2f3e7a8730): A = 0.00040625·(z − 1)⁴
+// rounds to a tiny nonzero A(1), B(1) ≈ 1.2e300, and Simulate returned
+// Final = +Inf as a result instead of an error.
+func TestSimulateDCGainOverflow(t *testing.T) {
+	h := poly.R(poly.Poly{0.30000000000000004, 1.1875e+300, 0, 0, 0.30000000000000004},
+		poly.Poly{0.00040625000000000004, -0.0016250000000000001, 0.0024375000000000004, -0.0016250000000000001, 0.00040625000000000004})
+	if r, err := Simulate(h, 1, 0.02734375); err == nil {
+		t.Fatalf("Simulate = final %v, want an error", r.Final)
+	}
+}
+
+// TestSimulateFiguresOverflow is the regression for a fuzz crasher
+// (testdata/fuzz/FuzzStep/e0160996939e6acd): h = 1.1875e-300/(0.0003z +
+// 0.003) has its pole at z = −10 but was passed radius 0.96; the samples
+// grew to ~1e50 over a final value of 3.6e-298 and the overshoot came out
+// +Inf in a successful result. It must be an error.
+func TestSimulateFiguresOverflow(t *testing.T) {
+	h := poly.R(poly.Poly{1.1875e-300}, poly.Poly{0.003, 0.00030000000000000003})
+	if r, err := Simulate(h, 1, 0.96484375); err == nil {
+		t.Fatalf("Simulate = overshoot %v, want an error", r.OvershootPct)
+	}
+}

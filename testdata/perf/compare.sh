@@ -1,0 +1,88 @@
+#!/usr/bin/env bash
+# Side-by-side speed of `ringside check --format json` and the numpy/scipy
+# reference (scipy_check.py) on the same generated corpora, with a check that
+# both agree on every loop's stability and margins. Prints markdown tables.
+#
+#   bash testdata/perf/compare.sh            # 10, 100, 1000 loops
+#   SIZES="10 100 1000 10000" bash testdata/perf/compare.sh
+#
+# Two corpora per size: "gains" (controller gains on `gain` lines, so
+# ringside also computes every gain's stable interval and safe value, which
+# the scipy side does not) and "literal" (the same numbers written inside the
+# blocks: no gain-limit search, so both sides do the same work). Wall-clock
+# seconds of the whole process (interpreter or binary start-up included),
+# and scipy's own in-process analysis time (imports excluded); best of 3
+# runs below 1000 loops, one run from 1000 on. Ringside's "growth per 10×"
+# uses the process time.
+set -euo pipefail
+cd "$(dirname "$0")/../.."
+PY=${RINGSIDE_PYTHON:-/usr/bin/python3}
+SIZES=${SIZES:-"10 100 1000"}
+HERE=testdata/perf
+BIN=/tmp/ringside
+WORK=$(mktemp -d)
+trap 'rm -rf "$WORK"' EXIT
+
+"$PY" -c 'import numpy, scipy' 2>/dev/null || { echo "compare.sh: $PY lacks numpy/scipy (apt-get install python3-scipy)" >&2; exit 2; }
+go build -o "$BIN" .
+
+now() { echo "$EPOCHREALTIME"; }
+# best SECONDS-of-N-runs of a command
+timeit() {
+  local runs=$1; shift
+  local best=
+  for _ in $(seq "$runs"); do
+    local t0 t1 rc=0
+    t0=$(now)
+    "$@" >/dev/null || rc=$?
+    t1=$(now)
+    if [ "$rc" -gt 1 ]; then echo "compare.sh: '$*' failed with status $rc" >&2; exit 2; fi
+    best=$(awk -v a="$t0" -v b="$t1" -v best="$best" 'BEGIN { d = b - a; if (best == "" || d < best) best = d; printf "%.3f", best }')
+  done
+  echo "$best"
+}
+
+agree_all=0
+agreement=()
+for variant in gains literal; do
+  flag=
+  [ "$variant" = literal ] && flag=--literal
+  rows=()
+  prev_s= prev_r=
+  for n in $SIZES; do
+    dir="$WORK/$variant-$n"
+    "$PY" "$HERE/gen_corpus.py" "$n" "$dir" $flag
+    runs=3
+    [ "$n" -ge 1000 ] && runs=1
+    ts=$(timeit "$runs" "$PY" "$HERE/scipy_check.py" run "$dir" "$WORK/scipy-$variant-$n.json")
+    tr=$(cd "$dir" && timeit "$runs" sh -c "'$BIN' check --format json --root . . > '$WORK/ringside-$variant-$n.json'")
+    if ! verdict=$("$PY" "$HERE/scipy_check.py" agree "$WORK/scipy-$variant-$n.json" "$WORK/ringside-$variant-$n.json"); then
+      agree_all=1
+    fi
+    agreement+=("- $variant, $n loops: $verdict")
+    tin=$(cat "$WORK/scipy-$variant-$n.json.time")
+    gs=- gr=-
+    [ -n "$prev_s" ] && gs=$(awk -v a="$prev_s" -v b="$ts" 'BEGIN { printf "×%.1f", b / a }')
+    [ -n "$prev_r" ] && gr=$(awk -v a="$prev_r" -v b="$tr" 'BEGIN { printf "×%.1f", b / a }')
+    ratio=$(awk -v s="$ts" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
+    ratio_in=$(awk -v s="$tin" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
+    rows+=("| $n | $ts | $tin | $tr | $ratio | $ratio_in | $gs | $gr |")
+    prev_s=$ts prev_r=$tr
+  done
+  echo
+  if [ "$variant" = gains ]; then
+    echo "Corpus as generated (gains on \`gain\` lines: ringside also searches every gain's stable interval and safe value)"
+  else
+    echo "Gains written as numbers inside blocks (no gain-limit search: the same work on both sides)"
+  fi
+  echo
+  echo "| loops | scipy s (process) | scipy s (analysis only) | ringside s | ringside / scipy process | ringside / scipy analysis | scipy growth per 10× | ringside growth per 10× |"
+  echo "|---:|---:|---:|---:|---:|---:|---:|---:|"
+  printf '%s\n' "${rows[@]}"
+done
+echo
+echo "Agreement (stability identical; margins within the tolerances of scipy_check.py):"
+printf '%s\n' "${agreement[@]}"
+echo
+echo "scipy: $("$PY" -c 'import numpy, scipy; print("numpy", numpy.__version__, "scipy", scipy.__version__)'); ringside: $(go version | cut -d' ' -f3); $(nproc) cores"
+exit $agree_all
