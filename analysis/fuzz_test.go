@@ -202,21 +202,6 @@ func FuzzCheck(f *testing.F) {
 			if d.Span.From < 0 || d.Span.To < d.Span.From || int(d.Span.To) > len(src) {
 				t.Fatalf("diagnostic %s %q has span %v outside the %d-byte file\n%s", d.Code, d.Message, d.Span, len(src), src)
 			}
-			// Known and reported (analysis/loops.go): when the loop's
-			// denominator product underflows to zero (blocks with
-			// coefficients near 1e-300), the algebraic-loop message prints
-			// a feedthrough of NaN (seed cd7ba7e9bc8bea00). Drop this
-			// exemption when that is fixed.
-			if d.Code == "algebraic-loop" && strings.Contains(d.Message, "feedthrough NaN") {
-				continue
-			}
-			// Known and reported (analysis/gains.go with
-			// gainlimit.Numeric): when c(k) overflows during a gain search
-			// the gain-limits message quotes the internal error with its
-			// Inf/NaN coefficients (seed 4c89562563712c79).
-			if d.Code == "gain-limits" && strings.Contains(d.Message, "polynomial has a non-finite coefficient") {
-				continue
-			}
 			if strings.Contains(d.Message, "NaN") {
 				t.Fatalf("diagnostic %s says NaN: %q\n%s", d.Code, d.Message, src)
 			}
@@ -271,11 +256,10 @@ func FuzzCheck(f *testing.F) {
 			}
 		}
 		for _, blk := range res.Blocks {
-			// Known and reported (analysis/blocks.go): a block whose
-			// numerator and denominator both vanish at z = 1 (a zero
-			// numerator, or a common factor z − 1) gets DC gain 0/0 = NaN
-			// (seeds c7c6bc8531f22328, e9dbb98b9d47a763; the JSON report
-			// prints null). Drop this exemption when that is fixed.
+			// By design (Block.DCGain): a block whose numerator and
+			// denominator both vanish at z = 1 has no DC gain; it is NaN
+			// inside, null in the JSON, "undefined" in text (seeds
+			// c7c6bc8531f22328, e9dbb98b9d47a763).
 			if blk.OK && blk.TF.Num.Eval(1) == 0 && blk.TF.Den.Eval(1) == 0 {
 				continue
 			}

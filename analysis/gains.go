@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"strings"
 
 	"ringside/analysis/freq"
 	"ringside/analysis/gainlimit"
@@ -161,7 +162,10 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 	k0 := g.Value
 	iv, err := c.interval(g.Name, k0, loops)
 	if err != nil {
-		lim.SafeMaxNote = "stable interval not found: " + err.Error()
+		lim.SafeMaxNote = "no stable interval could be computed"
+		if strings.Contains(err.Error(), "non-finite") {
+			lim.SafeMaxNote += ": the loop's polynomials overflow for large values of the gain"
+		}
 		return lim
 	}
 	lim.StableMin, lim.StableMax, lim.Exact, lim.CurrentStable, lim.Found = iv.Lo, iv.Hi, iv.Exact, iv.ContainsCurrent, iv.Found

@@ -175,6 +175,11 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 	}
 	l.Gains = sortedKeys(gains)
 	l.Open, l.Char, l.Closed = polys(tfs(fwd), tfs(fb), sh.positive)
+	if msg := degenerate(l, append(append([]element{}, fwd...), fb...)); msg != "" {
+		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric,
+			fmt.Sprintf("loop %s cannot be analysed: %s; no verdict is given. Rescale the blocks (write the gain separately from the poles)", l.Name, msg))
+		return l
+	}
 	if deg := l.Char.Degree(); deg > MaxBlockDegree {
 		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxBlockDegree))
 		return l
@@ -206,6 +211,24 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 	return l
+}
+
+// degenerate explains why the products of a loop's polynomials cannot be
+// trusted: a coefficient that overflowed, or a degree lost to underflow
+// (the product of the denominators must have the sum of their degrees),
+// which would silently drop closed-loop poles.
+func degenerate(l *Loop, es []element) string {
+	if !l.Open.Num.Finite() || !l.Open.Den.Finite() || !l.Char.Finite() {
+		return "a coefficient of the loop's polynomials overflows the float64 range"
+	}
+	want := 0
+	for _, e := range es {
+		want += e.tf.Den.Degree()
+	}
+	if l.Open.Den.Degree() != want {
+		return "the product of the denominators underflows (its leading coefficient rounds to zero), so poles would be lost"
+	}
+	return ""
 }
 
 func (c *checker) badSign(s *syntax.SignItem) {

@@ -144,7 +144,7 @@ type Block struct {
 	OK     bool
 	Poles  []pole.Info
 	Zeros  []pole.Info
-	DCGain float64 // TF(1); ±Inf for a pole at z = 1
+	DCGain float64 // TF(1); ±Inf for a pole at z = 1; NaN (undefined) when both vanish there
 	// Gains lists the gain names the block depends on (directly or
 	// through the blocks it uses).
 	Gains []string
