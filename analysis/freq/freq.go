@@ -119,29 +119,7 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 	pts := lp.evalGrid(grid)
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
 
-	// Phase crossings.
-	var phaseTh []float64
-	if lp.realOnCircle() {
-		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
-			l, ok := lp.value(th)
-			if !ok || real(l) >= 0 {
-				return 0, false
-			}
-			return math.Abs(math.Log(cmplx.Abs(l))), true
-		}); ok {
-			phaseTh = []float64{th}
-		}
-	} else {
-		phaseTh = roots(lp.g, lp.gScale, grid, pts.g, pts.gScale)
-	}
-	for _, th := range phaseTh {
-		N, D := lp.eval(th)
-		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
-			continue
-		}
-		gm := -20 * math.Log10(cmplx.Abs(N/D))
-		m.PhaseCrossings = append(m.PhaseCrossings, Crossing{Hz: toHz(th), Value: gm})
-	}
+	m.PhaseCrossings = lp.phaseCrossings(grid, pts.g, pts.gScale, T)
 	for _, c := range m.PhaseCrossings {
 		if m.GainMarginDB == nil || math.Abs(c.Value) < math.Abs(*m.GainMarginDB) {
 			m.GainMarginDB, m.PhaseCrossoverHz = ptr(c.Value), ptr(c.Hz)
@@ -198,6 +176,34 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 		m.PeakSensitivityDB, m.PeakSensitivityHz = ptr(db), ptr(toHz(th))
 	}
 	return m, nil
+}
+
+// phaseCrossings returns every phase crossing (L real and negative) with
+// its gain margin; g and gScale are lp.g and lp.gScale on the grid.
+func (lp loop) phaseCrossings(grid, g, gScale []float64, T float64) []Crossing {
+	var phaseTh []float64
+	if lp.realOnCircle() {
+		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
+			l, ok := lp.value(th)
+			if !ok || real(l) >= 0 {
+				return 0, false
+			}
+			return math.Abs(math.Log(cmplx.Abs(l))), true
+		}); ok {
+			phaseTh = []float64{th}
+		}
+	} else {
+		phaseTh = roots(lp.g, lp.gScale, grid, g, gScale)
+	}
+	var out []Crossing
+	for _, th := range phaseTh {
+		N, D := lp.eval(th)
+		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
+			continue
+		}
+		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: -20 * math.Log10(cmplx.Abs(N/D))})
+	}
+	return out
 }
 
 // phaseMargin is 180° + arg l wrapped to (−180°, 180°].

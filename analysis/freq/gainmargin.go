@@ -17,34 +17,15 @@ func GainMargin(L poly.Rational, T float64) (*float64, error) {
 		return nil, err
 	}
 	grid := lp.grid()
-	var phaseTh []float64
-	if lp.realOnCircle() {
-		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
-			l, ok := lp.value(th)
-			if !ok || real(l) >= 0 {
-				return 0, false
-			}
-			return math.Abs(math.Log(cmplx.Abs(l))), true
-		}); ok {
-			phaseTh = []float64{th}
-		}
-	} else {
-		g, gs := make([]float64, len(grid)), make([]float64, len(grid))
-		for i, th := range grid {
-			N, D := lp.eval(th)
-			g[i], gs[i] = imag(N*cmplx.Conj(D)), cmplx.Abs(N)*cmplx.Abs(D)
-		}
-		phaseTh = roots(lp.g, lp.gScale, grid, g, gs)
+	g, gs := make([]float64, len(grid)), make([]float64, len(grid))
+	for i, th := range grid {
+		N, D := lp.eval(th)
+		g[i], gs[i] = imag(N*cmplx.Conj(D)), cmplx.Abs(N)*cmplx.Abs(D)
 	}
 	var gm *float64
-	for _, th := range phaseTh {
-		N, D := lp.eval(th)
-		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
-			continue
-		}
-		v := -20 * math.Log10(cmplx.Abs(N/D))
-		if gm == nil || math.Abs(v) < math.Abs(*gm) {
-			gm = ptr(v)
+	for _, c := range lp.phaseCrossings(grid, g, gs, T) {
+		if gm == nil || math.Abs(c.Value) < math.Abs(*gm) {
+			gm = ptr(c.Value)
 		}
 	}
 	return gm, nil
