@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"ringside/analysis/internal/scipyref"
 	"testing"
 	"time"
 
@@ -30,27 +31,6 @@ type refData struct {
 	}
 }
 
-// python finds an interpreter with scipy: $RINGSIDE_PYTHON, else python3
-// on PATH, else Debian's /usr/bin/python3. It skips the test when none has
-// scipy, unless RINGSIDE_REQUIRE_SCIPY=1.
-func python(t *testing.T) string {
-	t.Helper()
-	cands := []string{"python3", "/usr/bin/python3"}
-	if p := os.Getenv("RINGSIDE_PYTHON"); p != "" {
-		cands = []string{p}
-	}
-	for _, c := range cands {
-		if exec.Command(c, "-c", "import numpy, scipy.signal").Run() == nil {
-			return c
-		}
-	}
-	if os.Getenv("RINGSIDE_REQUIRE_SCIPY") == "1" {
-		t.Fatalf("no python3 with scipy among %v (RINGSIDE_REQUIRE_SCIPY=1)", cands)
-	}
-	t.Skipf("no python3 with scipy among %v", cands)
-	return ""
-}
-
 // crossTol is the allowed coefficient difference, relative to the largest
 // coefficient of the reference numerator and denominator together. Both
 // sides are exact methods in floating point, but the coefficients of a
@@ -63,7 +43,7 @@ func python(t *testing.T) string {
 const crossTol = 1e-11
 
 func TestCrossCheckScipy(t *testing.T) {
-	py := python(t)
+	py := scipyref.Python(t)
 	out := filepath.Join(t.TempDir(), "ref.json")
 	script := filepath.Join("..", "..", "testdata", "crosscheck", "roots_discretize_ref.py")
 	t0 := time.Now()

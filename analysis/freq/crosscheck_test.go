@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"ringside/analysis/internal/scipyref"
 	"strconv"
 	"testing"
 
@@ -56,34 +57,12 @@ type refLoop struct {
 	AmbPeak        bool        `json:"ambiguous_peak"`
 }
 
-// findPython returns an interpreter with numpy and scipy: $RINGSIDE_PYTHON,
-// else "python3" on PATH, else Debian's /usr/bin/python3 (python3 on PATH
-// may be another installation without scipy).
-func findPython() (string, bool) {
-	cands := []string{"python3", "/usr/bin/python3"}
-	if p := os.Getenv("RINGSIDE_PYTHON"); p != "" {
-		cands = []string{p}
-	}
-	for _, p := range cands {
-		if exec.Command(p, "-c", "import numpy, scipy.signal, scipy.optimize").Run() == nil {
-			return p, true
-		}
-	}
-	return "", false
-}
-
 // TestCrossCheckScipy compares Compute (and the closed-loop stability from
 // gainlimit.SchurStable and the pole radius from gonum eigenvalues) with
 // testdata/crosscheck/margins_ref.py, an independent numpy/scipy
 // computation over 240 random loops from a fixed seed.
 func TestCrossCheckScipy(t *testing.T) {
-	py, ok := findPython()
-	if !ok {
-		if os.Getenv("RINGSIDE_REQUIRE_SCIPY") == "1" {
-			t.Fatal("python3 with numpy/scipy not found (RINGSIDE_REQUIRE_SCIPY=1)")
-		}
-		t.Skip("python3 with numpy/scipy not found; set RINGSIDE_PYTHON")
-	}
+	py := scipyref.Python(t)
 	script, err := filepath.Abs("../../testdata/crosscheck/margins_ref.py")
 	if err != nil {
 		t.Fatal(err)

@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"ringside/analysis/internal/scipyref"
 	"testing"
 
 	"ringside/analysis/poly"
@@ -26,31 +27,9 @@ type refData struct {
 	}
 }
 
-// python finds an interpreter with scipy: $RINGSIDE_PYTHON, else python3
-// on PATH, else Debian's /usr/bin/python3 (a PATH python3 may be another
-// installation without scipy). It skips the test when none has scipy,
-// unless RINGSIDE_REQUIRE_SCIPY=1.
-func python(t *testing.T) string {
-	t.Helper()
-	cands := []string{"python3", "/usr/bin/python3"}
-	if p := os.Getenv("RINGSIDE_PYTHON"); p != "" {
-		cands = []string{p}
-	}
-	for _, c := range cands {
-		if exec.Command(c, "-c", "import numpy, scipy.signal").Run() == nil {
-			return c
-		}
-	}
-	if os.Getenv("RINGSIDE_REQUIRE_SCIPY") == "1" {
-		t.Fatalf("no python3 with scipy among %v (RINGSIDE_REQUIRE_SCIPY=1)", cands)
-	}
-	t.Skipf("no python3 with scipy among %v", cands)
-	return ""
-}
-
 func loadRef(t *testing.T) refData {
 	t.Helper()
-	py := python(t)
+	py := scipyref.Python(t)
 	out := filepath.Join(t.TempDir(), "ref.json")
 	script := filepath.Join("..", "..", "testdata", "crosscheck", "roots_discretize_ref.py")
 	if b, err := exec.Command(py, script, out).CombinedOutput(); err != nil {
