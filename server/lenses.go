@@ -15,13 +15,7 @@ import (
 
 // foldingRange folds loops and runs of two or more comment lines.
 func (s *Server) foldingRange(ctx context.Context, params json.RawMessage) (any, error) {
-	var p struct {
-		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
-	}
-	if err := decode(params, &p); err != nil {
-		return nil, err
-	}
-	_, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, path, m, src, err := s.docParams(params)
 	if err != nil {
 		return nil, err
 	}
@@ -82,13 +76,7 @@ const plotCommand = "ringside.plot"
 
 // codeLens puts each loop's one-line verdict and a plot command above it.
 func (s *Server) codeLens(ctx context.Context, params json.RawMessage) (any, error) {
-	var p struct {
-		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
-	}
-	if err := decode(params, &p); err != nil {
-		return nil, err
-	}
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, _, err := s.docParams(params)
 	if err != nil {
 		return nil, err
 	}

@@ -36,13 +36,7 @@ type semTok struct {
 }
 
 func (s *Server) semanticTokens(ctx context.Context, params json.RawMessage) (any, error) {
-	var p struct {
-		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
-	}
-	if err := decode(params, &p); err != nil {
-		return nil, err
-	}
-	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, src, err := s.docParams(params)
 	if err != nil {
 		return nil, err
 	}

@@ -268,6 +268,18 @@ func (ses *session) remember(key cacheKey, res *analysis.Result) {
 	ses.cache[key] = res
 }
 
+// docParams resolves the document of a request whose params name only
+// {"textDocument": {"uri": ...}}.
+func (s *Server) docParams(params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
+	var p struct {
+		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
+	}
+	if err := decode(params, &p); err != nil {
+		return nil, "", nil, nil, err
+	}
+	return s.docRequest(p.TextDocument.URI)
+}
+
 // docPosition resolves a request's document and the byte offset of its
 // position.
 func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
@@ -282,7 +294,7 @@ func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, 
 	return sn, path, m, src, pos, nil
 }
 
-// docParams resolves a request's document: its snapshot, path and mapper.
+// docRequest resolves a request's document: its snapshot, path and mapper.
 func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
 	path, err := uriPath(uri)
 	if err != nil {

@@ -50,13 +50,7 @@ func fileSymbols(f *syntax.File) []declSymbol {
 }
 
 func (s *Server) documentSymbol(ctx context.Context, params json.RawMessage) (any, error) {
-	var p struct {
-		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
-	}
-	if err := decode(params, &p); err != nil {
-		return nil, err
-	}
-	_, path, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, path, m, src, err := s.docParams(params)
 	if err != nil {
 		return nil, err
 	}
