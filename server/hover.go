@@ -314,15 +314,7 @@ func loopHover(l *analysis.Loop) string {
 }
 
 func verdictWords(l *analysis.Loop) string {
-	switch {
-	case !l.OK:
-		return "not analysed (see the errors)"
-	case l.Stable:
-		return fmt.Sprintf("stable — every closed-loop pole inside the unit circle (largest radius %s)", analysis.FormatRadius(l.MaxRadius))
-	case l.Marginal:
-		return fmt.Sprintf("NOT STABLE — a closed-loop pole on the unit circle (radius %s): the output can oscillate or drift without bound", analysis.FormatRadius(l.MaxRadius))
-	}
-	return fmt.Sprintf("UNSTABLE — a closed-loop pole outside the unit circle (radius %s): the output grows without bound", analysis.FormatRadius(l.MaxRadius))
+	return l.VerdictWord() + " — " + l.VerdictReason()
 }
 
 func hzPtr(p *float64) string {
