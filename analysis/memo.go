@@ -56,7 +56,7 @@ func NewMemo() *Memo { return &Memo{byPath: map[string]*memoFile{}} }
 
 // memoFiles is how many files' results a Memo keeps: the few being edited
 // (a result of 200 loops holds about 1 MB).
-const memoFiles = 8
+const memoFiles = 4
 
 type memoFile struct {
 	used  uint64 // commit count when last committed

@@ -315,7 +315,7 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 // 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
 // results are kept for the few files in use at the moment, not for every
 // open one; published diagnostics do not need them.
-const cacheLimit = 8
+const cacheLimit = 4
 
 // remember caches c under key, dropping stale generations and then the
 // oldest entries beyond cacheLimit.
