@@ -427,8 +427,8 @@ func TestCancelRequest(t *testing.T) {
 
 func TestPanicIsReportedAndSurvived(t *testing.T) {
 	requestHandlers["test/panic"] = func(s *Server, ctx context.Context, _ json.RawMessage) (any, error) {
-		var m map[string]int
-		m["boom"] = 1
+		var none []int
+		_ = none[len(none)] // index out of range: a panic on purpose
 		return nil, nil
 	}
 	defer delete(requestHandlers, "test/panic")

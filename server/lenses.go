@@ -20,6 +20,7 @@ func (s *Server) foldingRange(ctx context.Context, params json.RawMessage) (any,
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	f, _ := syntax.Parse(path, src)
 	out := []protocol.FoldingRange{}
 	line := func(pos syntax.Pos) uint32 {

@@ -391,13 +391,16 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 			ses.roots = append(ses.roots, path)
 		}
 	}
-	if len(ses.roots) == 0 && p.RootURI != "" {
-		if path, err := uriPath(p.RootURI); err == nil {
+	// Older clients name the workspace only by rootUri or rootPath.
+	//lint:ignore SA1019 the deprecated field is the fallback on purpose
+	if rootURI := p.RootURI; len(ses.roots) == 0 && rootURI != "" {
+		if path, err := uriPath(rootURI); err == nil {
 			ses.roots = append(ses.roots, path)
 		}
 	}
-	if len(ses.roots) == 0 && p.RootPath != "" && filepath.IsAbs(p.RootPath) {
-		ses.roots = append(ses.roots, filepath.Clean(p.RootPath))
+	//lint:ignore SA1019 the deprecated field is the fallback on purpose
+	if rootPath := p.RootPath; len(ses.roots) == 0 && rootPath != "" && filepath.IsAbs(rootPath) {
+		ses.roots = append(ses.roots, filepath.Clean(rootPath))
 	}
 	if g := p.Capabilities.General; g != nil {
 		// The client lists encodings in order of preference; take the
