@@ -3,12 +3,18 @@ package server
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"reflect"
+	"sort"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
+
+	"ringside/analysis"
 )
 
 // TestMain lets the test binary act as `ringside serve` for the editor
@@ -119,3 +125,122 @@ func TestNeovimEndToEnd(t *testing.T) {
 		t.Errorf("the written copy lacks the fix:\n%s", disk)
 	}
 }
+
+// TestNeovimLiveAnalysis opens every demo file in Neovim with the plugin's
+// default settings and checks that its error diagnostics (those of
+// `ringside check`) are shown before any save; then it changes one gain of
+// the gimbal file without saving: that loop's verdict changes, the other
+// loop keeps its errors exactly.
+func TestNeovimLiveAnalysis(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the command and starts an editor")
+	}
+	nvim, err := exec.LookPath("nvim")
+	if err != nil {
+		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
+			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
+		}
+		t.Skip("nvim not installed")
+	}
+	dir := t.TempDir()
+	bin := serverBinary(t, dir)
+	ws := filepath.Join(dir, "demo")
+	copyDir(t, "../testdata/demo", ws)
+	if err := os.WriteFile(filepath.Join(ws, ".git"), nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	files, _ := filepath.Glob(filepath.Join(ws, "*.loop"))
+	if len(files) < 3 {
+		t.Fatalf("demo files: %v", files)
+	}
+	plugin, _ := filepath.Abs("../editors/nvim")
+	init := filepath.Join(dir, "init.lua")
+	// The plugin as a user sets it up: no settings, defaults everywhere.
+	initText := "vim.opt.runtimepath:prepend(" + luaString(plugin) + ")\nvim.opt.swapfile = false\nvim.cmd('filetype plugin on')\n" +
+		"require('ringside').setup({ cmd = { " + luaString(bin) + ", 'serve' } })\n"
+	if err := os.WriteFile(init, []byte(initText), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	script, _ := filepath.Abs("testdata/nvim/live.lua")
+	resultPath := filepath.Join(dir, "result.json")
+	edit := filepath.Join(ws, "gimbal.loop")
+	cmd := exec.Command(nvim, "--headless", "--clean", "-u", init, "-c", "luafile "+script)
+	cmd.Dir = ws
+	cmd.Env = append(os.Environ(), "RINGSIDE_FILES="+strings.Join(files, ":"), "RINGSIDE_EDIT="+edit, "RINGSIDE_RESULT="+resultPath,
+		"HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
+	var out bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+	select {
+	case <-done:
+	case <-time.After(150 * time.Second):
+		cmd.Process.Kill()
+		t.Fatalf("nvim did not finish; output:\n%s", out.String())
+	}
+	b, err := os.ReadFile(resultPath)
+	if err != nil {
+		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
+	}
+	type diag struct {
+		Code    string `json:"code"`
+		Line    int    `json:"line"`
+		Message string `json:"message"`
+	}
+	var res struct {
+		OK       bool              `json:"ok"`
+		Error    string            `json:"error"`
+		Steps    []string          `json:"steps"`
+		Opened   map[string][]diag `json:"opened"`
+		Before   []diag            `json:"before"`
+		After    []diag            `json:"after"`
+		Modified bool              `json:"modified"`
+	}
+	if err := json.Unmarshal(b, &res); err != nil {
+		t.Fatalf("result %s: %v", b, err)
+	}
+	if !res.OK {
+		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out.String())
+	}
+	// What `ringside check` reports as errors for each file, in order.
+	for _, f := range files {
+		var want []string
+		r := checkFile(t, ws, filepath.Base(f), false)
+		for _, d := range r.Diagnostics {
+			if d.Severity == analysis.Error && d.Path == f {
+				line, _ := r.File.Lines.LineCol(d.Span.From)
+				want = append(want, fmt.Sprintf("%d %s", line, d.Code))
+			}
+		}
+		var got []string
+		for _, d := range res.Opened[f] {
+			got = append(got, fmt.Sprintf("%d %s", d.Line, d.Code))
+		}
+		sort.Strings(want)
+		sort.Strings(got)
+		if strings.Join(got, ", ") != strings.Join(want, ", ") {
+			t.Errorf("%s on open, before any save: errors %v, want %v", filepath.Base(f), got, want)
+		}
+	}
+	if !res.Modified {
+		t.Error("the edited buffer was saved")
+	}
+	// The tilt loop (lines 12-15) keeps its errors word for word.
+	tilt := func(ds []diag) (out []diag) {
+		for _, d := range ds {
+			if d.Line >= 12 && d.Line <= 15 {
+				out = append(out, d)
+			}
+		}
+		return out
+	}
+	if before, after := tilt(res.Before), tilt(res.After); len(before) == 0 || !reflect.DeepEqual(before, after) {
+		t.Errorf("tilt's errors changed with an edit of krate:\nbefore %v\nafter  %v", before, after)
+	}
+}
+
+// luaString quotes s for Lua.
+func luaString(s string) string { return strconv.Quote(s) }
