@@ -3,7 +3,6 @@ package analysis
 import (
 	"encoding/binary"
 	"math"
-	"sort"
 	"sync"
 
 	"ringside/analysis/poly"
@@ -370,9 +369,9 @@ func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
 }
 
 // gainKey is the key of a gain's limits over loops, or "" when not to be
-// memoised: the gain's value and range, each loop's key, and every block
-// that depends on the gain as written with the values of what it names.
-func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl) string {
+// memoised: the gain's value, each loop's key, and every block that
+// depends on the gain as written with the values of what it names.
+func (c *checker) gainKey(g *Gain, loops []*Loop, deps *gainDeps) string {
 	if c.memo == nil {
 		return ""
 	}
@@ -390,55 +389,67 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl)
 		k.str(key)
 	}
 	c.memo.mu.Unlock()
-	for _, d := range dependents[g.Name] {
-		k.str(d.Name)
-		k.str(c.declText(d))
-		syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
-			ref, ok := n.(*syntax.NameRef)
-			if !ok {
-				return true
-			}
-			k.str(ref.Name)
-			if v, isGain := c.gains[ref.Name]; isGain {
-				k.num(v)
-			} else if bv := c.base.memo[ref.Name]; bv != nil {
-				k.poly(bv.tf.Num)
-				k.poly(bv.tf.Den)
-				k.poly(bv.cont.Num)
-				k.poly(bv.cont.Den)
-			}
-			return true
-		})
+	for _, name := range deps.blocks[g.Name] {
+		k.str(deps.keys[name])
 	}
 	return string(k)
 }
 
-// dependents lists, per gain, the blocks in scope that depend on it.
-func (c *checker) dependents() map[string][]*Decl {
-	out := map[string][]*Decl{}
+// gainDeps lists, per gain, the blocks in scope that depend on it, and
+// each such block's part of a key: its statement as written with the
+// values of the gains and blocks it names.
+type gainDeps struct {
+	blocks map[string][]string
+	keys   map[string]string
+}
+
+func (c *checker) dependents() *gainDeps {
+	deps := &gainDeps{blocks: map[string][]string{}, keys: map[string]string{}}
 	if c.memo == nil {
-		return out
+		return deps
 	}
 	for _, name := range sortedDecls(c.res.Scope) {
 		d := c.res.Scope[name]
-		if d.Block == nil {
+		bv := c.base.memo[name]
+		if d.Block == nil || bv == nil || len(bv.gains) == 0 {
 			continue
 		}
-		if bv := c.base.memo[name]; bv != nil {
-			for g := range bv.gains {
-				out[g] = append(out[g], d)
-			}
+		for g := range bv.gains {
+			deps.blocks[g] = append(deps.blocks[g], name)
 		}
+		deps.keys[name] = c.blockKey(d)
 	}
-	for _, ds := range out {
-		sort.Slice(ds, func(i, j int) bool { return ds[i].Name < ds[j].Name })
-	}
-	return out
+	return deps
+}
+
+// blockKey is a block's statement as written with the values of the gains
+// and blocks it names.
+func (c *checker) blockKey(d *Decl) string {
+	var k keyBuf
+	k.str(d.Name)
+	k.str(c.declText(d))
+	syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
+		ref, ok := n.(*syntax.NameRef)
+		if !ok {
+			return true
+		}
+		k.str(ref.Name)
+		if v, isGain := c.gains[ref.Name]; isGain {
+			k.num(v)
+		} else if bv := c.base.memo[ref.Name]; bv != nil {
+			k.poly(bv.tf.Num)
+			k.poly(bv.tf.Den)
+			k.poly(bv.cont.Num)
+			k.poly(bv.cont.Den)
+		}
+		return true
+	})
+	return string(k)
 }
 
 // memoLimits computes a gain's limits through the memo.
-func (c *checker) memoLimits(g *Gain, loops []*Loop, dependents map[string][]*Decl, compute func() *GainLimits) *GainLimits {
-	key := c.gainKey(g, loops, dependents)
+func (c *checker) memoLimits(g *Gain, loops []*Loop, deps *gainDeps, compute func() *GainLimits) *GainLimits {
+	key := c.gainKey(g, loops, deps)
 	if key == "" {
 		return compute()
 	}

@@ -3,8 +3,11 @@
 # reference (scipy_check.py) on the same generated corpora, with a check that
 # both agree on every loop's stability and margins. Prints markdown tables.
 #
-#   bash testdata/perf/compare.sh            # 10, 100, 1000 loops
-#   SIZES="10 100 1000 10000" bash testdata/perf/compare.sh
+#   bash testdata/perf/compare.sh            # 200 and 2000 loops
+#   SIZES="200 2000 20000" bash testdata/perf/compare.sh
+#
+# Every loop is third order: a PI controller around a second-order discrete
+# plant (gen_corpus.py --pi), up to 2,000 loops a file.
 #
 # Two corpora per size: "gains" (controller gains on `gain` lines, so
 # ringside also computes every gain's stable interval and safe value, which
@@ -17,7 +20,7 @@
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 PY=${RINGSIDE_PYTHON:-/usr/bin/python3}
-SIZES=${SIZES:-"10 100 1000"}
+SIZES=${SIZES:-"200 2000"}
 HERE=testdata/perf
 BIN=/tmp/ringside
 WORK=$(mktemp -d)
@@ -51,7 +54,7 @@ for variant in gains literal; do
   prev_s= prev_r=
   for n in $SIZES; do
     dir="$WORK/$variant-$n"
-    "$PY" "$HERE/gen_corpus.py" "$n" "$dir" $flag
+    "$PY" "$HERE/gen_corpus.py" "$n" "$dir" --pi --per-file 2000 $flag
     runs=3
     [ "$n" -ge 1000 ] && runs=1
     ts=$(timeit "$runs" "$PY" "$HERE/scipy_check.py" run "$dir" "$WORK/scipy-$variant-$n.json")
@@ -64,7 +67,7 @@ for variant in gains literal; do
     gs=- gr=-
     [ -n "$prev_s" ] && gs=$(awk -v a="$prev_s" -v b="$ts" 'BEGIN { printf "×%.1f", b / a }')
     [ -n "$prev_r" ] && gr=$(awk -v a="$prev_r" -v b="$tr" 'BEGIN { printf "×%.1f", b / a }')
-    ratio=$(awk -v s="$ts" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
+    ratio=$(awk -v s="$ts" -v r="$tr" 'BEGIN { printf "%.3f (%.1f× faster)", r / s, s / r }')
     ratio_in=$(awk -v s="$tin" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
     rows+=("| $n | $ts | $tin | $tr | $ratio | $ratio_in | $gs | $gr |")
     prev_s=$ts prev_r=$tr
