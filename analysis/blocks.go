@@ -92,7 +92,7 @@ func (c *checker) continuousChecks(b *Block) {
 		return
 	}
 	nyq := math.Pi / c.res.SampleT // rad/s
-	pr, err := roots.Find(b.Cont.Den)
+	pr, err := c.findRoots(b.Cont.Den)
 	if err != nil {
 		return
 	}
@@ -111,8 +111,8 @@ func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Spa
 	if r.Num.Degree() < 1 || r.Den.Degree() < 1 {
 		return
 	}
-	nr, err1 := roots.Find(r.Num)
-	dr, err2 := roots.Find(r.Den)
+	nr, err1 := c.findRoots(r.Num)
+	dr, err2 := c.findRoots(r.Den)
 	if err1 != nil || err2 != nil {
 		return
 	}
@@ -142,8 +142,8 @@ func (c *checker) blockPoles(b *Block) {
 		t = 1 // pole radius and angle do not need it; times are then per sample
 	}
 	tol := c.env.Options.Tolerance
-	pr, perr := roots.Find(b.TF.Den)
-	zr, zerr := roots.Find(b.TF.Num)
+	pr, perr := c.findRoots(b.TF.Den)
+	zr, zerr := c.findRoots(b.TF.Num)
 	if perr == nil {
 		for _, p := range pr.Roots {
 			b.Poles = append(b.Poles, pole.Describe(p, t, tol))

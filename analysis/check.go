@@ -148,7 +148,7 @@ func (c *checker) usedBlocks(ev *evaluator) {
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
-	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags}
+	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags, numbers: c.memo}
 }
 
 // samples reads the sample period: this file's own, else one shared by the

@@ -28,6 +28,8 @@ type evaluator struct {
 	sweepGain string
 	sweepK    float64
 	base      *evaluator
+	// numbers keeps discretizations between checks (nil: none).
+	numbers *memoRun
 }
 
 // sweep returns an evaluator that sets gain name to k and reuses every
@@ -155,7 +157,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			}
 			opt.PrewarpHz = hz
 		}
-		tf, err := discretize.Discretize(r, opt)
+		tf, err := ev.numbers.discretize(r, opt)
 		if err != nil {
 			ev.report(d.Path, st.Via.Span, Error, CodeDiscretize, fmt.Sprintf("cannot discretize block %s by %s: %v", d.Name, m.Title(), err))
 			return bv

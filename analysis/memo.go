@@ -5,7 +5,9 @@ import (
 	"math"
 	"sync"
 
+	"ringside/analysis/discretize"
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 	"ringside/analysis/step"
 	"ringside/syntax"
 )
@@ -61,10 +63,19 @@ type memoFile struct {
 	used  uint64 // commit count when last committed
 	loops map[string]*loopEntry
 	gains map[string]*GainLimits
+	// nums holds results of pure numeric functions of coefficients:
+	// roots of block polynomials, discretizations.
+	nums map[string]numResult
+}
+
+type numResult struct {
+	roots roots.Result
+	tf    poly.Rational
+	err   error
 }
 
 func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}}
+	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}}
 }
 
 // memoRun is one check's view of the memo: what the previous check of the
@@ -492,4 +503,57 @@ func cloneDiag(x Diagnostic) Diagnostic {
 		x.Fixes[j].Edits = append([]Edit(nil), x.Fixes[j].Edits...)
 	}
 	return x
+}
+
+// number returns the memoised result of key, or computes and keeps it. The
+// functions memoised are pure, and their results are never modified.
+func (r *memoRun) number(key string, compute func() numResult) numResult {
+	if r == nil {
+		return compute()
+	}
+	r.mu.Lock()
+	v, ok := r.next.nums[key]
+	if !ok {
+		v, ok = r.old.nums[key]
+	}
+	r.mu.Unlock()
+	if !ok {
+		v = compute()
+	}
+	r.mu.Lock()
+	r.next.nums[key] = v
+	r.mu.Unlock()
+	return v
+}
+
+// findRoots is roots.Find through the memo.
+func (c *checker) findRoots(p poly.Poly) (roots.Result, error) {
+	if c.memo == nil {
+		return roots.Find(p)
+	}
+	k := keyBuf("roots")
+	k.poly(p)
+	v := c.memo.number(string(k), func() numResult {
+		res, err := roots.Find(p)
+		return numResult{roots: res, err: err}
+	})
+	return v.roots, v.err
+}
+
+// discretize is discretize.Discretize through the memo.
+func (r *memoRun) discretize(h poly.Rational, opt discretize.Options) (poly.Rational, error) {
+	if r == nil {
+		return discretize.Discretize(h, opt)
+	}
+	k := keyBuf("discretize")
+	k.poly(h.Num)
+	k.poly(h.Den)
+	k.num(float64(opt.Method))
+	k.num(opt.T)
+	k.num(opt.PrewarpHz)
+	v := r.number(string(k), func() numResult {
+		tf, err := discretize.Discretize(h, opt)
+		return numResult{tf: tf, err: err}
+	})
+	return v.tf, v.err
 }
