@@ -41,7 +41,7 @@ const rootErrScale = 4
 // accurate than the members). Err is the largest first-order error of those
 // roots. It fails for a zero or non-finite polynomial.
 func FromRational(r poly.Rational) (Factored, error) {
-	var f Factored
+	f := Factored{Gain: 1}
 	if err := f.MulPoly(r.Num, 1); err != nil {
 		return Factored{}, err
 	}
@@ -51,7 +51,7 @@ func FromRational(r poly.Rational) (Factored, error) {
 	return f, nil
 }
 
-// MulPoly multiplies f by p^pow (pow may be negative), p's roots found by
+// MulPoly multiplies f (start from Const(1)) by p^pow (pow may be negative), p's roots found by
 // roots.Find (a degree-1 factor c0 + c1·z gives −c0/c1, one rounding).
 func (f *Factored) MulPoly(p poly.Poly, pow int) error {
 	p = p.Trim()
@@ -59,14 +59,11 @@ func (f *Factored) MulPoly(p poly.Poly, pow int) error {
 		if pow < 0 {
 			return errors.New("lti: division by the zero polynomial")
 		}
-		*f = Factored{}
+		f.Gain = 0 // the zero function; poles already found stay
 		return nil
 	}
 	if !p.Finite() {
 		return errors.New("lti: non-finite coefficient")
-	}
-	if f.Zeros == nil && f.Poles == nil && f.Gain == 0 {
-		f.Gain = 1
 	}
 	f.Gain *= math.Pow(p.Lead(), float64(pow))
 	if len(p) == 1 || pow == 0 {
