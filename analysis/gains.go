@@ -8,8 +8,8 @@ import (
 	"strings"
 
 	"ringside/analysis/gainlimit"
-	"ringside/analysis/poly"
 	"ringside/analysis/lti"
+	"ringside/analysis/poly"
 	"ringside/syntax"
 )
 
