@@ -10,7 +10,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -95,6 +94,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	fset := flag.NewFlagSet("check", flag.ContinueOnError)
 	fset.SetOutput(stderr)
 	format := fset.String("format", "text", "output format: text, json or sarif")
+	indent := fset.Bool("indent", false, "lay JSON and SARIF out for people (compact by default)")
 	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
 	opts := analysis.DefaultOptions()
 	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
@@ -127,44 +127,36 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
 	}
-	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
-	var results []*analysis.Result
-	for _, f := range files {
-		abs, _ := filepath.Abs(f)
-		src, err := os.ReadFile(abs)
-		if err != nil {
-			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
-			return exitUsage
-		}
-		results = append(results, analysis.Check(context.Background(), abs, src, env))
-	}
 	display := func(p string) string {
 		if rel, err := filepath.Rel(cwd, p); err == nil && !strings.HasPrefix(rel, "..") {
 			return filepath.ToSlash(rel)
 		}
 		return p
 	}
-	switch *format {
-	case "json":
-		writeJSON(stdout, report.Build(results, display))
-	case "sarif":
-		writeJSON(stdout, report.SARIF(results, display, version))
-	default:
-		report.Text(stdout, results, display)
-	}
-	for _, r := range results {
+	// One file at a time, written as soon as it is checked: memory is
+	// bounded by the largest file.
+	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
+	out := report.NewStream(*format, stdout, display, version, *indent)
+	status := 0
+	for _, f := range files {
+		abs, _ := filepath.Abs(f)
+		src, err := os.ReadFile(abs)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
+			_ = out.Close() // what was written stays a whole document
+			return exitUsage
+		}
+		r := analysis.Check(context.Background(), abs, src, env)
+		out.Add(r)
 		if r.HasErrors() {
-			return 1
+			status = 1
 		}
 	}
-	return 0
-}
-
-func writeJSON(w io.Writer, v any) {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	enc.SetEscapeHTML(false)
-	_ = enc.Encode(v)
+	if err := out.Close(); err != nil {
+		fmt.Fprintf(stderr, "ringside check: writing the report: %v\n", err)
+		return exitUsage
+	}
+	return status
 }
 
 // collect expands folders into the .loop files inside them, sorted.

@@ -134,19 +134,15 @@ func (c *checker) gainLimits(ctx context.Context) {
 	}
 	// Gains are independent of each other: each search only reads the
 	// loops and the shared evaluator.
+	using := loopsByGain(c.res.Loops)
+	deps := c.dependents()
 	parallel(len(gains), func(i int) {
 		g := gains[i]
 		if ctx.Err() != nil {
 			return
 		}
-		var loops []*Loop
-		for _, l := range c.res.Loops {
-			if l.OK && contains(l.Gains, g.Name) {
-				loops = append(loops, l)
-			}
-		}
-		if len(loops) > 0 {
-			g.Limits = c.limitsOf(g, loops)
+		if loops := using[g.Name]; len(loops) > 0 {
+			g.Limits = c.memoLimits(g, loops, deps, func() *GainLimits { return c.limitsOf(g, loops) })
 		}
 	})
 	c.attachFixes()
