@@ -103,8 +103,10 @@ func (c *checker) run(ctx context.Context) {
 		lc.diags, lc.pending = &diagList{}, nil
 		own[i] = &lc
 		if ctx.Err() != nil {
-			lc.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
-			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls}
+			// An error, so that a check that did not decide every loop
+			// never passes (exit status 1).
+			lc.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again with a larger --budget")
+			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
 		loops[i] = lc.loop(ev, ls)

@@ -429,6 +429,16 @@ func TestBudget(t *testing.T) {
 	if analysed+stopped != 200 || len(r.Loops) != 200 {
 		t.Errorf("%d analysed + %d stopped != 200 loops", analysed, stopped)
 	}
+	// A loop not reached is an error (the check must not pass) and its
+	// verdict names the cause, not errors that do not exist.
+	if !r.HasErrors() {
+		t.Error("loops left without a verdict, yet the result has no error")
+	}
+	for _, l := range r.Loops {
+		if !l.OK && !strings.Contains(l.Verdict(), "out of time") {
+			t.Errorf("loop %s not reached: verdict %q", l.Name, l.Verdict())
+		}
+	}
 }
 
 // A loop using a gain and a block of another file gets fixes that edit

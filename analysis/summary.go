@@ -8,7 +8,10 @@ import (
 // Verdict is a loop's one-line verdict in plain words, e.g.
 // "stable, GM 8.1 dB, PM 47°".
 func (l *Loop) Verdict() string {
-	if !l.OK {
+	switch {
+	case l.NotReached:
+		return "not analysed (out of time: no verdict)"
+	case !l.OK:
 		return "not analysed (see the errors)"
 	}
 	var b strings.Builder

@@ -27,8 +27,8 @@ func (s *Server) formatting(ctx context.Context, params json.RawMessage) (any, e
 	if err != nil {
 		return []protocol.TextEdit{}, nil
 	}
-	if bytes.Contains(src, []byte("\r\n")) {
-		out = bytes.ReplaceAll(out, []byte("\n"), []byte("\r\n"))
+	if nl := syntax.LineBreak(src); nl != "\n" {
+		out = bytes.ReplaceAll(out, []byte("\n"), []byte(nl))
 	}
 	return diffEdits(m, src, out, 0), nil
 }

@@ -14,8 +14,9 @@ import (
 // text (canonical, as everywhere in syntax and analysis) and LSP positions,
 // whose columns count code units of the negotiated encoding: UTF-16 (the
 // default), UTF-8 bytes or UTF-32 code points. It is the only place in the
-// server that knows about columns. A line ends before "\n" or "\r\n"; the
-// "\r" of a CRLF has no column of its own.
+// server that knows about columns. A line ends before "\n", "\r\n" or a
+// lone "\r" (LSP 3.17); a line break has no column of its own, and neither
+// has a leading byte order mark.
 type Mapper struct {
 	src      []byte
 	lines    *syntax.Lines
@@ -39,7 +40,7 @@ func (m *Mapper) OffsetPosition(off syntax.Pos) (protocol.Position, error) {
 	}
 	line, _ := m.lines.UTF16(off)
 	start := m.lines.LineStart(line)
-	end := min(off, m.lines.LineEnd(line))
+	end := min(max(off, start), m.lines.LineEnd(line)) // a byte order mark is part of nothing
 	for end > start && int(end) < len(m.src) && !utf8.RuneStart(m.src[end]) {
 		end--
 	}

@@ -141,17 +141,14 @@ func scanTokens(src []byte, kinds map[syntax.Pos]int, units map[syntax.Pos]synta
 		switch {
 		case c == '#':
 			j := i
-			for j < len(src) && src[j] != '\n' {
+			for j < len(src) && src[j] != '\n' && src[j] != '\r' {
 				j++
-			}
-			if j > i && src[j-1] == '\r' {
-				j--
 			}
 			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokComment})
 			i = j
 		case c == '"':
 			j := i + 1
-			for j < len(src) && src[j] != '"' && src[j] != '\n' {
+			for j < len(src) && src[j] != '"' && src[j] != '\n' && src[j] != '\r' {
 				j++
 			}
 			if j < len(src) && src[j] == '"' {

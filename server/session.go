@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"math"
 	"net/url"
-	"os"
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
@@ -19,6 +18,7 @@ import (
 	"go.uber.org/zap"
 
 	"ringside/analysis"
+	"ringside/internal/fileio"
 	"ringside/server/lspext"
 	"ringside/syntax"
 )
@@ -198,12 +198,13 @@ func (s *Server) snapshotLocked() *snapshot {
 	return &snapshot{s: s, docs: docs, roots: append([]string(nil), s.ses.roots...), settings: s.ses.settings, encoding: s.ses.encoding, gen: s.ses.gen}
 }
 
-// read returns a file's text: the open buffer, else the disk.
+// read returns a file's text: the open buffer, else the disk (regular
+// files only, never blocking, at most analysis.MaxFileSize bytes).
 func (sn *snapshot) read(path string) ([]byte, error) {
 	if d, ok := sn.docs[path]; ok {
 		return d.text, nil
 	}
-	return os.ReadFile(path)
+	return fileio.ReadRegular(path, analysis.MaxFileSize)
 }
 
 // mapper returns a mapper for a file's current text, or an error.

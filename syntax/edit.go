@@ -1,0 +1,328 @@
+package syntax
+
+import (
+	"fmt"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// Every change the project proposes to a user's text (a rename, a fix, the
+// formatter) goes through this file: the edits are applied, the result is
+// parsed again, and its tree is compared with the one intended. A change
+// that would read back as something else is refused with a message, never
+// offered.
+
+// Edit replaces the bytes of Span with New.
+type Edit struct {
+	Span
+	New string
+}
+
+// ApplyEdits applies non-overlapping edits, given in any order, to src and
+// returns the new text; overlapping or out-of-range edits are an error.
+func ApplyEdits(src []byte, edits []Edit) ([]byte, error) {
+	es := append([]Edit(nil), edits...)
+	sort.SliceStable(es, func(i, j int) bool { return es[i].From < es[j].From })
+	out := make([]byte, 0, len(src))
+	at := Pos(0)
+	for _, e := range es {
+		if e.From < at || e.To < e.From || int(e.To) > len(src) {
+			return nil, fmt.Errorf("edits overlap or leave the text (%d-%d)", e.From, e.To)
+		}
+		out = append(out, src[at:e.From]...)
+		out = append(out, e.New...)
+		at = e.To
+	}
+	return append(out, src[at:]...), nil
+}
+
+// reserved are the words a gain or block may not be called: the transform
+// variables and every keyword of the format, which would read back as
+// something else in some place a name can stand.
+var reserved = map[string]bool{
+	"s": true, "z": true,
+	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
+	"forward": true, "feedback": true, "sign": true, "require": true,
+	"via": true, "prewarp": true, "min": true, "max": true,
+}
+
+var nameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
+
+// CheckName says why name cannot be given to a gain or block, or nil.
+func CheckName(name string) error {
+	switch {
+	case !nameRE.MatchString(name):
+		return fmt.Errorf("%q is not a name: use letters, digits and _, starting with a letter or _", name)
+	case name == "s" || name == "z":
+		return fmt.Errorf("%q is the transform variable and cannot be a name", name)
+	case reserved[name]:
+		return fmt.Errorf("%q is a keyword of the .loop format and cannot be a name", name)
+	}
+	return nil
+}
+
+// Rename returns the edits that write newName over each span of src (the
+// occurrences of old), checked to parse back to the same tree with the
+// name changed. Where a name would run into its neighbour ("2k" renamed
+// to e3 reads as the number 2e3) a space keeps them apart; a rename that
+// still changes the tree is refused with an error saying where.
+func Rename(src []byte, spans []Span, old, newName string) ([]Edit, error) {
+	if err := CheckName(newName); err != nil {
+		return nil, err
+	}
+	plain := make([]Edit, len(spans))
+	padded := make([]Edit, len(spans))
+	for i, sp := range spans {
+		plain[i] = Edit{sp, newName}
+		padded[i] = Edit{sp, apart(src, sp, newName)}
+	}
+	rename := map[string]string{old: newName}
+	var err error
+	for _, edits := range [][]Edit{plain, padded} {
+		if err = CheckEdits(src, edits, rename); err == nil {
+			return edits, nil
+		}
+	}
+	return nil, fmt.Errorf("renaming %s to %s would change the meaning of the file: %v", old, newName, err)
+}
+
+// apart puts a space between text and a neighbour it would otherwise join.
+func apart(src []byte, sp Span, text string) string {
+	joins := func(b byte) bool { return isLetter(b) || isDigit(b) || b == '.' }
+	if sp.From > 0 && joins(src[sp.From-1]) {
+		text = " " + text
+	}
+	if int(sp.To) < len(src) && joins(src[sp.To]) {
+		text += " "
+	}
+	return text
+}
+
+// CheckEdits applies edits to src and requires the result to parse to the
+// same tree as src with the names in rename changed (nil: no renaming),
+// layout and comments aside, and with no more syntax errors. The error
+// names the first statement that differs.
+func CheckEdits(src []byte, edits []Edit, rename map[string]string) error {
+	out, err := ApplyEdits(src, edits)
+	if err != nil {
+		return err
+	}
+	return SameTree(src, out, rename)
+}
+
+// SameTree compares the trees of a (with rename applied to its gain and
+// block names) and b.
+func SameTree(a, b []byte, rename map[string]string) error {
+	fa, ea := Parse("", a)
+	fb, eb := Parse("", b)
+	if len(eb) > len(ea) {
+		line, col := fb.Lines.LineCol(eb[0].From)
+		return fmt.Errorf("the result has a syntax error at %d:%d: %s", line, col, eb[0].Msg)
+	}
+	ka, kb := StmtKeys(fa, rename), StmtKeys(fb, nil)
+	for i := range min(len(ka), len(kb)) {
+		if ka[i] != kb[i] {
+			line, _ := fb.Lines.LineCol(fb.Stmts[i].Pos())
+			return fmt.Errorf("line %d would read differently", line)
+		}
+	}
+	if len(ka) != len(kb) {
+		return fmt.Errorf("the result has %d statements instead of %d", len(kb), len(ka))
+	}
+	return nil
+}
+
+// CheckFix applies a fix's edits to src and requires every statement the
+// edits do not touch to read back unchanged, and no new syntax error: a fix
+// changes what it says and nothing else.
+func CheckFix(src []byte, edits []Edit) error {
+	out, err := ApplyEdits(src, edits)
+	if err != nil {
+		return err
+	}
+	fa, ea := Parse("", src)
+	fb, eb := Parse("", out)
+	if len(eb) > len(ea) {
+		line, col := fb.Lines.LineCol(eb[0].From)
+		return fmt.Errorf("the fixed text would have a syntax error at %d:%d: %s", line, col, eb[0].Msg)
+	}
+	ka, kb := StmtKeys(fa, nil), StmtKeys(fb, nil)
+	pre := 0
+	for pre < len(ka) && pre < len(kb) && ka[pre] == kb[pre] {
+		pre++
+	}
+	suf := 0
+	for suf < len(ka)-pre && suf < len(kb)-pre && ka[len(ka)-1-suf] == kb[len(kb)-1-suf] {
+		suf++
+	}
+	for i := pre; i < len(ka)-suf; i++ {
+		if !touched(fa.Stmts[i], edits) {
+			line, _ := fa.Lines.LineCol(fa.Stmts[i].Pos())
+			return fmt.Errorf("the fix would change line %d, which it does not edit", line)
+		}
+	}
+	return nil
+}
+
+func touched(st Stmt, edits []Edit) bool {
+	for _, e := range edits {
+		if e.From <= st.End() && st.Pos() <= e.To {
+			return true
+		}
+	}
+	return false
+}
+
+// StmtKeys gives one string per statement that captures its meaning as
+// parsed (kinds, names, numbers as written, units, operators, nesting) and
+// nothing of its layout or comments; names of gains and blocks are changed
+// by rename first. Two statements with equal keys read the same. A
+// statement the parser could not read is keyed by its text.
+func StmtKeys(f *File, rename map[string]string) []string {
+	out := make([]string, len(f.Stmts))
+	var b strings.Builder
+	for i, st := range f.Stmts {
+		b.Reset()
+		k := keyer{b: &b, f: f, rename: rename}
+		k.stmt(st)
+		out[i] = b.String()
+	}
+	return out
+}
+
+type keyer struct {
+	b      *strings.Builder
+	f      *File
+	rename map[string]string
+}
+
+func (k keyer) w(parts ...string) {
+	for _, p := range parts {
+		k.b.WriteString(p)
+		k.b.WriteByte(' ')
+	}
+}
+
+func (k keyer) name(id *Ident) {
+	if id == nil {
+		k.w("<nil>")
+		return
+	}
+	if n, ok := k.rename[id.Name]; ok {
+		k.w(n)
+		return
+	}
+	k.w(id.Name)
+}
+
+func (k keyer) ident(id *Ident) {
+	if id == nil {
+		k.w("<nil>")
+		return
+	}
+	k.w(id.Name)
+}
+
+func (k keyer) num(n *Number) {
+	if n == nil {
+		k.w("<nil>")
+		return
+	}
+	k.w("num", strconv.FormatBool(n.Neg), n.Text, n.UnitCanon())
+}
+
+func (k keyer) bad(sp Span) { k.w("bad", strconv.Quote(string(k.f.Src[sp.From:sp.To]))) }
+
+func (k keyer) stmt(st Stmt) {
+	switch st := st.(type) {
+	case *SampleStmt:
+		k.w("sample")
+		k.num(st.Value)
+	case *UseStmt:
+		k.w("use", strconv.Quote(st.Path))
+	case *GainStmt:
+		k.w("gain")
+		k.name(st.Name)
+		k.num(st.Value)
+		k.w("min")
+		k.num(st.Min)
+		k.w("max")
+		k.num(st.Max)
+	case *BlockStmt:
+		k.w("block")
+		k.name(st.Name)
+		k.expr(st.Expr)
+		if st.Via != nil {
+			k.w("via")
+			k.ident(st.Via.Method)
+			k.num(st.Via.Prewarp)
+		}
+	case *LoopStmt:
+		k.w("loop")
+		k.ident(st.Name)
+		k.w(strconv.FormatBool(st.RBrace != NoPos))
+		for _, it := range st.Items {
+			k.item(it)
+		}
+	case *BadStmt:
+		k.bad(st.Span)
+	}
+}
+
+func (k keyer) item(it LoopItem) {
+	switch it := it.(type) {
+	case *PathItem:
+		k.w("path", it.Keyword.Name)
+		for _, id := range it.Names {
+			k.name(id)
+		}
+	case *SignItem:
+		k.w("sign")
+		k.ident(it.Value)
+	case *RequireItem:
+		k.w("require")
+		k.ident(it.Metric)
+		k.w(it.Op)
+		k.num(it.Value)
+	case *BadItem:
+		k.bad(it.Span)
+	}
+	k.w(";")
+}
+
+func (k keyer) expr(e Expr) {
+	switch e := e.(type) {
+	case nil:
+		k.w("<nil>")
+	case *NumberLit:
+		k.w(e.Text)
+	case *VarRef:
+		k.w("var", e.Name)
+	case *NameRef:
+		k.name(&e.Ident)
+	case *Binary:
+		// Side by side and '*' multiply alike.
+		op := e.Op
+		if e.Juxtaposed {
+			op = "*"
+		}
+		k.w("(", op)
+		k.expr(e.X)
+		k.expr(e.Y)
+		k.w(")")
+	case *Unary:
+		k.w("(", "u"+e.Op)
+		k.expr(e.X)
+		k.w(")")
+	case *Power:
+		k.w("(", "^", strconv.Itoa(e.Exp))
+		k.expr(e.X)
+		k.w(")")
+	case *Paren:
+		k.expr(e.X) // the tree already holds the grouping
+	case *BadExpr:
+		k.bad(e.Span)
+	}
+}
