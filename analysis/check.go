@@ -45,7 +45,8 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	}
 	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}}
 	c.run(ctx)
-	res.Diagnostics = diags.sorted(path)
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics)
 	return res
 }
 

@@ -19,7 +19,7 @@ func (s *Server) formatting(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
@@ -38,7 +38,7 @@ func (s *Server) rangeFormatting(ctx context.Context, params json.RawMessage) (a
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}

@@ -271,20 +271,20 @@ func (ses *session) remember(key cacheKey, res *analysis.Result) {
 
 // docParams resolves the document of a request whose params name only
 // {"textDocument": {"uri": ...}}.
-func (s *Server) docParams(params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
+func (s *Server) docParams(ctx context.Context, params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
 	var p struct {
 		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
 	}
 	if err := decode(params, &p); err != nil {
 		return nil, "", nil, nil, err
 	}
-	return s.docRequest(p.TextDocument.URI)
+	return s.docRequest(ctx, p.TextDocument.URI)
 }
 
 // docPosition resolves a request's document and the byte offset of its
 // position.
-func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
-	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+func (s *Server) docPosition(ctx context.Context, p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
+	sn, path, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, "", nil, nil, syntax.NoPos, err
 	}
@@ -296,12 +296,17 @@ func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, 
 }
 
 // docRequest resolves a request's document: its snapshot, path and mapper.
-func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
+// Once the snapshot is taken the read loop is released (the request sees
+// every message before it and none after), and an edit of the document
+// from then on cancels the request (supersede).
+func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
 	path, err := uriPath(uri)
 	if err != nil {
 		return nil, "", nil, nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	sn := s.snapshot()
+	s.reads(ctx, path)
+	async(ctx)
 	m, src, err := sn.mapper(path)
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
@@ -353,6 +358,7 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	}
 	if err != nil {
 		s.log.Warn("initializationOptions ignored", zap.Error(err))
+		s.settingsRefused(err)
 	}
 	s.initialized = true
 	version := s.cfg.Version
@@ -454,6 +460,7 @@ func (s *Server) didChange(params json.RawMessage) error {
 	s.ses.docs[path] = &document{uri: d.uri, path: path, version: p.TextDocument.Version, text: text}
 	s.ses.gen++
 	s.mu.Unlock()
+	s.supersede(path)
 	s.changed(path, false)
 	return nil
 }
@@ -549,10 +556,18 @@ func (s *Server) didChangeConfiguration(params json.RawMessage) error {
 	}
 	s.mu.Unlock()
 	if err != nil {
+		s.settingsRefused(err)
 		return err
 	}
 	s.recheckAll(false)
 	return nil
+}
+
+// settingsRefused tells the user (window/showMessage) that a setting was
+// refused and which values stay in force.
+func (s *Server) settingsRefused(err error) {
+	s.notify(protocol.MethodWindowShowMessage, &protocol.ShowMessageParams{Type: protocol.MessageTypeError,
+		Message: "ringside: " + err.Error() + "; the settings stay as they were"})
 }
 
 func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {

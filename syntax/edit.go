@@ -10,9 +10,9 @@ import (
 
 // Every change the project proposes to a user's text (a rename, a fix, the
 // formatter) goes through this file: the edits are applied, the result is
-// parsed again, and its tree is compared with the one intended. A change
-// that would read back as something else is refused with a message, never
-// offered.
+// parsed again, and its tree is compared with the one intended (Rename,
+// SameTree for the formatter, CheckFix). A change that would read back as
+// something else is refused with a message, never offered.
 
 // Edit replaces the bytes of Span with New.
 type Edit struct {
@@ -134,45 +134,48 @@ func SameTree(a, b []byte, rename map[string]string) error {
 	return nil
 }
 
-// CheckFix applies a fix's edits to src and requires every statement the
-// edits do not touch to read back unchanged, and no new syntax error: a fix
-// changes what it says and nothing else.
-func CheckFix(src []byte, edits []Edit) error {
-	out, err := ApplyEdits(src, edits)
+// CheckFix checks a fix's edits against f, the parsed text they apply to:
+// the statements they touch, with the edits applied, must parse with no
+// new syntax error, and the text around them is left as it was, so a fix
+// changes what it says and nothing else. Statements start afresh on their
+// own line, so only the lines of the touched statements are parsed again,
+// which keeps a check of many fixes linear in the file.
+func CheckFix(f *File, edits []Edit) error {
+	if len(edits) == 0 {
+		return nil
+	}
+	lo, hi := edits[0].From, edits[0].To
+	for _, e := range edits {
+		lo, hi = min(lo, e.From), max(hi, e.To)
+	}
+	if lo < 0 || int(hi) > len(f.Src) {
+		return fmt.Errorf("the fix edits outside the text (%d-%d)", lo, hi)
+	}
+	if int(lo) < BOMLen(f.Src) {
+		return fmt.Errorf("the fix edits the byte order mark")
+	}
+	i := sort.Search(len(f.Stmts), func(i int) bool { return f.Stmts[i].End() >= lo })
+	for ; i < len(f.Stmts) && f.Stmts[i].Pos() <= hi; i++ {
+		lo, hi = min(lo, f.Stmts[i].Pos()), max(hi, f.Stmts[i].End())
+	}
+	lo, hi = f.Lines.LineStart(f.Lines.line(lo)), f.Lines.LineEnd(f.Lines.line(hi))
+	shifted := make([]Edit, len(edits))
+	for k, e := range edits {
+		shifted[k] = Edit{Span{e.From - lo, e.To - lo}, e.New}
+	}
+	before := f.Src[lo:hi]
+	after, err := ApplyEdits(before, shifted)
 	if err != nil {
 		return err
 	}
-	fa, ea := Parse("", src)
-	fb, eb := Parse("", out)
+	_, ea := Parse("", before)
+	fb, eb := Parse("", after)
 	if len(eb) > len(ea) {
-		line, col := fb.Lines.LineCol(eb[0].From)
-		return fmt.Errorf("the fixed text would have a syntax error at %d:%d: %s", line, col, eb[0].Msg)
-	}
-	ka, kb := StmtKeys(fa, nil), StmtKeys(fb, nil)
-	pre := 0
-	for pre < len(ka) && pre < len(kb) && ka[pre] == kb[pre] {
-		pre++
-	}
-	suf := 0
-	for suf < len(ka)-pre && suf < len(kb)-pre && ka[len(ka)-1-suf] == kb[len(kb)-1-suf] {
-		suf++
-	}
-	for i := pre; i < len(ka)-suf; i++ {
-		if !touched(fa.Stmts[i], edits) {
-			line, _ := fa.Lines.LineCol(fa.Stmts[i].Pos())
-			return fmt.Errorf("the fix would change line %d, which it does not edit", line)
-		}
+		line, _ := f.Lines.LineCol(lo)
+		bl, bc := fb.Lines.LineCol(eb[0].From)
+		return fmt.Errorf("the fixed text would have a syntax error at %d:%d: %s", line+bl-1, bc, eb[0].Msg)
 	}
 	return nil
-}
-
-func touched(st Stmt, edits []Edit) bool {
-	for _, e := range edits {
-		if e.From <= st.End() && st.Pos() <= e.To {
-			return true
-		}
-	}
-	return false
 }
 
 // StmtKeys gives one string per statement that captures its meaning as
