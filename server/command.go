@@ -72,9 +72,12 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 	if a.Loop != "" && len(loops) == 0 {
 		return nil, errorf(lspext.CodeRequestFailed, "no loop %q in %s", a.Loop, filepath.Base(path))
 	}
-	for _, l := range loops {
+	for i, l := range loops {
 		if ctx.Err() != nil {
 			return nil, errCancelled
+		}
+		if i >= plot.MaxPageFigures {
+			break // the page lists the rest; a loop is plotted by name
 		}
 		svg, err := plot.LoopSVG(res, l)
 		if err != nil {

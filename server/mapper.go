@@ -15,8 +15,10 @@ import (
 // whose columns count code units of the negotiated encoding: UTF-16 (the
 // default), UTF-8 bytes or UTF-32 code points. It is the only place in the
 // server that knows about columns. A line ends before "\n", "\r\n" or a
-// lone "\r" (LSP 3.17); a line break has no column of its own, and neither
-// has a leading byte order mark.
+// lone "\r" (LSP 3.17); a line break has no column of its own. A leading
+// byte order mark the client sent is a character of its text and counts
+// like one, so an edit just after it (a fix inserting the first line)
+// lands after it in the client's text too.
 type Mapper struct {
 	src      []byte
 	lines    *syntax.Lines
@@ -40,7 +42,7 @@ func (m *Mapper) OffsetPosition(off syntax.Pos) (protocol.Position, error) {
 	}
 	line, _ := m.lines.UTF16(off)
 	start := m.lines.LineStart(line)
-	end := min(max(off, start), m.lines.LineEnd(line)) // a byte order mark is part of nothing
+	end := min(off, m.lines.LineEnd(line))
 	for end > start && int(end) < len(m.src) && !utf8.RuneStart(m.src[end]) {
 		end--
 	}

@@ -61,7 +61,7 @@ func TestCheckFix(t *testing.T) {
 }
 
 // "\n", "\r\n" and a lone "\r" are all line ends (LSP 3.17); a leading byte
-// order mark has no column.
+// order mark has no column on the command line.
 func TestLinesLineEnds(t *testing.T) {
 	for _, src := range []string{"ab\ncd\nef", "ab\r\ncd\r\nef", "ab\rcd\ref", "ab\ncd\ref", "\ufeffab\rcd\r\nef"} {
 		l := NewLines([]byte(src))
@@ -73,8 +73,13 @@ func TestLinesLineEnds(t *testing.T) {
 		if line, col := l.LineCol(e); line != 3 || col != 1 {
 			t.Errorf("%q: e at %d:%d, want 3:1", src, line, col)
 		}
-		if ln, col := l.UTF16(Pos(strings.Index(src, "b"))); ln != 0 || col != 1 {
-			t.Errorf("%q: b at %d:%d (UTF-16), want 0:1", src, ln, col)
+		if line, col := l.LineCol(Pos(strings.Index(src, "a"))); line != 1 || col != 1 {
+			t.Errorf("%q: a at %d:%d, want 1:1 (the mark has no column)", src, line, col)
+		}
+		// The editor counts a mark it sent as a character of its text.
+		want := 1 + strings.Count(src, "\ufeff")
+		if ln, col := l.UTF16(Pos(strings.Index(src, "b"))); ln != 0 || col != want {
+			t.Errorf("%q: b at %d:%d (UTF-16), want 0:%d", src, ln, col, want)
 		}
 		if end := l.LineEnd(0); src[end-1] != 'b' {
 			t.Errorf("%q: line 0 ends at %d", src, end)

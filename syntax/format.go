@@ -128,7 +128,8 @@ func FormatRange(src []byte, from, to Pos) (Span, []byte, error) {
 	for _, l := range lines[lo : hi+1] {
 		parts = append(parts, l.text)
 	}
-	span := Span{f.Lines.LineStart(f.Lines.line(f.Stmts[first].Pos())), f.Lines.LineEnd(srcEnd)}
+	start := max(f.Lines.LineStart(f.Lines.line(f.Stmts[first].Pos())), Pos(BOMLen(src))) // the mark stays
+	span := Span{start, f.Lines.LineEnd(srcEnd)}
 	text := []byte(strings.Join(parts, nl))
 	out, err := ApplyEdits(src, []Edit{{span, string(text)}})
 	if err == nil {

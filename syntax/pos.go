@@ -25,21 +25,23 @@ func (s Span) Contains(p Pos) bool { return s.From <= p && p <= s.To }
 // Lines maps byte offsets to line/column pairs. A line ends at "\n",
 // "\r\n" or a lone "\r" (LSP 3.17 counts all three); the line break
 // belongs to no column a client can address. A leading byte order mark is
-// part of nothing: line 0 starts after it.
+// part of nothing: LineCol (the command line's columns) skips it. UTF16
+// counts it, as an editor that sent it counts it in its own text.
 type Lines struct {
 	src    []byte
 	starts []int // byte offset of the first byte of each line
+	bom    int   // length of a leading byte order mark
 }
 
 // NewLines indexes src.
 func NewLines(src []byte) *Lines {
-	starts := []int{BOMLen(src)}
+	starts := []int{0}
 	for i, b := range src {
 		if b == '\n' || b == '\r' && (i+1 == len(src) || src[i+1] != '\n') {
 			starts = append(starts, i+1)
 		}
 	}
-	return &Lines{src: src, starts: starts}
+	return &Lines{src: src, starts: starts, bom: BOMLen(src)}
 }
 
 // BOMLen is the length of src's leading UTF-8 byte order mark (3), or 0.
@@ -62,8 +64,8 @@ func (l *Lines) line(p Pos) int {
 
 func (l *Lines) clamp(p Pos) int {
 	switch {
-	case int(p) < l.starts[0]:
-		return l.starts[0]
+	case p < 0:
+		return 0
 	case int(p) > len(l.src):
 		return len(l.src)
 	}
@@ -75,8 +77,12 @@ func (l *Lines) clamp(p Pos) int {
 // that is not valid UTF-8 counts as one column.
 func (l *Lines) LineCol(p Pos) (line, col int) {
 	ln := l.line(p)
-	off := min(l.clamp(p), int(l.LineEnd(ln))) // a "\r" before "\n" has no column
-	return ln + 1, utf8.RuneCount(l.src[l.starts[ln]:off]) + 1
+	from := l.starts[ln]
+	if ln == 0 {
+		from = l.bom // the mark has no column
+	}
+	off := max(min(l.clamp(p), int(l.LineEnd(ln))), from) // a line break has no column
+	return ln + 1, utf8.RuneCount(l.src[from:off]) + 1
 }
 
 // UTF16 converts an offset to a 0-based line and a 0-based column counted in
