@@ -116,22 +116,47 @@ func CheckEdits(src []byte, edits []Edit, rename map[string]string) error {
 // block names) and b.
 func SameTree(a, b []byte, rename map[string]string) error {
 	fa, ea := Parse("", a)
+	return sameTree(fa, len(ea), b, rename)
+}
+
+// sameTree compares fa (parsed, with na syntax errors) with b parsed,
+// statement by statement, keeping one key of each at a time.
+func sameTree(fa *File, na int, b []byte, rename map[string]string) error {
 	fb, eb := Parse("", b)
-	if len(eb) > len(ea) {
+	if len(eb) > na {
 		line, col := fb.Lines.LineCol(eb[0].From)
 		return fmt.Errorf("the result has a syntax error at %d:%d: %s", line, col, eb[0].Msg)
 	}
-	ka, kb := StmtKeys(fa, rename), StmtKeys(fb, nil)
-	for i := range min(len(ka), len(kb)) {
-		if ka[i] != kb[i] {
+	var ka, kb strings.Builder
+	for i := range min(len(fa.Stmts), len(fb.Stmts)) {
+		ka.Reset()
+		kb.Reset()
+		keyer{b: &ka, f: fa, rename: rename}.stmt(fa.Stmts[i])
+		keyer{b: &kb, f: fb}.stmt(fb.Stmts[i])
+		if ka.String() != kb.String() {
 			line, _ := fb.Lines.LineCol(fb.Stmts[i].Pos())
 			return fmt.Errorf("line %d would read differently", line)
 		}
 	}
-	if len(ka) != len(kb) {
-		return fmt.Errorf("the result has %d statements instead of %d", len(kb), len(ka))
+	if len(fa.Stmts) != len(fb.Stmts) {
+		return fmt.Errorf("the result has %d statements instead of %d", len(fb.Stmts), len(fa.Stmts))
+	}
+	if rename == nil && !sameComments(fa.Comments, fb.Comments) {
+		return fmt.Errorf("a comment would be lost or changed")
 	}
 	return nil
+}
+
+func sameComments(a, b []*Comment) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if strings.TrimRight(a[i].Text, " \t") != strings.TrimRight(b[i].Text, " \t") {
+			return false
+		}
+	}
+	return true
 }
 
 // CheckFix checks a fix's edits against f, the parsed text they apply to:

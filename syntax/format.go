@@ -58,34 +58,19 @@ func Format(src []byte) ([]byte, error) {
 		b.WriteByte('\n')
 	}
 	out := b.Bytes()
-	if err := sameLayoutFree(src, out); err != nil {
+	if err := sameLayoutFree(f, out); err != nil {
 		return nil, err
 	}
 	return out, nil
 }
 
-// sameLayoutFree refuses a layout that would not read back as the source:
-// same tree, same comments. It guards every formatter edit.
-func sameLayoutFree(src, out []byte) error {
-	if err := SameTree(src, out, nil); err != nil {
+// sameLayoutFree refuses a layout that would not read back as f, the
+// parsed source: same tree, same comments. It guards every formatter edit.
+func sameLayoutFree(f *File, out []byte) error {
+	if err := sameTree(f, 0, out, nil); err != nil {
 		return fmt.Errorf("not formatted: the new layout would change the file (please report this file): %w", err)
 	}
-	_, ca, _ := lexAll(src)
-	_, cb, _ := lexAll(out)
-	if len(ca) != len(cb) {
-		return fmt.Errorf("not formatted: the new layout would lose a comment (please report this file)")
-	}
-	for i := range ca {
-		if strings.TrimRight(ca[i].Text, " \t") != strings.TrimRight(cb[i].Text, " \t") {
-			return fmt.Errorf("not formatted: the new layout would change a comment (please report this file)")
-		}
-	}
 	return nil
-}
-
-func lexAll(src []byte) ([]token, []*Comment, ErrorList) {
-	lx := lex(src)
-	return lx.toks, lx.comments, lx.errs
 }
 
 // FormatRange formats the whole statements that overlap [from, to) (or
@@ -133,7 +118,7 @@ func FormatRange(src []byte, from, to Pos) (Span, []byte, error) {
 	text := []byte(strings.Join(parts, nl))
 	out, err := ApplyEdits(src, []Edit{{span, string(text)}})
 	if err == nil {
-		err = sameLayoutFree(src, out)
+		err = sameLayoutFree(f, out)
 	}
 	if err != nil {
 		return Span{}, nil, err
