@@ -143,7 +143,7 @@ func (c *checker) requirements(l *Loop, reqs []*syntax.RequireItem) {
 		l.Requirements = append(l.Requirements, c.evalReq(l, r, r.Metric.Name, r.Op, v))
 	}
 	for _, q := range l.Requirements {
-		if !q.Met {
+		if !q.Met && !l.Undecided { // an undecided loop has its own error
 			c.missed(l, q)
 		}
 	}
@@ -205,7 +205,11 @@ func (c *checker) evalReq(l *Loop, item *syntax.RequireItem, metric, op string, 
 	q.GotText = fmtMetric(metric, v)
 	// Margins and step figures of an unstable loop describe nothing real.
 	if !l.Stable && metric != "radius" && metric != "damping" {
-		q.GotText += " (loop not stable)"
+		if l.Undecided {
+			q.GotText += " (stability undecided)"
+		} else {
+			q.GotText += " (loop not stable)"
+		}
 		return q
 	}
 	if op == ">=" {

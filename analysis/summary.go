@@ -20,6 +20,8 @@ func (l *Loop) Verdict() string {
 		b.WriteString("stable")
 	case l.Marginal:
 		b.WriteString("NOT STABLE (pole on the unit circle)")
+	case l.Undecided:
+		b.WriteString("UNDECIDED (a pole's error bound straddles the unit circle)")
 	default:
 		b.WriteString("UNSTABLE")
 	}
@@ -47,6 +49,8 @@ func (l *Loop) Summary() string {
 	verdict := "stable"
 	if l.Marginal {
 		verdict = "NOT STABLE: pole on the unit circle"
+	} else if l.Undecided {
+		verdict = "UNDECIDED: a pole's error bound straddles the unit circle"
 	} else if !l.Stable {
 		verdict = "UNSTABLE"
 	}

@@ -88,13 +88,14 @@ func TestJSONContractOnRandomFiles(t *testing.T) {
 	for _, f := range doc.Files {
 		for _, l := range f.Loops {
 			loops++
-			if !l.Stable {
+			stable := l.Stable != nil && *l.Stable
+			if !stable {
 				unstable++
 			}
-			if l.Stable && l.Analysed && l.OvershootPct == nil {
+			if stable && l.Analysed && l.OvershootPct == nil {
 				t.Errorf("%s/%s: stable but no step figures", f.Path, l.Name)
 			}
-			if !l.Stable && l.SettlingS != nil {
+			if !stable && l.SettlingS != nil {
 				t.Errorf("%s/%s: unstable with a settling time", f.Path, l.Name)
 			}
 		}
