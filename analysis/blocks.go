@@ -79,9 +79,13 @@ func (c *checker) noSample() {
 			span.To = l.LineEnd(0)
 		}
 	}
+	// The new line goes after a byte order mark, which is part of nothing,
+	// and uses the file's own line break.
+	src := c.root.file.Src
+	bom := syntax.Pos(syntax.BOMLen(src))
 	x := c.diags.add(c.res.Path, span, Error, CodeNoSample,
 		"no sample line: s blocks cannot be discretized and frequencies cannot be given in Hz without the sample period; add one, e.g. `sample 1 ms`")
-	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: 0, To: 0}, NewText: "sample 1 ms\n"}}})
+	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: bom, To: bom}, NewText: "sample 1 ms" + syntax.LineBreak(src)}}})
 }
 
 // continuousChecks warns of continuous poles beyond Nyquist and shared

@@ -163,6 +163,9 @@ type Loop struct {
 	Feedback []string
 	Positive bool // positive feedback
 	OK       bool // every element resolved and the analysis ran
+	// NotReached: the analysis stopped (time budget, cancel) before this
+	// loop; it has no verdict and an error says so.
+	NotReached bool
 
 	Open   poly.Rational // L, sign folded in so that the loop closes as 1 + L = 0
 	Char   poly.Poly     // uncancelled characteristic polynomial

@@ -136,6 +136,10 @@ func (c *checker) requirements(l *Loop, reqs []*syntax.RequireItem) {
 		if q, _, _ := unitKind(r.Value.UnitCanon()); q == qSamples {
 			v *= c.res.SampleT
 		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			c.diags.add(c.res.Path, r.Value.Span, Error, CodeBadUnit, fmt.Sprintf("require %s %s %s is too large to compare with anything (not a finite number once converted); write a value a loop can meet", r.Metric.Name, r.Op, r.Value))
+			continue
+		}
 		l.Requirements = append(l.Requirements, c.evalReq(l, r, r.Metric.Name, r.Op, v))
 	}
 	for _, q := range l.Requirements {

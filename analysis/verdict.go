@@ -16,6 +16,8 @@ import (
 // capitals where the loop must not run.
 func (l *Loop) VerdictWord() string {
 	switch {
+	case l.NotReached:
+		return "not analysed (out of time: no verdict)"
 	case !l.OK:
 		return "not analysed (see the errors)"
 	case l.Stable:
@@ -31,6 +33,8 @@ func (l *Loop) VerdictWord() string {
 // VerdictReason says why, in one plain clause with the figure behind it.
 func (l *Loop) VerdictReason() string {
 	switch {
+	case l.NotReached:
+		return "the analysis ran out of its time budget before this loop, so it has no verdict"
 	case !l.OK:
 		return "the loop has errors (listed with the diagnostics), so it has no verdict"
 	case l.Stable:
