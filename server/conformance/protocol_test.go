@@ -60,7 +60,6 @@ func (c *caseEnv) wantError(what string, m message, code int) {
 	}
 }
 
-
 // nullIDError waits for an error answer with id null (what JSON-RPC 2.0
 // prescribes when the id of a bad message cannot be read) and checks its
 // code.
