@@ -23,6 +23,7 @@ import (
 	"ringside/analysis"
 	"ringside/analysis/plot"
 	"ringside/analysis/report"
+	"ringside/internal/fileio"
 	"ringside/server"
 	"ringside/syntax"
 )
@@ -122,7 +123,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if *root != "" {
 		rootDir, _ = filepath.Abs(*root)
 	}
-	files, err := collect(paths)
+	files, err := collect(paths, stderr)
 	if err != nil {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
@@ -140,9 +141,9 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	status := 0
 	for _, f := range files {
 		abs, _ := filepath.Abs(f)
-		src, err := os.ReadFile(abs)
+		src, err := readInput(abs)
 		if err != nil {
-			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, err)
 			_ = out.Close() // what was written stays a whole document
 			return exitUsage
 		}
@@ -159,8 +160,21 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	return status
 }
 
-// collect expands folders into the .loop files inside them, sorted.
-func collect(paths []string) ([]string, error) {
+// readInput reads a .loop file named on the command line: a regular file
+// of at most analysis.MaxFileSize bytes, never blocking on a FIFO.
+func readInput(path string) ([]byte, error) {
+	src, err := fileio.ReadRegular(path, analysis.MaxFileSize)
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return nil, pe.Err
+	}
+	return src, err
+}
+
+// collect expands folders into the .loop files inside them, sorted. A
+// .loop entry that is not a regular file (a FIFO, a device, a link to
+// neither) is skipped with a note on stderr: it would block or never end.
+func collect(paths []string, stderr io.Writer) ([]string, error) {
 	var out []string
 	for _, p := range paths {
 		info, err := os.Stat(p)
@@ -179,9 +193,18 @@ func collect(paths []string) ([]string, error) {
 			if d.IsDir() && path != p && strings.HasPrefix(d.Name(), ".") {
 				return filepath.SkipDir
 			}
-			if !d.IsDir() && strings.HasSuffix(path, ".loop") {
-				found = append(found, path)
+			if d.IsDir() || !strings.HasSuffix(path, ".loop") {
+				return nil
 			}
+			if info, err := os.Stat(path); err != nil || !info.Mode().IsRegular() {
+				why := "cannot be read"
+				if err == nil {
+					why = fileio.NotRegularError(info.Mode()).Error()
+				}
+				fmt.Fprintf(stderr, "ringside check: skipped %s: %s\n", path, why)
+				return nil
+			}
+			found = append(found, path)
 			return nil
 		})
 		if err != nil {
@@ -210,28 +233,35 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 	}
 	status := 0
 	for _, f := range files {
-		src, err := os.ReadFile(f)
+		src, err := readInput(f)
 		if err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, errors.Unwrap(err))
+			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, err)
 			return exitUsage
 		}
 		out, err := syntax.Format(src)
-		if err != nil {
+		if errors.Is(err, syntax.ErrSyntax) {
 			fmt.Fprintf(stderr, "ringside fmt: %s: not formatted, fix its syntax first: %v\n", f, err)
 			status = 1
 			continue
 		}
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: %s: %v\n", f, err)
+			status = 1
+			continue
+		}
 		if !*write {
-			stdout.Write(out)
+			if _, err := stdout.Write(out); err != nil {
+				fmt.Fprintf(stderr, "ringside fmt: cannot write the output: %v\n", err)
+				return exitUsage
+			}
 			continue
 		}
 		if bytes.Equal(out, src) {
 			continue
 		}
-		info, _ := os.Stat(f)
-		if err := os.WriteFile(f, out, info.Mode().Perm()); err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot write %s: %v\n", f, err)
-			status = 1
+		if err := fileio.WriteAtomic(f, out, 0o644); err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: cannot write %s (left as it was): %v\n", f, err)
+			return exitUsage
 		}
 	}
 	return status
@@ -252,9 +282,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	abs, _ := filepath.Abs(files[0])
-	src, err := os.ReadFile(abs)
+	src, err := readInput(abs)
 	if err != nil {
-		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], errors.Unwrap(err))
+		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], err)
 		return exitUsage
 	}
 	rootDir, _ := os.Getwd()
@@ -306,10 +336,13 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *out == "" {
-		stdout.Write(data)
+		if _, err := stdout.Write(data); err != nil {
+			fmt.Fprintf(stderr, "ringside plot: cannot write the output: %v\n", err)
+			return exitUsage
+		}
 		return 0
 	}
-	if err := os.WriteFile(*out, data, 0o644); err != nil {
+	if err := fileio.WriteAtomic(*out, data, 0o644); err != nil {
 		fmt.Fprintf(stderr, "ringside plot: cannot write %s: %v\n", *out, err)
 		return exitUsage
 	}

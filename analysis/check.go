@@ -48,7 +48,8 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	if ctx.Err() == nil {
 		c.memo.commit()
 	}
-	res.Diagnostics = diags.sorted(path)
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics)
 	return res
 }
 
@@ -109,8 +110,10 @@ func (c *checker) run(ctx context.Context) {
 		lc.diags, lc.pending = &diagList{}, nil
 		own[i] = &lc
 		if ctx.Err() != nil {
-			lc.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
-			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls}
+			// An error, so that a check that did not decide every loop
+			// never passes (exit status 1).
+			lc.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again with a larger --budget")
+			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
 		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.loop(ev, ls) })

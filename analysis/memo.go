@@ -6,6 +6,7 @@ import (
 	"sync"
 
 	"ringside/analysis/discretize"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 	"ringside/analysis/step"
@@ -167,6 +168,26 @@ func (k *keyBuf) poly(p poly.Poly) {
 	}
 }
 
+func (k *keyBuf) complexes(zs []complex128) {
+	*k = binary.AppendUvarint(*k, uint64(len(zs)))
+	for _, z := range zs {
+		k.num(real(z))
+		k.num(imag(z))
+	}
+}
+
+// factored adds a factored form (gain, zeros, poles, error bound).
+func (k *keyBuf) factored(f lti.Factored, err error) {
+	if err != nil {
+		k.str("no factored form: " + err.Error())
+		return
+	}
+	k.num(f.Gain)
+	k.complexes(f.Zeros)
+	k.complexes(f.Poles)
+	k.num(f.Err)
+}
+
 func (k *keyBuf) options(o Options) {
 	k.num(o.GainMarginDB)
 	k.num(o.PhaseMarginDeg)
@@ -202,6 +223,7 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 		k.str(c.declText(e.decl))
 		k.poly(e.tf.Num)
 		k.poly(e.tf.Den)
+		k.factored(e.fac, e.facErr)
 		if e.block != nil {
 			for _, g := range sortedKeys(ev.memo[e.name].gains) {
 				k.str(g)
@@ -452,6 +474,7 @@ func (c *checker) blockKey(d *Decl) string {
 			k.poly(bv.tf.Den)
 			k.poly(bv.cont.Num)
 			k.poly(bv.cont.Den)
+			k.factored(bv.fac, bv.facErr)
 		}
 		return true
 	})

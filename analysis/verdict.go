@@ -16,12 +16,16 @@ import (
 // capitals where the loop must not run.
 func (l *Loop) VerdictWord() string {
 	switch {
+	case l.NotReached:
+		return "not analysed (out of time: no verdict)"
 	case !l.OK:
 		return "not analysed (see the errors)"
 	case l.Stable:
 		return "stable"
 	case l.Marginal:
 		return "NOT STABLE (pole on the unit circle)"
+	case l.Undecided:
+		return "UNDECIDED (a pole's error bound straddles the unit circle)"
 	}
 	return "UNSTABLE"
 }
@@ -29,12 +33,16 @@ func (l *Loop) VerdictWord() string {
 // VerdictReason says why, in one plain clause with the figure behind it.
 func (l *Loop) VerdictReason() string {
 	switch {
+	case l.NotReached:
+		return "the analysis ran out of its time budget before this loop, so it has no verdict"
 	case !l.OK:
 		return "the loop has errors (listed with the diagnostics), so it has no verdict"
 	case l.Stable:
 		return fmt.Sprintf("every closed-loop pole lies inside the unit circle (largest radius %s)", FormatRadius(l.MaxRadius))
 	case l.Marginal:
 		return fmt.Sprintf("a closed-loop pole lies on the unit circle (radius %s), so a bounded input can make the output oscillate or drift without end", FormatRadius(l.MaxRadius))
+	case l.Undecided:
+		return fmt.Sprintf("the error bound of a closed-loop pole near radius %s straddles the unit circle, so the computed poles cannot decide stability; treat the loop as not shown stable", FormatRadius(l.MaxRadius))
 	}
 	return fmt.Sprintf("%d closed-loop pole(s) lie outside the unit circle (largest radius %s), so the output grows without bound; do not run this loop", l.PolesOutside(), FormatRadius(l.MaxRadius))
 }

@@ -25,7 +25,7 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 	if len(p.Context.Only) > 0 && !contains(p.Context.Only, protocol.QuickFix) {
 		return []protocol.CodeAction{}, nil
 	}
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, _, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}

@@ -31,7 +31,7 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, _, src, pos, err := s.docPosition(p)
+	sn, path, _, src, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, err
 	}

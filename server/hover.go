@@ -21,7 +21,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, pos, err := s.docPosition(p)
+	sn, path, m, _, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, err
 	}

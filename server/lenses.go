@@ -16,7 +16,7 @@ import (
 
 // foldingRange folds loops and runs of two or more comment lines.
 func (s *Server) foldingRange(ctx context.Context, params json.RawMessage) (any, error) {
-	_, path, m, src, err := s.docParams(params)
+	_, path, m, src, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
@@ -78,7 +78,7 @@ const plotCommand = "ringside.plot"
 
 // codeLens puts each loop's one-line verdict and a plot command above it.
 func (s *Server) codeLens(ctx context.Context, params json.RawMessage) (any, error) {
-	sn, path, m, _, err := s.docParams(params)
+	sn, path, m, _, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
@@ -112,7 +112,7 @@ func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, er
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, _, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}

@@ -36,7 +36,7 @@ type semTok struct {
 }
 
 func (s *Server) semanticTokens(ctx context.Context, params json.RawMessage) (any, error) {
-	sn, path, m, src, err := s.docParams(params)
+	sn, path, m, src, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"math"
 	"net/url"
-	"os"
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
@@ -19,6 +18,7 @@ import (
 	"go.uber.org/zap"
 
 	"ringside/analysis"
+	"ringside/internal/fileio"
 	"ringside/server/lspext"
 	"ringside/syntax"
 )
@@ -216,12 +216,13 @@ func (s *Server) snapshotLocked() *snapshot {
 	return &snapshot{s: s, docs: docs, roots: append([]string(nil), s.ses.roots...), settings: s.ses.settings, encoding: s.ses.encoding, gen: s.ses.gen}
 }
 
-// read returns a file's text: the open buffer, else the disk.
+// read returns a file's text: the open buffer, else the disk (regular
+// files only, never blocking, at most analysis.MaxFileSize bytes).
 func (sn *snapshot) read(path string) ([]byte, error) {
 	if d, ok := sn.docs[path]; ok {
 		return d.text, nil
 	}
-	return os.ReadFile(path)
+	return fileio.ReadRegular(path, analysis.MaxFileSize)
 }
 
 // mapper returns a mapper for a file's current text, or an error.
@@ -338,20 +339,20 @@ func (ses *session) remember(key cacheKey, c *cached) {
 
 // docParams resolves the document of a request whose params name only
 // {"textDocument": {"uri": ...}}.
-func (s *Server) docParams(params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
+func (s *Server) docParams(ctx context.Context, params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
 	var p struct {
 		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
 	}
 	if err := decode(params, &p); err != nil {
 		return nil, "", nil, nil, err
 	}
-	return s.docRequest(p.TextDocument.URI)
+	return s.docRequest(ctx, p.TextDocument.URI)
 }
 
 // docPosition resolves a request's document and the byte offset of its
 // position.
-func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
-	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+func (s *Server) docPosition(ctx context.Context, p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
+	sn, path, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, "", nil, nil, syntax.NoPos, err
 	}
@@ -363,12 +364,17 @@ func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, 
 }
 
 // docRequest resolves a request's document: its snapshot, path and mapper.
-func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
+// Once the snapshot is taken the read loop is released (the request sees
+// every message before it and none after), and an edit of the document
+// from then on cancels the request (supersede).
+func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
 	path, err := uriPath(uri)
 	if err != nil {
 		return nil, "", nil, nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	sn := s.snapshot()
+	s.reads(ctx, path)
+	async(ctx)
 	m, src, err := sn.mapper(path)
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
@@ -423,6 +429,7 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	}
 	if err != nil {
 		s.log.Warn("initializationOptions ignored", zap.Error(err))
+		s.settingsRefused(err)
 	}
 	s.initialized = true
 	version := s.cfg.Version
@@ -524,6 +531,7 @@ func (s *Server) didChange(params json.RawMessage) error {
 	s.ses.docs[path] = &document{uri: d.uri, path: path, version: p.TextDocument.Version, text: text}
 	s.ses.gen++
 	s.mu.Unlock()
+	s.supersede(path)
 	s.changed(path, edited)
 	return nil
 }
@@ -620,10 +628,18 @@ func (s *Server) didChangeConfiguration(params json.RawMessage) error {
 	}
 	s.mu.Unlock()
 	if err != nil {
+		s.settingsRefused(err)
 		return err
 	}
 	s.recheckAll()
 	return nil
+}
+
+// settingsRefused tells the user (window/showMessage) that a setting was
+// refused and which values stay in force.
+func (s *Server) settingsRefused(err error) {
+	s.notify(protocol.MethodWindowShowMessage, &protocol.ShowMessageParams{Type: protocol.MessageTypeError,
+		Message: "ringside: " + err.Error() + "; the settings stay as they were"})
 }
 
 func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {

@@ -22,7 +22,8 @@ type Token struct {
 // comments in source order (line ends omitted). Editors highlight from
 // it, so a highlighted file is split the way it is parsed.
 func Tokens(src []byte) []Token {
-	toks, comments, _ := lex(src)
+	lx := lex(src)
+	toks, comments := lx.toks, lx.comments
 	out := make([]Token, 0, len(toks)+len(comments))
 	ci := 0
 	for _, t := range toks {

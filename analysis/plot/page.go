@@ -73,6 +73,10 @@ func Page(res *analysis.Result) ([]byte, error) {
 		d.Diags = append(d.Diags, pageDiag{Where: filepath.Base(g.Path), Severity: g.Severity.String(), Code: g.Code, Message: g.Message})
 	}
 	for i, l := range res.Loops {
+		if i >= MaxPageFigures {
+			d.Loops = append(d.Loops, listedLoop(l, i))
+			continue
+		}
 		d.Loops = append(d.Loops, loopSection(res, l, i))
 	}
 	var buf bytes.Buffer
@@ -80,6 +84,20 @@ func Page(res *analysis.Result) ([]byte, error) {
 		return nil, fmt.Errorf("plot: writing the page: %w", err)
 	}
 	return buf.Bytes(), nil
+}
+
+// MaxPageFigures is how many loops a page draws (50, about 2.5 MB of SVG);
+// the loops after them are listed with their verdict only, and a pointer
+// to plotting them one at a time. A generated file of thousands of loops
+// then gives a page a browser opens, not hundreds of megabytes.
+const MaxPageFigures = 50
+
+// listedLoop is a loop past MaxPageFigures: its verdict, no figure.
+func listedLoop(l *analysis.Loop, i int) pageLoop {
+	pl := pageLoop{Name: l.Name, ID: fmt.Sprintf("loop-%d-%s", i+1, l.Name)}
+	pl.Verdict, pl.Good = plainVerdict(l)
+	pl.NoFigure = fmt.Sprintf("No figure: a page draws only its first %d loops; plot this one with `ringside plot FILE --loop %s`.", MaxPageFigures, l.Name)
+	return pl
 }
 
 func loopSection(res *analysis.Result, l *analysis.Loop, i int) pageLoop {

@@ -1,6 +1,10 @@
 package report
 
 import (
+	"net/url"
+	"path/filepath"
+	"strings"
+
 	"ringside/analysis"
 )
 
@@ -101,11 +105,27 @@ func sarifResults(r *analysis.Result, uri func(string) string) []sarifResult {
 func location[P ~int](r *analysis.Result, path string, from, to P, uri func(string) string, msg string) sarifLocation {
 	l1, c1 := Position(r, path, int(from))
 	l2, c2 := Position(r, path, int(to))
-	loc := sarifLocation{PhysicalLocation: sarifPhysical{ArtifactLocation: sarifArtifact{URI: uri(path)}, Region: sarifRegion{l1, c1, l2, c2}}}
+	loc := sarifLocation{PhysicalLocation: sarifPhysical{ArtifactLocation: sarifArtifact{URI: artifactURI(uri(path))}, Region: sarifRegion{l1, c1, l2, c2}}}
 	if msg != "" {
 		loc.Message = &sarifMessage{msg}
 	}
 	return loc
+}
+
+// artifactURI writes a path as a URI reference (RFC 3986), as SARIF
+// requires: every character outside the unreserved and path sets
+// percent-encoded ("my loop #1%.loop" is "my%20loop%20%231%25.loop", not a
+// fragment), a relative path as a relative reference, an absolute one as
+// a file URI.
+func artifactURI(p string) string {
+	p = filepath.ToSlash(p)
+	if filepath.IsAbs(filepath.FromSlash(p)) || strings.HasPrefix(p, "/") {
+		if !strings.HasPrefix(p, "/") {
+			p = "/" + p // a drive letter
+		}
+		return (&url.URL{Scheme: "file", Path: p}).String()
+	}
+	return (&url.URL{Path: p}).String()
 }
 
 func level(s analysis.Severity) string {
