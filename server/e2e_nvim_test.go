@@ -80,29 +80,8 @@ func TestNeovimEndToEnd(t *testing.T) {
 		t.Fatal(err)
 	}
 	file := filepath.Join(ws, "unstable.loop")
-	resultPath := filepath.Join(dir, "result.json")
-	script, _ := filepath.Abs("testdata/nvim/e2e.lua")
 	initAbs, _ := filepath.Abs(init)
-	cmd := exec.Command(nvim, "--headless", "--clean", "-u", initAbs, "-c", "luafile "+script)
-	cmd.Dir = ws
-	cmd.Env = append(os.Environ(), "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file, "RINGSIDE_RESULT="+resultPath, "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
-	var out bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &out
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	done := make(chan error, 1)
-	go func() { done <- cmd.Wait() }()
-	select {
-	case <-done:
-	case <-time.After(90 * time.Second):
-		cmd.Process.Kill()
-		t.Fatalf("nvim did not finish; output:\n%s", out.String())
-	}
-	b, err := os.ReadFile(resultPath)
-	if err != nil {
-		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
-	}
+	b, out := runNeovim(t, nvim, initAbs, "testdata/nvim/e2e.lua", dir, ws, 90*time.Second, "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file)
 	var res struct {
 		OK    bool     `json:"ok"`
 		Error string   `json:"error"`
@@ -115,7 +94,7 @@ func TestNeovimEndToEnd(t *testing.T) {
 		t.Fatalf("result %s: %v", b, err)
 	}
 	if !res.OK {
-		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out.String())
+		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out)
 	}
 	if !strings.Contains(res.Hover, "UNSTABLE") || !strings.HasPrefix(res.Title, "Set ki to 11.4") || res.Line != "gain ki = 11.4" {
 		t.Errorf("hover %q, fix %q, line %q", res.Hover, res.Title, res.Line)
@@ -161,30 +140,8 @@ func TestNeovimLiveAnalysis(t *testing.T) {
 	if err := os.WriteFile(init, []byte(initText), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	script, _ := filepath.Abs("testdata/nvim/live.lua")
-	resultPath := filepath.Join(dir, "result.json")
-	edit := filepath.Join(ws, "gimbal.loop")
-	cmd := exec.Command(nvim, "--headless", "--clean", "-u", init, "-c", "luafile "+script)
-	cmd.Dir = ws
-	cmd.Env = append(os.Environ(), "RINGSIDE_FILES="+strings.Join(files, ":"), "RINGSIDE_EDIT="+edit, "RINGSIDE_RESULT="+resultPath,
-		"HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
-	var out bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &out
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	done := make(chan error, 1)
-	go func() { done <- cmd.Wait() }()
-	select {
-	case <-done:
-	case <-time.After(150 * time.Second):
-		cmd.Process.Kill()
-		t.Fatalf("nvim did not finish; output:\n%s", out.String())
-	}
-	b, err := os.ReadFile(resultPath)
-	if err != nil {
-		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
-	}
+	b, out := runNeovim(t, nvim, init, "testdata/nvim/live.lua", dir, ws, 150*time.Second,
+		"RINGSIDE_FILES="+strings.Join(files, ":"), "RINGSIDE_EDIT="+filepath.Join(ws, "gimbal.loop"))
 	type diag struct {
 		Code    string `json:"code"`
 		Line    int    `json:"line"`
@@ -203,23 +160,14 @@ func TestNeovimLiveAnalysis(t *testing.T) {
 		t.Fatalf("result %s: %v", b, err)
 	}
 	if !res.OK {
-		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out.String())
+		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out)
 	}
-	// What `ringside check` reports as errors for each file, in order.
 	for _, f := range files {
-		var want []string
-		r := checkFile(t, ws, filepath.Base(f), false)
-		for _, d := range r.Diagnostics {
-			if d.Severity == analysis.Error && d.Path == f {
-				line, _ := r.File.Lines.LineCol(d.Span.From)
-				want = append(want, fmt.Sprintf("%d %s", line, d.Code))
-			}
-		}
 		var got []string
 		for _, d := range res.Opened[f] {
 			got = append(got, fmt.Sprintf("%d %s", d.Line, d.Code))
 		}
-		sort.Strings(want)
+		want := checkErrors(t, ws, f)
 		sort.Strings(got)
 		if strings.Join(got, ", ") != strings.Join(want, ", ") {
 			t.Errorf("%s on open, before any save: errors %v, want %v", filepath.Base(f), got, want)
@@ -244,3 +192,49 @@ func TestNeovimLiveAnalysis(t *testing.T) {
 
 // luaString quotes s for Lua.
 func luaString(s string) string { return strconv.Quote(s) }
+
+// checkErrors lists "line code" of the errors `ringside check` reports in
+// file itself, sorted.
+func checkErrors(t *testing.T, ws, file string) []string {
+	var want []string
+	r := checkFile(t, ws, filepath.Base(file), false)
+	for _, d := range r.Diagnostics {
+		if d.Severity == analysis.Error && d.Path == file {
+			line, _ := r.File.Lines.LineCol(d.Span.From)
+			want = append(want, fmt.Sprintf("%d %s", line, d.Code))
+		}
+	}
+	sort.Strings(want)
+	return want
+}
+
+// runNeovim runs a Lua script in headless Neovim with the init file, in
+// folder cwd, with RINGSIDE_RESULT set, and returns the result file the
+// script wrote and Neovim's output.
+func runNeovim(t *testing.T, nvim, init, script, dir, cwd string, limit time.Duration, env ...string) ([]byte, string) {
+	t.Helper()
+	resultPath := filepath.Join(dir, "result.json")
+	scriptAbs, _ := filepath.Abs(script)
+	cmd := exec.Command(nvim, "--headless", "--clean", "-u", init, "-c", "luafile "+scriptAbs)
+	cmd.Dir = cwd
+	cmd.Env = append(append(os.Environ(), env...), "RINGSIDE_RESULT="+resultPath, "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
+	var out bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+	select {
+	case <-done:
+	case <-time.After(limit):
+		cmd.Process.Kill()
+		<-done
+		t.Fatalf("nvim did not finish; output:\n%s", out.String())
+	}
+	b, err := os.ReadFile(resultPath)
+	if err != nil {
+		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
+	}
+	return b, out.String()
+}
