@@ -79,6 +79,21 @@ func newMemoFile() *memoFile {
 	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}}
 }
 
+func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
+func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
+func numsOf(f *memoFile) map[string]numResult    { return f.nums }
+
+// lookup finds key among this check's entries, then the previous check's.
+func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	if v, ok := of(r.next)[key]; ok {
+		return v, true
+	}
+	v, ok := of(r.old)[key]
+	return v, ok
+}
+
 // memoRun is one check's view of the memo: what the previous check of the
 // file kept, and what this one uses (kept when it finishes).
 type memoRun struct {
@@ -272,29 +287,25 @@ func (c *checker) memoLoop(ev *evaluator, ls *syntax.LoopStmt, compute func() *L
 	if key == "" {
 		return analyse()
 	}
-	c.memo.mu.Lock()
-	e := c.memo.next.loops[key]
-	if e == nil {
-		e = c.memo.old.loops[key]
-	}
-	c.memo.mu.Unlock()
-	if e != nil {
+	if e, ok := lookup(c.memo, loopsOf, key); ok {
 		if l, ok := c.replay(e, ls); ok {
-			c.memo.mu.Lock()
-			c.memo.next.loops[key] = e
-			c.memo.loopKeys[l] = key
-			c.memo.mu.Unlock()
+			c.memo.keepLoop(key, e, l)
 			return l
 		}
 	}
 	l := analyse()
 	if e, ok := c.record(l, ls); ok {
-		c.memo.mu.Lock()
-		c.memo.next.loops[key] = e
-		c.memo.loopKeys[l] = key
-		c.memo.mu.Unlock()
+		c.memo.keepLoop(key, e, l)
 	}
 	return l
+}
+
+// keepLoop keeps entry e for the next check and notes l's key.
+func (r *memoRun) keepLoop(key string, e *loopEntry, l *Loop) {
+	r.mu.Lock()
+	r.next.loops[key] = e
+	r.loopKeys[l] = key
+	r.mu.Unlock()
 }
 
 // eachSpan calls f with a pointer to every span of a diagnostic, with the
@@ -487,13 +498,8 @@ func (c *checker) memoLimits(g *Gain, loops []*Loop, deps *gainDeps, compute fun
 	if key == "" {
 		return compute()
 	}
-	c.memo.mu.Lock()
-	lim := c.memo.next.gains[key]
-	if lim == nil {
-		lim = c.memo.old.gains[key]
-	}
-	c.memo.mu.Unlock()
-	if lim == nil {
+	lim, ok := lookup(c.memo, gainsOf, key)
+	if !ok {
 		lim = compute()
 	}
 	c.memo.mu.Lock()
@@ -534,12 +540,7 @@ func (r *memoRun) number(key string, compute func() numResult) numResult {
 	if r == nil {
 		return compute()
 	}
-	r.mu.Lock()
-	v, ok := r.next.nums[key]
-	if !ok {
-		v, ok = r.old.nums[key]
-	}
-	r.mu.Unlock()
+	v, ok := lookup(r, numsOf, key)
 	if !ok {
 		v = compute()
 	}

@@ -58,16 +58,7 @@ func serverBinary(t *testing.T, dir string) string {
 }
 
 func TestNeovimEndToEnd(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds the command and starts an editor")
-	}
-	nvim, err := exec.LookPath("nvim")
-	if err != nil {
-		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
-			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
-		}
-		t.Skip("nvim not installed")
-	}
+	nvim := findNeovim(t)
 	init := "../editors/nvim/minimal_init.lua"
 	if _, err := os.Stat(init); err != nil {
 		t.Fatalf("missing %s: %v", init, err)
@@ -111,16 +102,7 @@ func TestNeovimEndToEnd(t *testing.T) {
 // the gimbal file without saving: that loop's verdict changes, the other
 // loop keeps its errors exactly.
 func TestNeovimLiveAnalysis(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds the command and starts an editor")
-	}
-	nvim, err := exec.LookPath("nvim")
-	if err != nil {
-		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
-			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
-		}
-		t.Skip("nvim not installed")
-	}
+	nvim := findNeovim(t)
 	dir := t.TempDir()
 	bin := serverBinary(t, dir)
 	ws := filepath.Join(dir, "demo")
@@ -237,4 +219,20 @@ func runNeovim(t *testing.T, nvim, init, script, dir, cwd string, limit time.Dur
 		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
 	}
 	return b, out.String()
+}
+
+// findNeovim returns the nvim binary, or skips the test (fails it when
+// RINGSIDE_REQUIRE_NVIM=1); -short skips it too.
+func findNeovim(t *testing.T) string {
+	if testing.Short() {
+		t.Skip("builds the command and starts an editor")
+	}
+	nvim, err := exec.LookPath("nvim")
+	if err != nil {
+		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
+			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
+		}
+		t.Skip("nvim not installed")
+	}
+	return nvim
 }
