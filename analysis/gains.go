@@ -491,8 +491,8 @@ func (c *checker) attachFixes() {
 		x := &c.diags.list[p.diag]
 		for _, name := range p.loop.Gains {
 			d := c.res.Scope[name]
-			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil {
-				continue
+			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil || d.Gain.Vary != nil {
+				continue // a varying gain is the plant's, not the engineer's to set
 			}
 			g := d.Gain
 			if f, ok := setGainFix(g, c.requiredGM(p.loop)); ok {
