@@ -42,3 +42,12 @@ func (c *checker) diskMargin(l *Loop) {
 	}
 	l.Disk = &DiskMargin{m, m.PeakTheta / (2 * math.Pi * c.res.SampleT)}
 }
+
+// Text writes the disk margin in plain words (hover, reports).
+func (d *DiskMargin) Text() string {
+	gain := "any gain above 0"
+	if d.GainLowDB != nil && d.GainHighDB != nil {
+		gain = fmt.Sprintf("gain %+.3g to %+.3g dB", *d.GainLowDB, *d.GainHighDB)
+	}
+	return fmt.Sprintf("α = %.3g: %s together with phase ±%.3g° (peak of |S − ½| at %s)", d.Alpha, gain, d.PhaseDeg, FormatHz(d.PeakHz))
+}

@@ -341,3 +341,36 @@ func towardZero(v float64) float64 {
 	}
 	return roundDown(v)
 }
+
+// Lines describes the analysis over the box in plain words (the loop
+// hover); every figure is the one the JSON and diagnostics carry.
+func (r *Robust) Lines() []string {
+	verdict := "stability not established"
+	switch {
+	case r.Stable != nil && *r.Stable:
+		verdict = "stable for every value"
+	case r.Stable != nil:
+		verdict = "**NOT stable** for every value"
+	}
+	out := []string{fmt.Sprintf("Over the range %s: %s (method: %s).", r.RangesText(), verdict, r.Method)}
+	if r.Why != "" {
+		out = append(out, "Why undecided: "+r.Why+".")
+	}
+	if r.Worst != nil {
+		out = append(out, fmt.Sprintf("Worst point: %s, largest closed-loop pole radius %s.", r.WorstText(), FormatRadius(r.WorstRadius)))
+	}
+	if len(r.Names) == 1 && (r.IntervalLo != nil || r.IntervalHi != nil) {
+		out = append(out, fmt.Sprintf("Stable interval in this loop: %s.", stableText(r.Names[0], r.IntervalLo, r.IntervalHi)))
+	}
+	if r.MarginPoints > 0 {
+		gm, pm := "∞", "∞"
+		if r.GainMarginDB != nil {
+			gm = fmtMetric("gain_margin", *r.GainMarginDB)
+		}
+		if r.PhaseMarginDeg != nil {
+			pm = fmtMetric("phase_margin", *r.PhaseMarginDeg)
+		}
+		out = append(out, fmt.Sprintf("Smallest margins over %d points of the range (corners and worst point): gain %s, phase %s.", r.MarginPoints, gm, pm))
+	}
+	return out
+}

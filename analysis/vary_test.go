@@ -142,6 +142,7 @@ func TestRobustAgainstNumpy(t *testing.T) {
 			if ref.InnerMax > ref.EdgeMax+1e-9 {
 				t.Errorf("numpy finds %.10g inside the box, above the edges' %.10g", ref.InnerMax, ref.EdgeMax)
 			}
+			t.Logf("stable %v worst %.12g at %v; numpy edges %.12g at %v, inner %.12g", *rb.Stable, rb.WorstRadius, rb.Worst, ref.EdgeMax, ref.Point, ref.InnerMax)
 			if c.cornersStable {
 				for j, cr := range ref.Corners {
 					if cr >= 1 {
