@@ -19,6 +19,8 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+
+	"ringside/analysis/internal/search"
 )
 
 // Response returns L(e^{jθ}) at θ rad/sample, 0 ≤ θ ≤ π. It may return an
@@ -80,7 +82,7 @@ func Compute(L Response, closedPoles []complex128) (Margin, error) {
 		}
 		th, v := grid[i], vals[i]
 		if i > 0 && i < len(grid)-1 {
-			t := goldenMax(f, grid[i-1], grid[i+1])
+			t := search.GoldenMax(f, grid[i-1], grid[i+1], AngleTol)
 			if ft := f(t); ft > v {
 				th, v = t, ft
 			}
@@ -143,25 +145,4 @@ func searchGrid(poles []complex128) []float64 {
 		out = append(out, th)
 	}
 	return out
-}
-
-// goldenMax returns the maximiser of f on [a, b] by golden-section search
-// to AngleTol; f is taken as unimodal there, which a grid maximum between
-// two lower neighbours gives on a fine enough grid.
-func goldenMax(f func(float64) float64, a, b float64) float64 {
-	const r = 0.6180339887498949
-	c, d := b-r*(b-a), a+r*(b-a)
-	fc, fd := f(c), f(d)
-	for i := 0; i < 200 && b-a > AngleTol; i++ {
-		if fc > fd {
-			b, d, fd = d, c, fc
-			c = b - r*(b-a)
-			fc = f(c)
-		} else {
-			a, c, fc = c, d, fd
-			d = a + r*(b-a)
-			fd = f(d)
-		}
-	}
-	return a + (b-a)/2
 }

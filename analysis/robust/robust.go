@@ -37,6 +37,7 @@ import (
 	"strings"
 
 	"ringside/analysis/gainlimit"
+	"ringside/analysis/internal/search"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 )
@@ -378,7 +379,7 @@ func (m affine) refineWorst(f Family, cands []edgeBest, res *Result) {
 		if k < refineEdges && !math.IsInf(c.rad, 1) {
 			h := 1 / float64(EdgeSamples-1)
 			r := func(t float64) float64 { return m.edgeRadius(f, c.e, t) }
-			t := goldenMax(r, math.Max(c.t-h, 0), math.Min(c.t+h, 1), RefineTol)
+			t := search.GoldenMax(r, math.Max(c.t-h, 0), math.Min(c.t+h, 1), RefineTol)
 			if v := r(t); v > c.rad {
 				c.t, c.rad = t, v
 			}
@@ -396,10 +397,11 @@ func (r *Result) add(x []float64) {
 }
 
 // GridSize is the number of grid points per gain for n varying gains: the
-// most that keeps n-dimensional grid within MaxGridPoints, at most 129.
+// most that keeps the n-dimensional grid within MaxGridPoints, at least 3
+// (so 8 gains take 6,561 points) and at most 129.
 func GridSize(n int) int {
 	k := int(math.Floor(math.Pow(MaxGridPoints, 1/float64(n)) + 1e-9))
-	return min(max(k, 2), 129)
+	return min(max(k, 3), 129)
 }
 
 // grid evaluates the loop on a grid over the box and refines the worst
@@ -503,25 +505,6 @@ func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) 
 			level++
 		}
 	}
-}
-
-// goldenMax returns the maximiser of f on [a, b] to width tol.
-func goldenMax(f func(float64) float64, a, b, tol float64) float64 {
-	const g = 0.6180339887498949
-	c, d := b-g*(b-a), a+g*(b-a)
-	fc, fd := f(c), f(d)
-	for i := 0; i < 200 && b-a > tol; i++ {
-		if fc > fd {
-			b, d, fd = d, c, fc
-			c = b - g*(b-a)
-			fc = f(c)
-		} else {
-			a, c, fc = c, d, fd
-			d = a + g*(b-a)
-			fd = f(d)
-		}
-	}
-	return a + (b-a)/2
 }
 
 func maxAbs(p poly.Poly) float64 {
