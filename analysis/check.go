@@ -127,6 +127,7 @@ func (c *checker) run(ctx context.Context) {
 		}
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
+	c.robustLoops(ctx)
 	c.gainLimits(ctx)
 	c.summaries()
 }
@@ -322,6 +323,7 @@ func (c *checker) gainValues() {
 			g.Max = &v
 		}
 		c.gains[name] = g.Value
+		c.varyRange(g, g.Path == c.res.Path && s.Value != nil)
 		if g.Path != c.res.Path || s.Value == nil {
 			continue
 		}

@@ -239,6 +239,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 			l.Step = &st
 		}
 	}
+	c.diskMargin(l)
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 	return l

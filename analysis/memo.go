@@ -242,6 +242,9 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 		if e.block != nil {
 			for _, g := range sortedKeys(ev.memo[e.name].gains) {
 				k.str(g)
+				if d := c.res.Scope[g]; d != nil {
+					k.str(c.declText(d)) // its range too
+				}
 			}
 		}
 		k.str("")
@@ -423,6 +426,9 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, deps *gainDeps) string {
 	k.str(g.Name)
 	k.str(g.Path)
 	k.num(g.Value)
+	if d := c.res.Scope[g.Name]; d != nil {
+		k.str(c.declText(d))
+	}
 	c.memo.mu.Lock()
 	for _, l := range loops {
 		key, ok := c.memo.loopKeys[l]

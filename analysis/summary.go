@@ -80,9 +80,12 @@ func (g *Gain) LimitsText() string {
 	default:
 		s = fmt.Sprintf("gain %s = %s: no value found that makes loops %s stable", g.Name, fmtNum(g.Value), strings.Join(lim.Loops, ", "))
 	}
-	if lim.SafeMax != nil {
+	switch {
+	case g.Vary != nil: // uncertain: nobody sets it, so no safe value
+		s += fmt.Sprintf("; varies %s to %s (see the loops' verdicts over the range)", fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi))
+	case lim.SafeMax != nil:
 		s += fmt.Sprintf("; keeps the required gain margin up to %s = %s", g.Name, fmtNum(roundDown(*lim.SafeMax)))
-	} else if lim.SafeMaxNote != "" {
+	case lim.SafeMaxNote != "":
 		s += "; " + lim.SafeMaxNote
 	}
 	return s

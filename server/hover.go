@@ -278,6 +278,9 @@ func loopHover(l *analysis.Loop) string {
 	if m.PeakSensitivityDB != nil {
 		fmt.Fprintf(&w, "| peak sensitivity | %.3g dB | %s |\n", *m.PeakSensitivityDB, hzPtr(m.PeakSensitivityHz))
 	}
+	if l.Disk != nil {
+		fmt.Fprintf(&w, "\nDisk margin: %s.\n", l.Disk.Text())
+	}
 	if st := l.Step; st != nil {
 		fmt.Fprintf(&w, "\nStep: overshoot %.3g %%", st.OvershootPct)
 		if st.Settled {
@@ -288,6 +291,9 @@ func loopHover(l *analysis.Loop) string {
 		w.WriteString("\n")
 	} else if !l.Stable {
 		w.WriteString("\nStep: none (the loop is not stable)\n")
+	}
+	if l.Robust != nil {
+		w.WriteString("\n" + strings.Join(l.Robust.Lines(), "\n\n") + "\n")
 	}
 	for _, h := range l.Hidden {
 		fmt.Fprintf(&w, "\nHidden mode: pole %s of %s cancelled by a zero of %s\n", analysis.FormatComplex(h.Pole), h.PoleBlock, h.ZeroBlock)
@@ -340,6 +346,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 	}
 	if g.Max != nil {
 		fmt.Fprintf(&w, ", max %s", analysis.FormatNumber(*g.Max))
+	}
+	if g.Vary != nil {
+		fmt.Fprintf(&w, ", varies %s to %s (uncertain: every loop using it is checked over the whole range)", analysis.FormatNumber(g.Vary.Lo), analysis.FormatNumber(g.Vary.Hi))
 	}
 	w.WriteString("\n\n")
 	if g.Path != res.Path {
