@@ -56,9 +56,9 @@ type Memo struct {
 // NewMemo returns an empty memo.
 func NewMemo() *Memo { return &Memo{byPath: map[string]*memoFile{}} }
 
-// memoFiles is how many files' results a Memo keeps: the few being edited
-// (a result of 200 loops holds about 1 MB).
-const memoFiles = 4
+// memoFiles is how many files' results a Memo keeps: the ones being edited
+// (a result of 200 loops holds about 3.5 MB).
+const memoFiles = 2
 
 type memoFile struct {
 	used  uint64 // commit count when last committed

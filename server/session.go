@@ -318,10 +318,11 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 }
 
 // cacheLimit bounds the analysis results kept for reuse. A result of a
-// 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
-// results are kept for the few files in use at the moment, not for every
-// open one; published diagnostics do not need them.
-const cacheLimit = 4
+// 200-loop file holds about 3.5 MB (trees, transfer functions, poles, half
+// of it step samples for plots), so results are kept for the files in use
+// at the moment, not for every open one; published diagnostics do not need
+// them, and the memo keeps what edits reuse.
+const cacheLimit = 2
 
 // remember caches c under key, dropping stale generations and then the
 // oldest entries beyond cacheLimit.
