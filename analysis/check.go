@@ -308,11 +308,11 @@ func (c *checker) gainValues() {
 		switch {
 		case g.Min != nil && g.Max != nil && *g.Min > *g.Max:
 			c.diags.add(g.Path, syntax.Span{From: s.Min.From, To: s.Max.To}, Error, CodeGainRangeEmpty,
-				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, fmtNum(*g.Min), fmtNum(*g.Max)))
+				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, s.Min, s.Max))
 		case g.Min != nil && g.Value < *g.Min:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, fmtNum(g.Value), fmtNum(*g.Min)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, s.Value, s.Min))
 		case g.Max != nil && g.Value > *g.Max:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, fmtNum(g.Value), fmtNum(*g.Max)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, s.Value, s.Max))
 		}
 	}
 }
