@@ -311,6 +311,11 @@ func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*sna
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
 	}
+	if len(src) > analysis.MaxFileSize {
+		// An open buffer may be larger than any file the server reads;
+		// answering for it would cost memory without bound.
+		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "%s is over the %d-byte limit for a .loop file; not served", baseName(path), analysis.MaxFileSize)
+	}
 	return sn, path, m, src, nil
 }
 
