@@ -110,7 +110,7 @@ func (c *checker) run(ctx context.Context) {
 			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
-		loops[i] = lc.loop(ev, ls)
+		loops[i] = lc.guardedLoop(ev, ls)
 	})
 	for i, lc := range own {
 		base := len(c.diags.list)
@@ -123,6 +123,22 @@ func (c *checker) run(ctx context.Context) {
 	}
 	c.gainLimits(ctx)
 	c.summaries()
+}
+
+// guardedLoop analyses one loop; a panic inside the numerics (a bug, or a
+// library failing on a pathological matrix) becomes an error on the loop
+// with no verdict, never a crash of the check or a guessed figure.
+func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
+	defer func() {
+		if r := recover(); r != nil {
+			c.diags.list = nil
+			c.pending = nil
+			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric,
+				fmt.Sprintf("loop %s: the analysis failed inside its numerics (%v); no verdict: please report this file", ls.Name.Name, r))
+			l = &Loop{Name: ls.Name.Name, Stmt: ls}
+		}
+	}()
+	return c.loop(ev, ls)
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
