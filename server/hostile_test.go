@@ -234,3 +234,21 @@ func TestOversizeBufferRefused(t *testing.T) {
 		t.Fatalf("symbols of a 1.3 MB buffer: %v", err)
 	}
 }
+
+// Formatting a CR-only document keeps its line breaks and edits only the
+// lines that change.
+func TestFormatCROnlyDocument(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("crf.loop", "sample 1 ms\rgain   k = 0.5\rblock p = k / (z - 0.5)\r")
+	var edits []protocol.TextEdit
+	if err := c.call(protocol.MethodTextDocumentFormatting, map[string]any{"textDocument": map[string]any{"uri": uri}, "options": map[string]any{"tabSize": 2, "insertSpaces": true}}, &edits); err != nil {
+		t.Fatal(err)
+	}
+	if len(edits) != 1 || edits[0].Range.Start.Line != 1 {
+		t.Fatalf("edits %+v, want one on line 1", edits)
+	}
+	c.applyEdit(&protocol.WorkspaceEdit{Changes: map[protocol.DocumentURI][]protocol.TextEdit{uri: edits}})
+	if got := c.text(uri); got != "sample 1 ms\rgain k = 0.5\rblock p = k / (z - 0.5)\r" {
+		t.Fatalf("formatted %q", got)
+	}
+}
