@@ -10,7 +10,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -96,6 +95,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	fset := flag.NewFlagSet("check", flag.ContinueOnError)
 	fset.SetOutput(stderr)
 	format := fset.String("format", "text", "output format: text, json or sarif")
+	indent := fset.Bool("indent", false, "lay JSON and SARIF out for people (compact by default)")
 	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
 	opts := analysis.DefaultOptions()
 	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
@@ -128,74 +128,36 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
 	}
-	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
-	var results []*analysis.Result
-	for _, f := range files {
-		abs, _ := filepath.Abs(f)
-		src, err := readInput(abs)
-		if err != nil {
-			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, err)
-			return exitUsage
-		}
-		results = append(results, analysis.Check(context.Background(), abs, src, env))
-	}
 	display := func(p string) string {
 		if rel, err := filepath.Rel(cwd, p); err == nil && !strings.HasPrefix(rel, "..") {
 			return filepath.ToSlash(rel)
 		}
 		return p
 	}
-	out := &errWriter{w: stdout}
-	switch *format {
-	case "json":
-		err = writeJSON(out, report.Build(results, display))
-	case "sarif":
-		err = writeJSON(out, report.SARIF(results, display, version))
-	default:
-		report.Text(out, results, display)
-		err = out.err
-	}
-	if err != nil {
-		fmt.Fprintf(stderr, "ringside check: the report was not written completely: %v\n", err)
-		return exitUsage
-	}
-	for _, r := range results {
+	// One file at a time, written as soon as it is checked: memory is
+	// bounded by the largest file.
+	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
+	out := report.NewStream(*format, stdout, display, version, *indent)
+	status := 0
+	for _, f := range files {
+		abs, _ := filepath.Abs(f)
+		src, err := readInput(abs)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, err)
+			_ = out.Close() // what was written stays a whole document
+			return exitUsage
+		}
+		r := analysis.Check(context.Background(), abs, src, env)
+		out.Add(r)
 		if r.HasErrors() {
-			return 1
+			status = 1
 		}
 	}
-	return 0
-}
-
-// writeJSON encodes v in full before writing, so that an encoding error
-// (a non-finite number that reached the report) leaves no half document,
-// and reports every error.
-func writeJSON(w io.Writer, v any) error {
-	var b bytes.Buffer
-	enc := json.NewEncoder(&b)
-	enc.SetIndent("", "  ")
-	enc.SetEscapeHTML(false)
-	if err := enc.Encode(v); err != nil {
-		return fmt.Errorf("encoding: %v", err)
+	if err := out.Close(); err != nil {
+		fmt.Fprintf(stderr, "ringside check: writing the report: %v\n", err)
+		return exitUsage
 	}
-	_, err := w.Write(b.Bytes())
-	return err
-}
-
-// errWriter keeps the first write error, for writers (the text report)
-// that do not return one.
-type errWriter struct {
-	w   io.Writer
-	err error
-}
-
-func (e *errWriter) Write(p []byte) (int, error) {
-	if e.err != nil {
-		return 0, e.err
-	}
-	n, err := e.w.Write(p)
-	e.err = err
-	return n, err
+	return status
 }
 
 // readInput reads a .loop file named on the command line: a regular file

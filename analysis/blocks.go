@@ -28,16 +28,8 @@ func (c *checker) blocks(ev *evaluator) {
 			continue
 		}
 		bv := ev.block(d)
-		b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
-		b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
-		b.Gains = sortedKeys(bv.gains)
+		fillBlock(b, bv)
 		if b.Var == 's' {
-			if b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
-				b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
-				if p := b.Stmt.Via.Prewarp; p != nil {
-					b.PrewarpHz, _ = prewarpHz(p)
-				}
-			}
 			if c.res.SampleT == 0 {
 				needSample = true
 			}
@@ -52,6 +44,19 @@ func (c *checker) blocks(ev *evaluator) {
 	}
 	if needSample || (c.res.SampleT == 0 && len(c.loopStmts()) > 0) {
 		c.noSample()
+	}
+}
+
+// fillBlock copies an evaluation into the block.
+func fillBlock(b *Block, bv *blockValue) {
+	b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
+	b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
+	b.Gains = sortedKeys(bv.gains)
+	if b.Var == 's' && b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
+		b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
+		if p := b.Stmt.Via.Prewarp; p != nil {
+			b.PrewarpHz, _ = prewarpHz(p)
+		}
 	}
 }
 

@@ -43,8 +43,11 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	for _, e := range root.errs {
 		diags.add(path, e.Span, Error, CodeSyntax, e.Msg)
 	}
-	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}}
+	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}, memo: env.Memo.begin(path)}
 	c.run(ctx)
+	if ctx.Err() == nil {
+		c.memo.commit()
+	}
 	res.Diagnostics = capped(diags.sorted(path))
 	checkedFixes(res, res.Diagnostics)
 	return res
@@ -66,6 +69,8 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
+	// memo is this check's view of Env.Memo (nil: none).
+	memo *memoRun
 }
 
 func (c *checker) run(ctx context.Context) {
@@ -82,6 +87,7 @@ func (c *checker) run(ctx context.Context) {
 			ev.block(d)
 		}
 	}
+	c.usedBlocks(ev)
 	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
 		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
@@ -110,7 +116,7 @@ func (c *checker) run(ctx context.Context) {
 			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
-		loops[i] = lc.guardedLoop(ev, ls)
+		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.guardedLoop(ev, ls) })
 	})
 	for i, lc := range own {
 		base := len(c.diags.list)
@@ -121,6 +127,7 @@ func (c *checker) run(ctx context.Context) {
 		}
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
+	c.robustLoops(ctx)
 	c.gainLimits(ctx)
 	c.summaries()
 }
@@ -139,6 +146,25 @@ func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
 		}
 	}()
 	return c.loop(ev, ls)
+}
+
+// usedBlocks fills in the blocks of used files (transfer function, poles,
+// zeros) in the same pass, so that every view of such a block reads this
+// result. Their findings belong to the check of their own file.
+func (c *checker) usedBlocks(ev *evaluator) {
+	own := c.diags
+	c.diags = &diagList{}
+	defer func() { c.diags = own }()
+	for _, name := range sortedDecls(c.res.Scope) {
+		d := c.res.Scope[name]
+		if d.Block == nil || d.Path == c.res.Path {
+			continue
+		}
+		fillBlock(d.Block, ev.block(d))
+		if d.Block.OK {
+			c.blockPoles(d.Block)
+		}
+	}
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
@@ -313,6 +339,7 @@ func (c *checker) gainValues() {
 			g.Max = &v
 		}
 		c.gains[name] = g.Value
+		c.varyRange(g, g.Path == c.res.Path && s.Value != nil)
 		if g.Path != c.res.Path || s.Value == nil {
 			continue
 		}

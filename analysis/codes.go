@@ -48,8 +48,11 @@ const (
 	CodeSensitivityHigh = "sensitivity-high"
 	CodeOvershootHigh   = "overshoot-high"
 	CodeSettlingSlow    = "settling-slow"
-	CodeLoopVerdict     = "loop-verdict" // info: one line of figures per loop
-	CodeGainLimits      = "gain-limits"  // info: stable interval of a gain
+	CodeDiskMarginLow   = "disk-margin-low"
+	CodeRangeUnstable   = "range-unstable"  // a loop not stable over the range of its varying gains
+	CodeRangeUndecided  = "range-undecided" // stability over the range could not be established
+	CodeLoopVerdict     = "loop-verdict"    // info: one line of figures per loop
+	CodeGainLimits      = "gain-limits"     // info: stable interval of a gain
 )
 
 // metricCode is the diagnostic code for a missed requirement on a metric.
@@ -62,6 +65,7 @@ var metricCode = map[string]string{
 	"peak_sensitivity": CodeSensitivityHigh,
 	"overshoot":        CodeOvershootHigh,
 	"settling":         CodeSettlingSlow,
+	"disk_margin":      CodeDiskMarginLow,
 }
 
 // SummaryCode reports whether code is an informational summary (shown by
@@ -112,6 +116,9 @@ var codeDescriptions = map[string]string{
 	CodeSensitivityHigh: "Peak sensitivity above its requirement.",
 	CodeOvershootHigh:   "Step overshoot above its requirement.",
 	CodeSettlingSlow:    "Step settling time above its requirement.",
+	CodeDiskMarginLow:   "Disk margin below its requirement.",
+	CodeRangeUnstable:   "A loop that is not stable for every value of its varying gains.",
+	CodeRangeUndecided:  "Stability over the range of the varying gains could not be established.",
 	CodeLoopVerdict:     "A loop's verdict and figures.",
 	CodeGainLimits:      "A gain's stable interval and safe maximum.",
 }

@@ -17,9 +17,6 @@ func (d *diagList) add(path string, span syntax.Span, sev Severity, code, msg st
 	return &d.list[len(d.list)-1]
 }
 
-// put appends a fully built diagnostic.
-func (d *diagList) put(x Diagnostic) { d.list = append(d.list, x) }
-
 // sorted returns the diagnostics of path in source order (errors first at
 // equal positions).
 func (d *diagList) sorted(path string) []Diagnostic {

@@ -30,6 +30,28 @@ type evaluator struct {
 	sweepGain string
 	sweepK    float64
 	base      *evaluator
+	// assigned sets several gains at once (a point of a box of varying
+	// gains); like a sweep, blocks that depend on none are taken from base.
+	assigned map[string]float64
+}
+
+// assign returns an evaluator that sets every gain of values and reuses
+// every block of ev that depends on none of them.
+func (ev *evaluator) assign(values map[string]float64) *evaluator {
+	return &evaluator{scope: ev.scope, gains: ev.gains, t: ev.t, memo: map[string]*blockValue{}, assigned: values, base: ev}
+}
+
+// changes reports whether bv depends on a gain this evaluator sets.
+func (ev *evaluator) changes(bv *blockValue) bool {
+	if bv.gains[ev.sweepGain] {
+		return true
+	}
+	for g := range ev.assigned {
+		if bv.gains[g] {
+			return true
+		}
+	}
+	return false
 }
 
 // sweep returns an evaluator that sets gain name to k and reuses every
@@ -42,6 +64,9 @@ func (ev *evaluator) sweep(name string, k float64) *evaluator {
 func (ev *evaluator) gain(name string) float64 {
 	if ev.base != nil && name == ev.sweepGain {
 		return ev.sweepK
+	}
+	if v, ok := ev.assigned[name]; ok {
+		return v
 	}
 	return ev.gains[name]
 }
@@ -82,7 +107,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 		return bv
 	}
 	if ev.base != nil {
-		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !bv.gains[ev.sweepGain] {
+		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !ev.changes(bv) {
 			return bv
 		}
 	}

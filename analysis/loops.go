@@ -239,6 +239,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 			l.Step = &st
 		}
 	}
+	c.diskMargin(l)
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 	return l
@@ -415,14 +416,8 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,
 			fmt.Sprintf("loop %s is not BIBO stable: closed-loop pole on the unit circle at %s (tolerance %g); a bounded input can drive an unbounded output (a sustained oscillation or drift)", l.Name, where, c.env.Options.Tolerance))
 	} else {
-		n := 0
-		for _, p := range l.Poles {
-			if p.Radius > 1+c.env.Options.Tolerance {
-				n++
-			}
-		}
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodePoleOutside,
-			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, n, where))
+			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, l.PolesOutside(), where))
 	}
 	// Point at the open-loop pole nearest to the worst closed-loop pole.
 	best, bestD := -1, math.Inf(1)

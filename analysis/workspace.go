@@ -22,6 +22,9 @@ type Env struct {
 	// path it cannot resolve (a buffer never saved) is taken as it is.
 	RealPath func(path string) (string, error)
 	Options  Options
+	// Memo, when set, keeps loop results and gain limits between checks
+	// (an editor's); nil computes everything.
+	Memo *Memo
 }
 
 func (e *Env) read(path string) ([]byte, error) {

@@ -23,6 +23,7 @@ func (s *Server) formatting(ctx context.Context, params json.RawMessage) (any, e
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	out, err := syntax.Format(src)
 	if err != nil {
 		return []protocol.TextEdit{}, nil
@@ -42,6 +43,7 @@ func (s *Server) rangeFormatting(ctx context.Context, params json.RawMessage) (a
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	span, err := m.RangeSpan(p.Range)
 	if err != nil {
 		return nil, errorf(-32602, "%v", err)

@@ -93,7 +93,8 @@ type UseStmt struct {
 	PathSpan Span   // including the quotes
 }
 
-// GainStmt: "gain kp = 0.8", optionally followed by "min X" and/or "max X".
+// GainStmt: "gain kp = 0.8", optionally followed by "min X" and/or "max X",
+// or by "vary A to B" (an uncertain gain; never together with min/max).
 type GainStmt struct {
 	Span
 	Name     *Ident
@@ -101,6 +102,14 @@ type GainStmt struct {
 	Min, Max *Number // nil when not given
 	MinKw    Span    // span of the "min" keyword when Min != nil
 	MaxKw    Span    // span of the "max" keyword when Max != nil
+	Vary     *Vary   // nil when not given
+}
+
+// Vary is "vary A to B": every value from A to B may occur.
+type Vary struct {
+	Span           // from "vary" to the end of B
+	Lo, Hi *Number // A and B
+	ToKw   Span    // span of the "to" keyword
 }
 
 // BlockStmt: "block name = expr [via method [prewarp F unit]]".

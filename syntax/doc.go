@@ -21,11 +21,11 @@
 //   - Inside '(' ... ')' line breaks are blanks, except that a line starting
 //     with a statement keyword (sample, use, gain, block, loop) or with '}'
 //     closes the statement, so a missing ')' costs one error.
-//   - Keywords are context words: via, prewarp, min, max and the statement
+//   - Keywords are context words: via, prewarp, min, max, vary, to and the statement
 //     and item keywords are ordinary names elsewhere. The only reserved
 //     names are s and z, which no gain, block or loop may be called. In an
 //     expression via ends the expression instead of multiplying.
-//   - Any number may carry a minus (sample, prewarp, min, max, require);
+//   - Any number may carry a minus (sample, prewarp, min, max, vary, require);
 //     analysis rejects what makes no sense.
 //   - A unit is any name, "µs" (U+00B5 or U+03BC), "%", or two names joined
 //     by '/' ("rad/s"). A number alone where a unit belongs is read with

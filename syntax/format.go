@@ -276,6 +276,9 @@ func (p *printer) stmt(i int, s Stmt) {
 				rest += " " + k.kw + " " + numberText(k.num)
 			}
 		}
+		if s.Vary != nil {
+			rest += " vary " + numberText(s.Vary.Lo) + " to " + numberText(s.Vary.Hi)
+		}
 		l.rest = rest
 	case *BlockStmt:
 		l.align, l.name = alignBlock, s.Name.Name

@@ -241,8 +241,18 @@ func (p *parser) gain() Stmt {
 	}
 	for !p.atLineEnd() {
 		t := p.tok()
-		if t.kind != tName || t.text != "min" && t.text != "max" {
-			p.errorf(t.Span, "unexpected %s after gain %s value (want min, max or end of line)", t.describe(), name.Name)
+		if t.kind != tName || t.text != "min" && t.text != "max" && t.text != "vary" {
+			p.errorf(t.Span, "unexpected %s after gain %s value (want min, max, vary or end of line)", t.describe(), name.Name)
+			return p.badStmt(start)
+		}
+		if t.text == "vary" {
+			if !p.vary(g) {
+				return p.badStmt(start)
+			}
+			continue
+		}
+		if g.Vary != nil {
+			p.errorf(t.Span, "gain %s varies (vary %s to %s): it is uncertain, not tunable, so it takes no %s", name.Name, numberText(g.Vary.Lo), numberText(g.Vary.Hi), t.text)
 			return p.badStmt(start)
 		}
 		p.next()
@@ -266,6 +276,39 @@ func (p *parser) gain() Stmt {
 	}
 	g.Span = p.spanFrom(start)
 	return g
+}
+
+// vary reads "vary A to B" into g (the current token is "vary"). A varying
+// gain is uncertain, so a tuning range (min, max) beside it is an error.
+func (p *parser) vary(g *GainStmt) bool {
+	kw := p.tok()
+	name := g.Name.Name
+	switch {
+	case g.Vary != nil:
+		p.errorf(kw.Span, "vary given twice for gain %s", name)
+		return false
+	case g.Min != nil || g.Max != nil:
+		p.errorf(kw.Span, "gain %s has min or max (a tuning range), so it cannot also vary; an uncertain gain gives its range with vary alone", name)
+		return false
+	}
+	p.next()
+	v := &Vary{}
+	if v.Lo = p.number("after vary", false); v.Lo == nil {
+		return false
+	}
+	t := p.tok()
+	if t.kind != tName || t.text != "to" {
+		p.errorf(t.Span, "expected to after vary %s, found %s (write vary A to B)", numberText(v.Lo), t.describe())
+		return false
+	}
+	v.ToKw = t.Span
+	p.next()
+	if v.Hi = p.number("after to", false); v.Hi == nil {
+		return false
+	}
+	v.Span = Span{kw.From, v.Hi.To}
+	g.Vary = v
+	return true
 }
 
 // number reads [-]NUMBER [UNIT]. A unit is a name, "µs", "%", or

@@ -147,7 +147,7 @@ func inlineSVG(b []byte) string {
 // reports good when it is stable and meets every requirement.
 func plainVerdict(l *analysis.Loop) (string, bool) {
 	if !l.OK {
-		return "Not analysed: the loop has errors (listed above).", false
+		return l.VerdictWord() + ": " + l.VerdictReason() + ".", false
 	}
 	var missed []string
 	for _, q := range l.Requirements {
@@ -156,16 +156,8 @@ func plainVerdict(l *analysis.Loop) (string, bool) {
 		}
 	}
 	switch {
-	case l.Marginal:
-		return "Not stable: a closed-loop pole lies on the unit circle, so a bounded input can make the output oscillate or drift without end.", false
 	case !l.Stable:
-		n := 0
-		for _, p := range l.Poles {
-			if p.Radius > 1 {
-				n++
-			}
-		}
-		return fmt.Sprintf("Unstable: %d closed-loop pole(s) lie outside the unit circle, so the output grows without bound. Do not run this loop.", n), false
+		return l.VerdictWord() + ": " + l.VerdictReason() + ".", false
 	case len(missed) > 0:
 		return fmt.Sprintf("Stable, but %d requirement(s) missed: %s.", len(missed), strings.Join(missed, ", ")), false
 	}

@@ -55,8 +55,8 @@ func TestPageHasOneSectionPerLoop(t *testing.T) {
 	}
 	want := []struct{ name, verdict string }{
 		{"valve_flow", "Stable, and every requirement is met."},
-		{"tank_level", "Not stable: a closed-loop pole lies on the unit circle"},
-		{"arm_wobble", "Unstable: 2 closed-loop pole(s) lie outside the unit circle"},
+		{"tank_level", "NOT STABLE (pole on the unit circle): a closed-loop pole lies on the unit circle"},
+		{"arm_wobble", "UNSTABLE: 2 closed-loop pole(s) lie outside the unit circle"},
 	}
 	for i, w := range want {
 		s := sections[i][1]
@@ -147,7 +147,7 @@ func TestBadInputGivesErrors(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(b), "Not analysed") || strings.Contains(string(b), "<svg") {
+	if !strings.Contains(string(b), "not analysed") || strings.Contains(string(b), "<svg") {
 		t.Error("unanalysed loop shown wrongly")
 	}
 }
