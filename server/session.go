@@ -572,11 +572,16 @@ func (s *Server) didSave(params json.RawMessage) error {
 		return err
 	}
 	s.mu.Lock()
+	replaced := false
 	if d, ok := s.ses.docs[path]; ok && p.Text != nil && *p.Text != string(d.text) {
 		s.ses.docs[path] = &document{uri: d.uri, path: path, version: d.version, text: []byte(*p.Text)}
+		replaced = true
 	}
 	s.ses.gen++
 	s.mu.Unlock()
+	if replaced {
+		s.supersede(path)
+	}
 	s.changed(path, saved)
 	return nil
 }
