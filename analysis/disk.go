@@ -1,6 +1,7 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -36,6 +37,9 @@ func (c *checker) diskMargin(l *Loop) {
 		poles[i] = p.Z
 	}
 	m, err := diskmargin.Compute(openResponse(l.Open), poles)
+	if errors.Is(err, diskmargin.ErrUnbounded) {
+		return // no finite figure: the JSON has null, the loop is static
+	}
 	if err != nil {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: disk margin could not be computed: %v", l.Name, err))
 		return

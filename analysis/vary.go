@@ -116,7 +116,7 @@ func (c *checker) robustLoops(ctx context.Context) {
 		lc := *c
 		lc.diags = &diagList{}
 		own[i] = lc.diags
-		lc.robustLoop(l, vs)
+		lc.robustLoop(ctx, l, vs)
 	})
 	for _, d := range own {
 		if d != nil {
@@ -127,8 +127,8 @@ func (c *checker) robustLoops(ctx context.Context) {
 
 // family is the box of a loop's varying gains, with other gains set by
 // fixed (nil: as declared).
-func (c *checker) family(l *Loop, vs []*Gain, fixed map[string]float64) robust.Family {
-	f := robust.Family{Tolerance: c.env.Options.Tolerance}
+func (c *checker) family(ctx context.Context, l *Loop, vs []*Gain, fixed map[string]float64) robust.Family {
+	f := robust.Family{Tolerance: c.env.Options.Tolerance, Stop: func() bool { return ctx.Err() != nil }}
 	for _, g := range vs {
 		f.Names = append(f.Names, g.Name)
 		f.Lo, f.Hi = append(f.Lo, g.Vary.Lo), append(f.Hi, g.Vary.Hi)
@@ -151,8 +151,8 @@ func (c *checker) point(names []string, x []float64, fixed map[string]float64) m
 	return values
 }
 
-func (c *checker) robustLoop(l *Loop, vs []*Gain) {
-	f := c.family(l, vs, nil)
+func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
+	f := c.family(ctx, l, vs, nil)
 	res := robust.Analyse(f)
 	r := &Robust{Stable: res.Stable, Method: res.Method, Exact: res.Exact, Why: res.Why, Names: f.Names,
 		Worst: res.Worst, WorstRadius: res.WorstRadius}
@@ -179,7 +179,7 @@ func (c *checker) robustLoop(l *Loop, vs []*Gain) {
 			fmt.Sprintf("loop %s: stability over %s is not established (%s): %s; the largest closed-loop pole radius found is %s at %s. Treat the range as unproven: test the plant at those values, or model the dependence so that it enters affinely",
 				l.Name, r.RangesText(), res.Method, res.Why, FormatRadius(r.WorstRadius), r.WorstText()))
 	case !*r.Stable:
-		c.rangeUnstable(l, r, vs)
+		c.rangeUnstable(ctx, l, r, vs)
 	}
 }
 
@@ -235,7 +235,7 @@ func minPtr(a, b *float64) *float64 {
 // rangeUnstable reports a box that is not robustly stable, naming the worst
 // point, with fixes that set a tunable gain of the loop to a value for
 // which the whole box is stable (exact methods only).
-func (c *checker) rangeUnstable(l *Loop, r *Robust, vs []*Gain) {
+func (c *checker) rangeUnstable(ctx context.Context, l *Loop, r *Robust, vs []*Gain) {
 	nominal := "it is stable at its nominal values"
 	if !l.Stable {
 		nominal = "it is not stable at its nominal values either"
@@ -256,7 +256,7 @@ func (c *checker) rangeUnstable(l *Loop, r *Robust, vs []*Gain) {
 		if d == nil || d.Gain == nil || d.Gain.Vary != nil || d.Gain.Stmt.Value == nil || len(x.Fixes) >= 3 {
 			continue
 		}
-		if fix, hint, ok := c.narrowFix(l, vs, d.Gain); ok {
+		if fix, hint, ok := c.narrowFix(ctx, l, vs, d.Gain); ok {
 			x.Fixes = append(x.Fixes, fix)
 			hints = append(hints, hint)
 		}
@@ -289,13 +289,13 @@ var narrowFactors = []float64{0.9, 0.8, 0.7, 0.6, 0.5, 0.4, 0.3, 0.2, 0.1, 0.05,
 // from the stability boundary by the loop's required gain margin where
 // that still holds, rounds it to three significant figures towards zero
 // and verifies the rounded value.
-func (c *checker) narrowFix(l *Loop, vs []*Gain, g *Gain) (Fix, string, bool) {
+func (c *checker) narrowFix(ctx context.Context, l *Loop, vs []*Gain, g *Gain) (Fix, string, bool) {
 	k0 := g.Value
 	if k0 == 0 {
 		return Fix{}, "", false
 	}
 	stableAt := func(k float64) bool {
-		res := robust.Analyse(c.family(l, vs, map[string]float64{g.Name: k}))
+		res := robust.Analyse(c.family(ctx, l, vs, map[string]float64{g.Name: k}))
 		return res.Exact && res.Stable != nil && *res.Stable
 	}
 	fail, pass := 1.0, 0.0
@@ -340,6 +340,17 @@ func towardZero(v float64) float64 {
 		return -roundDown(-v)
 	}
 	return roundDown(v)
+}
+
+// Verdict is the verdict over the range in a few words (lens, titles).
+func (r *Robust) Verdict() string {
+	switch {
+	case r.Stable == nil:
+		return "over the range: undecided"
+	case *r.Stable:
+		return "over the range: stable"
+	}
+	return "over the range: NOT STABLE"
 }
 
 // Lines describes the analysis over the box in plain words (the loop

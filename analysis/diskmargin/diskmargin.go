@@ -62,6 +62,11 @@ const (
 // closed-loop pole on it): it has no disk margin.
 var ErrOnCircle = errors.New("diskmargin: 1 + L vanishes on the unit circle")
 
+// ErrUnbounded reports L = 1 on the whole circle (a static loop of gain
+// one): |S − 1/2| vanishes everywhere and no disk of changes destabilises
+// it, so there is no finite alpha.
+var ErrUnbounded = errors.New("diskmargin: L = 1 at every frequency, the disk margin is unbounded")
+
 // Compute returns the disk margin of L. closedPoles are the closed-loop
 // poles (the grid is refined near those close to the circle); the caller
 // must know the loop to be stable, since alpha says nothing otherwise.
@@ -93,6 +98,9 @@ func Compute(L Response, closedPoles []complex128) (Margin, error) {
 	}
 	if math.IsInf(best, 1) || math.IsNaN(best) {
 		return Margin{}, ErrOnCircle
+	}
+	if best == 0 {
+		return Margin{}, ErrUnbounded
 	}
 	return FromAlpha(1/best, bestTh), nil
 }

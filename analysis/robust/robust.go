@@ -52,7 +52,15 @@ type Family struct {
 	// Tolerance: a pole with radius ≥ 1 − Tolerance counts as on or outside
 	// the circle (the checker's verdict tolerance).
 	Tolerance float64
+	// Stop, when set and true, ends the analysis early with no verdict
+	// (a cancelled request, a spent time budget).
+	Stop func() bool
 }
+
+func (f Family) stopped() bool { return f.Stop != nil && f.Stop() }
+
+// stoppedWhy is Result.Why of an analysis ended by Family.Stop.
+const stoppedWhy = "the analysis was stopped (cancelled or out of its time budget) before it finished"
 
 // Result is the verdict over the box and its worst point.
 type Result struct {
@@ -90,8 +98,12 @@ const (
 	// loops tried; see the tests' numpy cross-check at 1e-6).
 	RefineTol = 1e-10
 	// MaxGridPoints bounds the grid method (points of the box evaluated
-	// before refinement); see GridSize.
-	MaxGridPoints = 4096
+	// before refinement; each is a full evaluation of the loop, a
+	// discretization included); see GridSize.
+	MaxGridPoints = 1024
+	// MaxGridGains is the most varying gains the grid takes (3^6 = 729
+	// points); beyond it a box without an exact method is undecided.
+	MaxGridGains = 6
 	// MaxPoints bounds Result.Points.
 	MaxPoints = 256
 	// MaxGains is the most varying gains in one loop: the edge count
@@ -100,8 +112,8 @@ const (
 	// compassLevels: the compass search halves its step from half a grid
 	// spacing this many times (to 1/8192 of a spacing).
 	compassLevels = 13
-	// maxCompassMoves bounds the compass search's evaluations loop.
-	maxCompassMoves = 2000
+	// maxCompassEvals bounds the compass search's evaluations of the loop.
+	maxCompassEvals = 400
 )
 
 // Analyse decides stability over the box.
@@ -271,6 +283,9 @@ func (m affine) edges(f Family) Result {
 	}
 	var cands []edgeBest
 	for _, e := range es {
+		if f.stopped() {
+			return Result{Method: res.Method, Why: stoppedWhy, WorstRadius: math.NaN()}
+		}
 		d := e.dim
 		// c = A + k·B along the edge, k the gain's own value.
 		x0 := append([]float64(nil), e.base...)
@@ -398,7 +413,7 @@ func (r *Result) add(x []float64) {
 
 // GridSize is the number of grid points per gain for n varying gains: the
 // most that keeps the n-dimensional grid within MaxGridPoints, at least 3
-// (so 8 gains take 6,561 points) and at most 129.
+// and at most 129: 129, 32, 10, 5, 4, 3 for n = 1 … 6.
 func GridSize(n int) int {
 	k := int(math.Floor(math.Pow(MaxGridPoints, 1/float64(n)) + 1e-9))
 	return min(max(k, 3), 129)
@@ -408,6 +423,9 @@ func GridSize(n int) int {
 // point by compass search. It can refute stability, never prove it.
 func grid(f Family) Result {
 	n := len(f.Names)
+	if n > MaxGridGains {
+		return Result{Method: "none", WorstRadius: math.NaN(), Why: fmt.Sprintf("%d varying gains enter the loop other than affinely (a product of varying gains, or a gain inside a discretized s block); no exact method applies and a grid is limited to %d gains", n, MaxGridGains)}
+	}
 	k := GridSize(n)
 	total := 1
 	for i := 0; i < n; i++ {
@@ -418,8 +436,8 @@ func grid(f Family) Result {
 	for i := range dims {
 		dims[i] = fmt.Sprint(k)
 	}
-	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined by compass search near the worst point to 1/%d of a spacing; a grid cannot prove stability between its points",
-		strings.Join(dims, "×"), total, k-1, 1<<compassLevels)
+	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
+		strings.Join(dims, "×"), total, k-1, 1<<compassLevels, maxCompassEvals)
 	deg := -1
 	eval := func(x []float64) (float64, bool) {
 		p, ok := f.Char(x)
@@ -446,6 +464,9 @@ func grid(f Family) Result {
 	}
 	idx := make([]int, n)
 	for c := 0; c < total; c++ {
+		if c%64 == 0 && f.stopped() {
+			return Result{Method: res.Method, Why: stoppedWhy, WorstRadius: math.NaN()}
+		}
 		x := make([]float64, n)
 		for i := range x {
 			x[i] = f.Lo[i] + float64(idx[i])/float64(k-1)*(f.Hi[i]-f.Lo[i])
@@ -488,12 +509,14 @@ func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) 
 	}
 	n := len(f.Names)
 	step := 0.5 / float64(k-1)
-	for level, moves := 0, 0; level < compassLevels && moves < maxCompassMoves; moves++ {
+	evals := 0
+	for level := 0; level < compassLevels && evals < maxCompassEvals && !f.stopped(); {
 		moved := false
 		for i := 0; i < n && !moved; i++ {
 			for _, s := range []float64{1, -1} {
 				x := append([]float64(nil), r.Worst...)
 				x[i] = math.Min(math.Max(x[i]+s*step*(f.Hi[i]-f.Lo[i]), f.Lo[i]), f.Hi[i])
+				evals++
 				if v, ok := eval(x); ok && v > r.WorstRadius {
 					r.WorstRadius, r.Worst, moved = v, x, true
 					break
