@@ -21,6 +21,7 @@ const (
 	CodeNonCausal       = "non-causal"          // numerator degree above denominator degree
 	CodeBadExpression   = "bad-expression"      // division by zero, overflow, and the like
 	CodeTooComplex      = "too-complex"         // degree beyond what the numerics support
+	CodeTooMany         = "too-many"            // diagnostics past the per-file cap
 	CodeCommonRoot      = "common-root"         // a block's numerator and denominator share a root
 	CodeAliasing        = "aliasing"            // a continuous pole beyond the Nyquist frequency
 	CodeBlockOnCircle   = "block-pole-on-circle"
@@ -88,6 +89,7 @@ var codeDescriptions = map[string]string{
 	CodeNonCausal:       "A non-causal or improper block.",
 	CodeBadExpression:   "An expression that cannot be evaluated (division by zero, overflow).",
 	CodeTooComplex:      "A degree or size beyond the supported limits.",
+	CodeTooMany:         "More diagnostics than one file lists; the rest are counted.",
 	CodeCommonRoot:      "A block whose numerator and denominator share a root.",
 	CodeAliasing:        "A continuous pole above the Nyquist frequency.",
 	CodeBlockOnCircle:   "A block pole on the unit circle (integrator or oscillator).",

@@ -1,10 +1,12 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"sort"
 
 	"ringside/analysis/discretize"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/syntax"
 )
@@ -70,9 +72,12 @@ func (ev *evaluator) gain(name string) float64 {
 }
 
 type blockValue struct {
-	v      byte // 's', 'z' or 0
-	cont   poly.Rational
-	tf     poly.Rational
+	v    byte // 's', 'z' or 0
+	cont poly.Rational
+	tf   poly.Rational
+	// fac is tf in factored form (valid with ok unless facErr is set).
+	fac    lti.Factored
+	facErr error
 	ok     bool // tf valid
 	contOK bool // cont valid (s and constant blocks)
 	gains  map[string]bool
@@ -135,6 +140,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 	switch v {
 	case 0:
 		bv.cont, bv.tf, bv.ok, bv.contOK = r, r, true, true
+		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
 		if st.Via != nil {
 			ev.report(d.Path, st.Via.Span, Warning, CodeViaOnDiscrete,
 				fmt.Sprintf("block %s is a constant: `via` has no effect; remove it", d.Name))
@@ -151,6 +157,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return bv
 		}
 		bv.tf, bv.ok = r, true
+		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
 	case 's':
 		bv.cont, bv.contOK = r, true
 		if r.Num.Degree() > r.Den.Degree() {
@@ -186,8 +193,74 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return bv
 		}
 		bv.tf, bv.ok = tf, true
+		bv.fac, bv.facErr = lti.FromRational(tf)
 	}
 	return bv
+}
+
+// factored returns a z (or constant) block's factored form: exact where the
+// expression multiplies, divides or raises factors as written (z − 1)^3 or
+// (z − 0.75), from the roots of the block's own polynomials where it sums
+// terms (a sum has no factors until its polynomial is solved). The
+// expression has already evaluated without error.
+func (ev *evaluator) factored(d *Decl, e syntax.Expr, bv *blockValue) (lti.Factored, error) {
+	switch x := e.(type) {
+	case *syntax.NumberLit:
+		return lti.Const(x.Value), nil
+	case *syntax.VarRef:
+		return lti.Factored{Gain: 1, Zeros: []complex128{0}}, nil
+	case *syntax.Paren:
+		return ev.factored(d, x.X, bv)
+	case *syntax.Unary:
+		f, err := ev.factored(d, x.X, bv)
+		if x.Op == "-" {
+			f = f.Scale(-1)
+		}
+		return f, err
+	case *syntax.Power:
+		f, err := ev.factored(d, x.X, bv)
+		if err != nil || (x.Exp < 0 && f.IsZero()) {
+			return f, err
+		}
+		return f.Pow(x.Exp), nil
+	case *syntax.Binary:
+		if x.Juxtaposed || x.Op == "*" || x.Op == "/" {
+			a, err := ev.factored(d, x.X, bv)
+			if err != nil {
+				return a, err
+			}
+			b, err := ev.factored(d, x.Y, bv)
+			if err != nil {
+				return a, err
+			}
+			if x.Op == "/" {
+				if b.IsZero() {
+					return lti.Factored{}, errors.New("division by zero")
+				}
+				b = b.Inv()
+			}
+			return a.Mul(b), nil
+		}
+		r, err := ev.expr(d, x, 'z', &blockValue{gains: map[string]bool{}})
+		if err != nil {
+			return lti.Factored{}, err
+		}
+		return lti.FromRational(r)
+	case *syntax.NameRef:
+		ref := ev.scope[x.Name]
+		if ref == nil {
+			return lti.Factored{}, errors.New("unknown name")
+		}
+		if ref.Gain != nil {
+			return lti.Const(ev.gain(x.Name)), nil
+		}
+		sub := ev.block(ref)
+		if sub.v == 0 && sub.contOK && !sub.ok {
+			return lti.FromRational(sub.cont)
+		}
+		return sub.fac, sub.facErr
+	}
+	return lti.Factored{}, errors.New("this expression could not be read")
 }
 
 func prewarpHz(n *syntax.Number) (float64, error) {

@@ -138,10 +138,14 @@ func (c *checker) requirements(l *Loop, reqs []*syntax.RequireItem) {
 		if q, _, _ := unitKind(r.Value.UnitCanon()); q == qSamples {
 			v *= c.res.SampleT
 		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			c.diags.add(c.res.Path, r.Value.Span, Error, CodeBadUnit, fmt.Sprintf("require %s %s %s is too large to compare with anything (not a finite number once converted); write a value a loop can meet", r.Metric.Name, r.Op, r.Value))
+			continue
+		}
 		l.Requirements = append(l.Requirements, c.evalReq(l, r, r.Metric.Name, r.Op, v))
 	}
 	for _, q := range l.Requirements {
-		if !q.Met {
+		if !q.Met && !l.Undecided { // an undecided loop has its own error
 			c.missed(l, q)
 		}
 	}
@@ -208,7 +212,11 @@ func (c *checker) evalReq(l *Loop, item *syntax.RequireItem, metric, op string, 
 	q.GotText = fmtMetric(metric, v)
 	// Margins and step figures of an unstable loop describe nothing real.
 	if !l.Stable && metric != "radius" && metric != "damping" {
-		q.GotText += " (loop not stable)"
+		if l.Undecided {
+			q.GotText += " (stability undecided)"
+		} else {
+			q.GotText += " (loop not stable)"
+		}
 		return q
 	}
 	if op == ">=" {

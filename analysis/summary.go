@@ -9,17 +9,10 @@ import (
 // "stable, GM 8.1 dB, PM 47°".
 func (l *Loop) Verdict() string {
 	if !l.OK {
-		return "not analysed (see the errors)"
+		return l.VerdictWord()
 	}
 	var b strings.Builder
-	switch {
-	case l.Stable:
-		b.WriteString("stable")
-	case l.Marginal:
-		b.WriteString("NOT STABLE (pole on the unit circle)")
-	default:
-		b.WriteString("UNSTABLE")
-	}
+	b.WriteString(l.VerdictWord())
 	m := l.Margins
 	if m.GainMarginDB != nil {
 		fmt.Fprintf(&b, ", GM %.3g dB", snap(*m.GainMarginDB))
@@ -43,14 +36,7 @@ func (l *Loop) Summary() string {
 	if !l.OK {
 		return fmt.Sprintf("loop %s: %s", l.Name, l.Verdict())
 	}
-	var parts []string
-	verdict := "stable"
-	if l.Marginal {
-		verdict = "NOT STABLE: pole on the unit circle"
-	} else if !l.Stable {
-		verdict = "UNSTABLE"
-	}
-	parts = append(parts, verdict, "largest pole radius "+FormatRadius(l.MaxRadius))
+	parts := []string{l.VerdictWord(), "largest pole radius " + FormatRadius(l.MaxRadius)}
 	m := l.Margins
 	if m.GainMarginDB != nil {
 		parts = append(parts, fmt.Sprintf("gain margin %s at %s", fmtMetric("gain_margin", *m.GainMarginDB), FormatHz(*m.PhaseCrossoverHz)))

@@ -21,12 +21,14 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, pos, err := s.docPosition(p)
+	sn, path, m, _, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, err
 	}
 	async(ctx)
-	// Blocks need no loop numerics: try the quick result first.
+	// Blocks need no loop numerics: the quick result does, unless the full
+	// one is there or on its way (check then waits for it). Blocks of used
+	// files are analysed in the same pass.
 	res, err := sn.check(ctx, path, false)
 	if err != nil {
 		return nil, err
@@ -37,19 +39,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	}
 	var md string
 	if t.decl != nil && t.decl.Block != nil {
-		b, T := t.decl.Block, res.SampleT
-		if t.decl.Path != res.Path {
-			// analysis fills in only the checked file's own blocks; a used
-			// block is described by the check of its own file.
-			if own, err := sn.check(ctx, t.decl.Path, false); err == nil {
-				for _, ob := range own.Blocks {
-					if ob.Name == b.Name {
-						b, T = ob, own.SampleT
-					}
-				}
-			}
-		}
-		md = blockHover(b, T)
+		md = blockHover(t.decl.Block, res.SampleT)
 	} else {
 		full, err := sn.check(ctx, path, true)
 		if err != nil {
@@ -330,15 +320,7 @@ func loopHover(l *analysis.Loop) string {
 }
 
 func verdictWords(l *analysis.Loop) string {
-	switch {
-	case !l.OK:
-		return "not analysed (see the errors)"
-	case l.Stable:
-		return fmt.Sprintf("stable — every closed-loop pole inside the unit circle (largest radius %s)", analysis.FormatRadius(l.MaxRadius))
-	case l.Marginal:
-		return fmt.Sprintf("NOT STABLE — a closed-loop pole on the unit circle (radius %s): the output can oscillate or drift without bound", analysis.FormatRadius(l.MaxRadius))
-	}
-	return fmt.Sprintf("UNSTABLE — a closed-loop pole outside the unit circle (radius %s): the output grows without bound", analysis.FormatRadius(l.MaxRadius))
+	return l.VerdictWord() + " — " + l.VerdictReason()
 }
 
 func hzPtr(p *float64) string {

@@ -46,6 +46,19 @@ type Number struct {
 	UnitSpan Span
 }
 
+// String is the number as written: sign, digits and unit ("-2.5 ms"),
+// for messages that must quote the user's value, not a reformatting.
+func (n *Number) String() string {
+	s := n.Text
+	if n.Neg {
+		s = "-" + s
+	}
+	if n.Unit != "" {
+		s += " " + n.Unit
+	}
+	return s
+}
+
 // UnitCanon returns the unit in canonical spelling ("µs" and "μs" become
 // "us"), or "" when there is none.
 func (n *Number) UnitCanon() string {

@@ -14,8 +14,10 @@
 //
 // # Choices where the format page is silent
 //
-//   - A leading byte order mark is skipped. Space, tab and '\r' are blanks;
-//     only '\n' ends a line, so CRLF files read like LF files.
+//   - A leading byte order mark is part of nothing: it is skipped, and
+//     line 1, column 1 is the first character after it. Space and tab are
+//     blanks; "\n", "\r\n" and a lone "\r" each end a line (as in LSP
+//     3.17), so CRLF and CR files read like LF files.
 //   - Inside '(' ... ')' line breaks are blanks, except that a line starting
 //     with a statement keyword (sample, use, gain, block, loop) or with '}'
 //     closes the statement, so a missing ')' costs one error.
