@@ -60,31 +60,29 @@ func (r *Robust) RangesText() string {
 	return strings.Join(parts, ", ")
 }
 
-// varyRange reads a gain's `vary A to B` and checks A ≤ value ≤ B; it is
-// called for every gain in scope, reports only for this file's gains.
+// varyRange reads a gain's `vary A to B` and checks A ≤ value ≤ B. It is
+// called for every gain in scope; a range that fails is dropped (the gain
+// is then fixed at its value) and reported only for this file's gains.
 func (c *checker) varyRange(g *Gain, report bool) {
 	v := g.Stmt.Vary
 	if v == nil || v.Lo == nil || v.Hi == nil {
 		return
 	}
-	g.Vary = &Range{v.Lo.Value, v.Hi.Value}
-	if !report {
-		return
-	}
-	for _, n := range []*syntax.Number{v.Lo, v.Hi} {
-		if n.Unit != "" {
-			c.diags.add(g.Path, n.UnitSpan, Error, CodeBadUnit, fmt.Sprintf("gain %s is a plain number; remove the unit %q", g.Name, n.Unit))
+	lo, hi := v.Lo.Value, v.Hi.Value
+	add := func(span syntax.Span, code, msg string) {
+		if report {
+			c.diags.add(g.Path, span, Error, code, msg)
 		}
 	}
 	switch {
-	case g.Vary.Lo > g.Vary.Hi:
-		c.diags.add(g.Path, v.Span, Error, CodeGainRangeEmpty,
-			fmt.Sprintf("gain %s varies from %s to %s: the lower end is above the upper one; write the smaller value first", g.Name, fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi)))
-		g.Vary = nil
-	case g.Stmt.Value != nil && (g.Value < g.Vary.Lo || g.Value > g.Vary.Hi):
-		c.diags.add(g.Path, g.Stmt.Value.Span, Error, CodeGainRange,
-			fmt.Sprintf("gain %s = %s lies outside its range %s to %s: the nominal value must be one of the values that may occur", g.Name, fmtNum(g.Value), fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi)))
-		g.Vary = nil
+	case lo > hi:
+		add(v.Span, CodeGainRangeEmpty,
+			fmt.Sprintf("gain %s varies from %s to %s: the lower end is above the upper one; write the smaller value first", g.Name, fmtNum(lo), fmtNum(hi)))
+	case g.Stmt.Value != nil && (g.Value < lo || g.Value > hi):
+		add(g.Stmt.Value.Span, CodeGainRange,
+			fmt.Sprintf("gain %s = %s lies outside its range %s to %s: the nominal value must be one of the values that may occur", g.Name, fmtNum(g.Value), fmtNum(lo), fmtNum(hi)))
+	default:
+		g.Vary = &Range{lo, hi}
 	}
 }
 

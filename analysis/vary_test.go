@@ -207,3 +207,19 @@ func TestRangeGridUndecided(t *testing.T) {
 		t.Fatalf("want an unstable grid verdict with a witness, got %+v", rb)
 	}
 }
+
+// TestVaryInUsedFile: a varying gain declared in a used file makes the
+// loops of the checking file robust-checked; a broken range there leaves
+// the gain fixed (and is reported only in its own file).
+func TestVaryInUsedFile(t *testing.T) {
+	plant := "sample 1 ms\ngain kp = 40 vary 30 to 50\ngain kbad = 1 vary 2 to 0\nblock plant = kp * kbad * 0.001 / (z - 0.95)\n"
+	main := "use \"plant.loop\"\ngain kc = 22\nloop hot {\n  forward kc plant\n  feedback d\n}\nblock d = 1 / z\n"
+	r := checkSrc(t, main, map[string]string{"plant.loop": plant})
+	rb := loopNamed(t, r, "hot").Robust
+	if rb == nil || len(rb.Names) != 1 || rb.Names[0] != "kp" || rb.Stable == nil || *rb.Stable {
+		t.Fatalf("want kp alone varying and the range unstable, got %+v", rb)
+	}
+	if d := findDiag(r, CodeGainRangeEmpty); d != nil {
+		t.Errorf("the used file's range error is reported in the checking file: %s", d.Message)
+	}
+}
