@@ -170,7 +170,7 @@ func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 			fmt.Sprintf("loop %s: stability over %s is not established: %s", l.Name, r.RangesText(), res.Why))
 		return
 	}
-	c.robustFigures(l, r, marginPoints(f, res))
+	c.robustFigures(l, r, res)
 	switch {
 	case r.Stable == nil:
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeRangeUndecided,
@@ -181,32 +181,25 @@ func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 	}
 }
 
-// marginPoints are where margins are computed: the corners, the worst
-// point and, for one gain, the points examined along its range.
-func marginPoints(f robust.Family, res robust.Result) [][]float64 {
-	n := 1 << len(f.Names)
-	if len(f.Names) == 1 {
-		n = len(res.Points)
-	}
-	pts := append([][]float64(nil), res.Points[:min(n, len(res.Points))]...)
-	return append(pts, res.Worst)
-}
-
-// robustFigures evaluates the loop at the examined points: the smallest
-// margins (over stable points only, and only when the box is stable), the
-// closed-loop poles and open loops for the plots.
-func (c *checker) robustFigures(l *Loop, r *Robust, margins [][]float64) {
+// robustFigures evaluates the loop at the points the robust analysis
+// examined and at the worst point: closed-loop poles and open loops for the
+// plots everywhere; margins at the corners and the worst point (for one
+// gain, at every point along its range), over stable points only and only
+// when the whole box is stable.
+func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 	stable := r.Stable != nil && *r.Stable
-	for _, x := range margins {
+	corners := 1 << len(r.Names)
+	pts := append(append([][]float64(nil), res.Points...), res.Worst)
+	for i, x := range pts {
 		char, open, ok := c.loopWith(l, c.base.assign(c.point(r.Names, x, nil)))
 		if !ok {
 			continue
 		}
 		r.Family = append(r.Family, open)
-		if rs, err := roots.Find(char); err == nil {
-			r.Region = append(r.Region, rs.Roots...)
+		if rs, ok := roots.Companion(char); ok {
+			r.Region = append(r.Region, rs...)
 		}
-		if !stable {
+		if !stable || (len(r.Names) > 1 && i >= corners && i < len(pts)-1) {
 			continue
 		}
 		m, err := freq.Compute(open, c.res.SampleT)
