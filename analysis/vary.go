@@ -27,10 +27,11 @@ type Robust struct {
 	Worst  []float64 // the point with the largest closed-loop pole radius
 	// WorstRadius is that radius (+Inf where a pole goes to infinity).
 	WorstRadius float64
-	// GainMarginDB and PhaseMarginDeg are the smallest over MarginPoints
-	// (the box's corners, its worst point and, for one gain, points along
-	// its range); nil when the box is not robustly stable or no point has
-	// a crossing.
+	// GainMarginDB and PhaseMarginDeg are the smallest found over
+	// MarginPoints (the box's corners, its worst point and, for one gain,
+	// the points examined along its range): not a bound, a margin may dip
+	// lower between them; nil when the box is not robustly stable or no
+	// point has a crossing.
 	GainMarginDB, PhaseMarginDeg *float64
 	MarginPoints                 int
 	// Interval is, for one gain with the exact method, its stable interval
@@ -372,7 +373,7 @@ func (r *Robust) Lines() []string {
 		if r.PhaseMarginDeg != nil {
 			pm = fmtMetric("phase_margin", *r.PhaseMarginDeg)
 		}
-		out = append(out, fmt.Sprintf("Smallest margins over %d points of the range (corners and worst point): gain %s, phase %s.", r.MarginPoints, gm, pm))
+		out = append(out, fmt.Sprintf("Smallest margins found over %d points of the range (corners and worst point): gain %s, phase %s.", r.MarginPoints, gm, pm))
 	}
 	return out
 }
