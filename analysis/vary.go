@@ -25,8 +25,15 @@ type Robust struct {
 	Names  []string  // the varying gains, sorted
 	Ranges []Range   // their ranges, in the order of Names
 	Worst  []float64 // the point with the largest closed-loop pole radius
-	// WorstRadius is that radius (+Inf where a pole goes to infinity).
+	// WorstRadius is that radius.
 	WorstRadius float64
+	// NominalOnly: no point of the range could be examined (see Why);
+	// Worst is then the nominal point.
+	NominalOnly bool
+	// IllPosed is a point where a closed-loop pole goes to infinity (the
+	// characteristic polynomial loses degree: an ill-posed loop); nil when
+	// none was met.
+	IllPosed []float64
 	// GainMarginDB and PhaseMarginDeg are the smallest found over
 	// MarginPoints (the box's corners, its worst point and, for one gain,
 	// the points examined along its range): not a bound, a margin may dip
@@ -44,10 +51,12 @@ type Robust struct {
 }
 
 // WorstText writes the worst point as "kplant = 50, tau = 0.3".
-func (r *Robust) WorstText() string {
-	parts := make([]string, len(r.Names))
-	for i, n := range r.Names {
-		parts[i] = n + " = " + fmtNum(r.Worst[i])
+func (r *Robust) WorstText() string { return pointText(r.Names, r.Worst) }
+
+func pointText(names []string, x []float64) string {
+	parts := make([]string, len(names))
+	for i, n := range names {
+		parts[i] = n + " = " + fmtNum(x[i])
 	}
 	return strings.Join(parts, ", ")
 }
@@ -166,13 +175,18 @@ func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 		}
 	}
 	l.Robust = r
+	r.IllPosed = res.IllPosed
 	if r.Worst == nil {
+		// Nothing finite was examined: the nominal point, which the loop's
+		// own analysis covers, is the only one known.
+		r.Worst, r.WorstRadius, r.NominalOnly = c.nominal(f.Names), l.MaxRadius, true
+	} else {
+		c.robustFigures(l, r, res)
+	}
+	switch {
+	case r.Stable == nil && r.NominalOnly:
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeRangeUndecided,
 			fmt.Sprintf("loop %s: stability over %s is not established: %s", l.Name, r.RangesText(), res.Why))
-		return
-	}
-	c.robustFigures(l, r, res)
-	switch {
 	case r.Stable == nil:
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeRangeUndecided,
 			fmt.Sprintf("loop %s: stability over %s is not established (%s): %s; the largest closed-loop pole radius found is %s at %s. Treat the range as unproven: test the plant at those values, or model the dependence so that it enters affinely",
@@ -180,6 +194,15 @@ func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 	case !*r.Stable:
 		c.rangeUnstable(ctx, l, r, vs)
 	}
+}
+
+// nominal is the declared values of the named gains.
+func (c *checker) nominal(names []string) []float64 {
+	x := make([]float64, len(names))
+	for i, n := range names {
+		x[i] = c.gains[n]
+	}
+	return x
 }
 
 // robustFigures evaluates the loop at the points the robust analysis
@@ -232,30 +255,34 @@ func (c *checker) rangeUnstable(ctx context.Context, l *Loop, r *Robust, vs []*G
 	if !l.Stable {
 		nominal = "it is not stable at its nominal values either"
 	}
-	radius := "a closed-loop pole goes to infinity (the polynomial loses degree)"
-	if !math.IsInf(r.WorstRadius, 1) {
-		radius = "its largest closed-loop pole has radius " + FormatRadius(r.WorstRadius)
+	msg := fmt.Sprintf("loop %s is NOT stable over the range %s: at %s its largest closed-loop pole has radius %s; %s, but the plant you get may be any point of the range (method: %s)",
+		l.Name, r.RangesText(), r.WorstText(), FormatRadius(r.WorstRadius), nominal, r.Method)
+	if r.IllPosed != nil {
+		msg += fmt.Sprintf("; at %s a closed-loop pole goes to infinity (1 + L(∞) = 0: the loop is ill-posed there)", pointText(r.Names, r.IllPosed))
 	}
-	msg := fmt.Sprintf("loop %s is NOT stable over the range %s: at %s %s; %s, but the plant you get may be any point of the range (method: %s)",
-		l.Name, r.RangesText(), r.WorstText(), radius, nominal, r.Method)
 	if len(r.Names) == 1 && (r.IntervalLo != nil || r.IntervalHi != nil) {
 		msg += fmt.Sprintf("; stable only for %s", stableText(r.Names[0], r.IntervalLo, r.IntervalHi))
 	}
 	x := c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeRangeUnstable, msg)
 	var hints []string
+	tunable := 0
 	for _, name := range l.Gains {
 		d := c.res.Scope[name]
 		if d == nil || d.Gain == nil || d.Gain.Vary != nil || d.Gain.Stmt.Value == nil || len(x.Fixes) >= 3 {
 			continue
 		}
+		tunable++
 		if fix, hint, ok := c.narrowFix(ctx, l, vs, d.Gain); ok {
 			x.Fixes = append(x.Fixes, fix)
 			hints = append(hints, hint)
 		}
 	}
-	if len(hints) > 0 {
+	switch {
+	case len(hints) > 0:
 		x.Message += "; " + strings.Join(hints, "; or ")
-	} else if r.Exact {
+	case tunable == 0:
+		x.Message += "; the loop has no tunable gain to narrow: change the controller or narrow the range"
+	case r.Exact:
 		x.Message += "; no smaller value of one tunable gain makes the whole range stable: change the controller's structure or narrow the range"
 	}
 }
@@ -359,8 +386,14 @@ func (r *Robust) Lines() []string {
 	if r.Why != "" {
 		out = append(out, "Why undecided: "+r.Why+".")
 	}
-	if r.Worst != nil {
+	switch {
+	case r.NominalOnly:
+		out = append(out, fmt.Sprintf("Only the nominal point (%s) was analysed: largest closed-loop pole radius %s.", r.WorstText(), FormatRadius(r.WorstRadius)))
+	default:
 		out = append(out, fmt.Sprintf("Worst point: %s, largest closed-loop pole radius %s.", r.WorstText(), FormatRadius(r.WorstRadius)))
+	}
+	if r.IllPosed != nil {
+		out = append(out, fmt.Sprintf("Ill-posed at %s: a closed-loop pole goes to infinity.", pointText(r.Names, r.IllPosed)))
 	}
 	if len(r.Names) == 1 && (r.IntervalLo != nil || r.IntervalHi != nil) {
 		out = append(out, fmt.Sprintf("Stable interval in this loop: %s.", stableText(r.Names[0], r.IntervalLo, r.IntervalHi)))

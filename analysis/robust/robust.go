@@ -69,11 +69,14 @@ type Result struct {
 	Method string
 	Exact  bool   // the method proves or refutes stability (affine cases)
 	Why    string // why Stable is nil
-	// Worst is the point with the largest closed-loop pole radius found,
-	// WorstRadius that radius (+Inf where the degree drops: a pole at
-	// infinity).
+	// Worst is the point with the largest finite closed-loop pole radius
+	// found, WorstRadius that radius.
 	Worst       []float64
 	WorstRadius float64
+	// IllPosed is a point where the characteristic polynomial loses
+	// degree (a pole at infinity: the loop is ill-posed there); nil when
+	// none was met. Such a box is not stable.
+	IllPosed []float64
 	// Points are the points of the box examined (corners first), for
 	// margins and plots; at most MaxPoints.
 	Points [][]float64
@@ -303,8 +306,8 @@ func (m affine) edges(f Family) Result {
 	}
 	m.refineWorst(f, cands, &res)
 	switch {
-	case res.WorstRadius >= 1-f.Tolerance:
-		stable = false // a point with a pole on or outside the circle
+	case res.WorstRadius >= 1-f.Tolerance || res.IllPosed != nil:
+		stable = false // a point with a pole on or outside the circle, or at infinity
 	case !res.Exact:
 		res.Why = "an edge's stable interval could not be computed exactly (its ends were found by bisection) and no point with a pole on or outside the circle was found"
 		res.Method += "; not exact on every edge"
@@ -363,7 +366,10 @@ func (m affine) sampleEdge(f Family, e edge, res *Result, stable bool, iv *gainl
 	}
 	best := edgeBest{e: e, rad: -1}
 	for i, t := range ts {
-		if v := m.edgeRadius(f, e, t); v > best.rad {
+		v := m.edgeRadius(f, e, t)
+		if math.IsInf(v, 1) {
+			res.offer(e.point(f, t), v)
+		} else if v > best.rad {
 			best.t, best.rad = t, v
 		}
 		if i < EdgeSamples && i%4 == 2 {
@@ -374,11 +380,7 @@ func (m affine) sampleEdge(f Family, e edge, res *Result, stable bool, iv *gainl
 }
 
 func (m affine) edgeRadius(f Family, e edge, t float64) float64 {
-	v := radius(m.at(e.point(f, t)), m.deg)
-	if math.IsNaN(v) {
-		return math.Inf(1)
-	}
-	return v
+	return radius(m.at(e.point(f, t)), m.deg)
 }
 
 // refineEdges is how many edges, best sample first, golden section refines.
@@ -391,18 +393,41 @@ const refineEdges = 3
 func (m affine) refineWorst(f Family, cands []edgeBest, res *Result) {
 	sort.Slice(cands, func(i, j int) bool { return cands[i].rad > cands[j].rad })
 	for k, c := range cands {
-		if k < refineEdges && !math.IsInf(c.rad, 1) {
+		if c.rad < 0 {
+			continue // no finite sample on this edge
+		}
+		if k < refineEdges {
 			h := 1 / float64(EdgeSamples-1)
-			r := func(t float64) float64 { return m.edgeRadius(f, c.e, t) }
+			r := func(t float64) float64 {
+				v := m.edgeRadius(f, c.e, t)
+				if math.IsInf(v, 1) || math.IsNaN(v) {
+					return -1 // golden section keeps to the finite side
+				}
+				return v
+			}
 			t := search.GoldenMax(r, math.Max(c.t-h, 0), math.Min(c.t+h, 1), RefineTol)
 			if v := r(t); v > c.rad {
 				c.t, c.rad = t, v
 			}
 		}
-		if c.rad > res.WorstRadius {
-			res.WorstRadius, res.Worst = c.rad, c.e.point(f, c.t)
-		}
+		res.offer(c.e.point(f, c.t), c.rad)
 	}
+}
+
+// offer records a point and its radius: the worst point when it beats it,
+// the ill-posed point when the radius is infinite; NaN (no roots) is not
+// recorded.
+func (r *Result) offer(x []float64, v float64) bool {
+	switch {
+	case math.IsInf(v, 1):
+		if r.IllPosed == nil {
+			r.IllPosed = x
+		}
+	case v > r.WorstRadius:
+		r.WorstRadius, r.Worst = v, x
+		return true
+	}
+	return false
 }
 
 func (r *Result) add(x []float64) {
@@ -478,9 +503,7 @@ func grid(f Family) Result {
 			res.WorstRadius = math.NaN()
 			return res
 		}
-		if v > res.WorstRadius {
-			res.WorstRadius, res.Worst = v, x
-		}
+		res.offer(x, v)
 		if c%max(total/64, 1) == 0 {
 			res.add(x)
 		}
@@ -492,7 +515,7 @@ func grid(f Family) Result {
 		}
 	}
 	res.compass(f, eval, k)
-	if res.WorstRadius >= 1-f.Tolerance {
+	if res.WorstRadius >= 1-f.Tolerance || res.IllPosed != nil {
 		st := false
 		res.Stable = &st
 		return res
@@ -504,7 +527,7 @@ func grid(f Family) Result {
 // compass improves the worst point by coordinate steps, halving the step
 // when no move helps.
 func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) {
-	if r.Worst == nil || math.IsInf(r.WorstRadius, 1) {
+	if r.Worst == nil {
 		return
 	}
 	n := len(f.Names)
@@ -517,8 +540,8 @@ func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) 
 				x := append([]float64(nil), r.Worst...)
 				x[i] = math.Min(math.Max(x[i]+s*step*(f.Hi[i]-f.Lo[i]), f.Lo[i]), f.Hi[i])
 				evals++
-				if v, ok := eval(x); ok && v > r.WorstRadius {
-					r.WorstRadius, r.Worst, moved = v, x, true
+				if v, ok := eval(x); ok && r.offer(x, v) {
+					moved = true
 					break
 				}
 			}
