@@ -4,12 +4,12 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"strings"
 
-	"ringside/analysis/freq"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/robust"
-	"ringside/analysis/roots"
 	"ringside/syntax"
 )
 
@@ -141,11 +141,61 @@ func (c *checker) family(ctx context.Context, l *Loop, vs []*Gain, fixed map[str
 		f.Names = append(f.Names, g.Name)
 		f.Lo, f.Hi = append(f.Lo, g.Vary.Lo), append(f.Hi, g.Vary.Hi)
 	}
-	f.Char = func(x []float64) (poly.Poly, bool) {
-		char, _, ok := c.loopWith(l, c.base.assign(c.point(f.Names, x, fixed)))
-		return char, ok && char.Finite()
+	// The exact methods work on the expanded characteristic polynomial,
+	// trusted up to MaxAffineDegree (as for the gain limits); beyond it the
+	// grid decides on the loop's model alone.
+	if l.Char.Degree() <= MaxAffineDegree {
+		f.Char = func(x []float64) (poly.Poly, bool) {
+			p, ok := c.atPoint(l, c.point(f.Names, x, fixed))
+			return p.char, ok && p.char.Finite()
+		}
+	}
+	f.Eval = func(x []float64) (float64, lti.Verdict, bool) {
+		p, ok := c.atPoint(l, c.point(f.Names, x, fixed))
+		if !ok || p.model == nil {
+			return 0, 0, false
+		}
+		ps, err := p.model.Poles()
+		if err != nil {
+			return 0, 0, false
+		}
+		v, _ := lti.Decide(ps, c.env.Options.Tolerance)
+		return maxPoleRadius(ps), v, true
 	}
 	return f
+}
+
+// pointLoop is a loop evaluated at one point of its box.
+type pointLoop struct {
+	char  poly.Poly
+	open  poly.Rational
+	model *lti.Loop // nil when some block has no factored form
+}
+
+// atPoint evaluates a loop with the gains of values set, on the loop's own
+// path: its elements, their expanded polynomials (polys) and its model.
+func (c *checker) atPoint(l *Loop, values map[string]float64) (pointLoop, bool) {
+	ev := c.base.assign(values)
+	sh := shapeOf(l.Stmt)
+	fwd, ok1 := c.elements(ev, sh.fwd, false)
+	fb, ok2 := c.elements(ev, sh.fb, false)
+	if !ok1 || !ok2 {
+		return pointLoop{}, false
+	}
+	var p pointLoop
+	p.open, p.char, _ = polys(tfs(fwd), tfs(fb), sh.positive)
+	if m, err := model(fwd, fb, sh.positive); err == nil {
+		p.model = m
+	}
+	return p, true
+}
+
+func maxPoleRadius(ps []lti.Pole) float64 {
+	r := 0.0
+	for _, p := range ps {
+		r = math.Max(r, cmplx.Abs(p.Z))
+	}
+	return r
 }
 
 func (c *checker) point(names []string, x []float64, fixed map[string]float64) map[string]float64 {
@@ -215,18 +265,22 @@ func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 	corners := 1 << len(r.Names)
 	pts := append(append([][]float64(nil), res.Points...), res.Worst)
 	for i, x := range pts {
-		char, open, ok := c.loopWith(l, c.base.assign(c.point(r.Names, x, nil)))
-		if !ok {
+		p, ok := c.atPoint(l, c.point(r.Names, x, nil))
+		if !ok || p.model == nil {
 			continue
 		}
-		r.Family = append(r.Family, open)
-		if rs, ok := roots.Companion(char); ok {
-			r.Region = append(r.Region, rs...)
+		ps, err := p.model.Poles()
+		if err != nil {
+			continue
+		}
+		r.Family = append(r.Family, p.open)
+		for _, q := range ps {
+			r.Region = append(r.Region, q.Z)
 		}
 		if !stable || (len(r.Names) > 1 && i >= corners && i < len(pts)-1) {
 			continue
 		}
-		m, err := freq.Compute(open, c.res.SampleT)
+		m, err := p.model.Margins(c.res.SampleT, ps)
 		if err != nil {
 			continue
 		}

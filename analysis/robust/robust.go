@@ -38,6 +38,7 @@ import (
 
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/internal/search"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 )
@@ -47,8 +48,16 @@ type Family struct {
 	Names  []string  // the varying gains
 	Lo, Hi []float64 // the box: Lo[i] < Hi[i]
 	// Char returns the closed-loop characteristic polynomial at a point of
-	// the box; ok is false when the loop cannot be formed there.
+	// the box, for the exact methods; ok is false when the loop cannot be
+	// formed there. Nil when the expanded polynomial is not to be trusted
+	// (a degree so high that its roots are ill-conditioned): the grid then
+	// decides alone.
 	Char func(x []float64) (p poly.Poly, ok bool)
+	// Eval returns, from the loop's own model, the largest closed-loop pole
+	// radius at a point and the verdict there (eigenvalues with error
+	// bounds: lti.Undecided when a bound straddles the circle). The grid
+	// uses it; nil: the grid takes the roots of Char, decided by Tolerance.
+	Eval func(x []float64) (radius float64, v lti.Verdict, ok bool)
 	// Tolerance: a pole with radius ≥ 1 − Tolerance counts as on or outside
 	// the circle (the checker's verdict tolerance).
 	Tolerance float64
@@ -83,6 +92,12 @@ type Result struct {
 	// Interval is, for one gain with the exact method, the gain's stable
 	// interval (nil ends: unbounded).
 	Interval *gainlimit.Interval
+
+	// Grid bookkeeping: the first point certainly not stable (the worst
+	// point, of the largest radius, is then not stable either unless its own
+	// verdict was undecided) and how many points were undecided.
+	witness   []float64
+	undecided int
 }
 
 const (
@@ -125,10 +140,12 @@ func Analyse(f Family) Result {
 	if n == 0 || n > MaxGains {
 		return Result{Method: "none", Why: fmt.Sprintf("%d varying gains in one loop; at most %d are analysed", n, MaxGains), WorstRadius: math.NaN()}
 	}
-	if m, ok, why := fit(f); ok {
-		return m.edges(f)
-	} else if why != "" {
-		return Result{Method: "none", Why: why, WorstRadius: math.NaN()}
+	if f.Char != nil {
+		if m, ok, why := fit(f); ok {
+			return m.edges(f)
+		} else if why != "" {
+			return Result{Method: "none", Why: why, WorstRadius: math.NaN()}
+		}
 	}
 	return grid(f)
 }
@@ -463,27 +480,7 @@ func grid(f Family) Result {
 	}
 	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
 		strings.Join(dims, "×"), total, k-1, 1<<compassLevels, maxCompassEvals)
-	deg := -1
-	eval := func(x []float64) (float64, bool) {
-		p, ok := f.Char(x)
-		if !ok {
-			return 0, false
-		}
-		if deg < 0 {
-			deg = p.Degree()
-		}
-		v := radius(p, deg)
-		if math.IsNaN(v) {
-			return 0, false
-		}
-		return v, true
-	}
-	// The degree to keep: the largest at any corner.
-	for _, x := range corners(f.Lo, f.Hi) {
-		if p, ok := f.Char(x); ok {
-			deg = max(deg, p.Degree())
-		}
-	}
+	eval := f.evaluator()
 	for _, x := range corners(f.Lo, f.Hi) {
 		res.add(x)
 	}
@@ -496,7 +493,7 @@ func grid(f Family) Result {
 		for i := range x {
 			x[i] = f.Lo[i] + float64(idx[i])/float64(k-1)*(f.Hi[i]-f.Lo[i])
 		}
-		v, ok := eval(x)
+		v, verdict, ok := eval(x)
 		if !ok {
 			res.Method = "grid"
 			res.Why = "the loop cannot be formed at " + pointText(f.Names, x)
@@ -504,6 +501,7 @@ func grid(f Family) Result {
 			return res
 		}
 		res.offer(x, v)
+		res.count(x, verdict)
 		if c%max(total/64, 1) == 0 {
 			res.add(x)
 		}
@@ -515,18 +513,71 @@ func grid(f Family) Result {
 		}
 	}
 	res.compass(f, eval, k)
-	if res.WorstRadius >= 1-f.Tolerance || res.IllPosed != nil {
+	if res.witness != nil || res.IllPosed != nil {
 		st := false
 		res.Stable = &st
 		return res
 	}
-	res.Why = fmt.Sprintf("the closed-loop poles depend on %s other than affinely (a product of varying gains, or a gain inside a discretized s block), so no exact method applies; every one of the %d grid points is stable, which does not prove the points between them are", strings.Join(f.Names, ", "), total)
+	why := "no exact method applies"
+	if f.Char != nil {
+		why = fmt.Sprintf("the closed-loop poles depend on %s other than affinely (a product of varying gains, or a gain inside a discretized s block), so no exact method applies", strings.Join(f.Names, ", "))
+	} else {
+		why = "the loop's characteristic polynomial is of too high a degree for the exact methods to be trusted, so no exact method applies"
+	}
+	if res.undecided > 0 {
+		res.Why = fmt.Sprintf("%s; %d of the %d grid points are stable and at %d the verdict is undecided (a pole's error bound straddles the circle)", why, total-res.undecided, total, res.undecided)
+	} else {
+		res.Why = fmt.Sprintf("%s; every one of the %d grid points is stable, which does not prove the points between them are", why, total)
+	}
 	return res
+}
+
+// pointEval is the loop at one point: its largest pole radius and verdict.
+type pointEval func(x []float64) (float64, lti.Verdict, bool)
+
+// evaluator returns Eval, or the roots of Char decided by Tolerance.
+func (f Family) evaluator() pointEval {
+	if f.Eval != nil {
+		return f.Eval
+	}
+	deg := -1
+	for _, x := range corners(f.Lo, f.Hi) { // the degree to keep: the largest at any corner
+		if p, ok := f.Char(x); ok {
+			deg = max(deg, p.Degree())
+		}
+	}
+	return func(x []float64) (float64, lti.Verdict, bool) {
+		p, ok := f.Char(x)
+		if !ok {
+			return 0, 0, false
+		}
+		v := radius(p, deg)
+		switch {
+		case math.IsNaN(v):
+			return 0, 0, false
+		case v >= 1-f.Tolerance:
+			return v, lti.Unstable, true
+		}
+		return v, lti.Stable, true
+	}
+}
+
+// count records a grid point's verdict: the first point certainly on or
+// outside the circle is the witness that the box is not stable.
+func (r *Result) count(x []float64, v lti.Verdict) {
+	switch v {
+	case lti.Unstable, lti.Marginal:
+		if r.witness == nil {
+			r.witness = x
+		}
+	case lti.Undecided:
+		r.undecided++
+	}
 }
 
 // compass improves the worst point by coordinate steps, halving the step
 // when no move helps.
-func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) {
+func (r *Result) compass(f Family, eval pointEval, k int) {
 	if r.Worst == nil {
 		return
 	}
@@ -540,7 +591,11 @@ func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) 
 				x := append([]float64(nil), r.Worst...)
 				x[i] = math.Min(math.Max(x[i]+s*step*(f.Hi[i]-f.Lo[i]), f.Lo[i]), f.Hi[i])
 				evals++
-				if v, ok := eval(x); ok && r.offer(x, v) {
+				v, verdict, ok := eval(x)
+				if ok {
+					r.count(x, verdict)
+				}
+				if ok && r.offer(x, v) {
 					moved = true
 					break
 				}
