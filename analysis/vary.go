@@ -212,6 +212,11 @@ func (c *checker) point(names []string, x []float64, fixed map[string]float64) m
 func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 	f := c.family(ctx, l, vs, nil)
 	res := robust.Analyse(f)
+	if res.Stable != nil && *res.Stable && l.Undecided {
+		// The nominal point lies in the box; its own verdict could not be
+		// decided, so neither can the box's.
+		res.Stable, res.Why = nil, "the loop's verdict at its nominal values is undecided (a pole's error bound straddles the circle)"
+	}
 	r := &Robust{Stable: res.Stable, Method: res.Method, Exact: res.Exact, Why: res.Why, Names: f.Names,
 		Worst: res.Worst, WorstRadius: res.WorstRadius}
 	for _, g := range vs {
