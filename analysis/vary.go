@@ -35,10 +35,10 @@ type Robust struct {
 	// none was met.
 	IllPosed []float64
 	// GainMarginDB and PhaseMarginDeg are the smallest found over
-	// MarginPoints (the box's corners, its worst point and, for one gain,
-	// the points examined along its range): not a bound, a margin may dip
-	// lower between them; nil when the box is not robustly stable or no
-	// point has a crossing.
+	// MarginPoints (the box's corners, its worst point and, for one gain
+	// with the exact method, its samples along the range): not a bound, a
+	// margin may dip lower between them; nil when the box is not robustly
+	// stable or no point has a crossing.
 	GainMarginDB, PhaseMarginDeg *float64
 	MarginPoints                 int
 	// Interval is, for one gain with the exact method, its stable interval
@@ -263,11 +263,14 @@ func (c *checker) nominal(names []string) []float64 {
 // robustFigures evaluates the loop at the points the robust analysis
 // examined and at the worst point: closed-loop poles and open loops for the
 // plots everywhere; margins at the corners and the worst point (for one
-// gain, at every point along its range), over stable points only and only
-// when the whole box is stable.
+// gain with the exact method, also at its samples along the range), over
+// stable points only and only when the whole box is stable.
 func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 	stable := r.Stable != nil && *r.Stable
 	corners := 1 << len(r.Names)
+	if len(r.Names) == 1 && res.Exact {
+		corners = len(res.Points) // a handful of samples along the one range
+	}
 	pts := append(append([][]float64(nil), res.Points...), res.Worst)
 	for i, x := range pts {
 		p, ok := c.atPoint(l, c.point(r.Names, x, nil))
@@ -282,7 +285,7 @@ func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 		for _, q := range ps {
 			r.Region = append(r.Region, q.Z)
 		}
-		if !stable || (len(r.Names) > 1 && i >= corners && i < len(pts)-1) {
+		if !stable || (i >= corners && i < len(pts)-1) {
 			continue
 		}
 		m, err := p.model.Margins(c.res.SampleT, ps)
