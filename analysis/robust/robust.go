@@ -322,12 +322,14 @@ func (m affine) edges(f Family) Result {
 		cands = append(cands, m.sampleEdge(f, e, &res, ok, iv))
 	}
 	m.refineWorst(f, cands, &res)
+	if !res.Exact {
+		res.Method += "; not exact on every edge (some interval ends found by bisection)"
+	}
 	switch {
 	case res.WorstRadius >= 1-f.Tolerance || res.IllPosed != nil:
 		stable = false // a point with a pole on or outside the circle, or at infinity
 	case !res.Exact:
 		res.Why = "an edge's stable interval could not be computed exactly (its ends were found by bisection) and no point with a pole on or outside the circle was found"
-		res.Method += "; not exact on every edge"
 		return res
 	}
 	res.Stable = &stable
