@@ -10,6 +10,7 @@ import (
 	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/robust"
+	"ringside/analysis/roots"
 	"ringside/syntax"
 )
 
@@ -146,12 +147,12 @@ func (c *checker) family(ctx context.Context, l *Loop, vs []*Gain, fixed map[str
 	// grid decides on the loop's model alone.
 	if l.Char.Degree() <= MaxAffineDegree {
 		f.Char = func(x []float64) (poly.Poly, bool) {
-			p, ok := c.atPoint(l, c.point(f.Names, x, fixed))
+			p, ok := c.atPoint(l, c.point(f.Names, x, fixed), false)
 			return p.char, ok && p.char.Finite()
 		}
 	}
 	f.Eval = func(x []float64) (float64, lti.Verdict, bool) {
-		p, ok := c.atPoint(l, c.point(f.Names, x, fixed))
+		p, ok := c.atPoint(l, c.point(f.Names, x, fixed), true)
 		if !ok || p.model == nil {
 			return 0, 0, false
 		}
@@ -173,8 +174,9 @@ type pointLoop struct {
 }
 
 // atPoint evaluates a loop with the gains of values set, on the loop's own
-// path: its elements, their expanded polynomials (polys) and its model.
-func (c *checker) atPoint(l *Loop, values map[string]float64) (pointLoop, bool) {
+// path: its elements, their expanded polynomials (polys) and, when asked,
+// its model.
+func (c *checker) atPoint(l *Loop, values map[string]float64, withModel bool) (pointLoop, bool) {
 	ev := c.base.assign(values)
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
@@ -184,6 +186,9 @@ func (c *checker) atPoint(l *Loop, values map[string]float64) (pointLoop, bool) 
 	}
 	var p pointLoop
 	p.open, p.char, _ = polys(tfs(fwd), tfs(fb), sh.positive)
+	if !withModel {
+		return p, true
+	}
 	if m, err := model(fwd, fb, sh.positive); err == nil {
 		p.model = m
 	}
@@ -273,8 +278,18 @@ func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 	}
 	pts := append(append([][]float64(nil), res.Points...), res.Worst)
 	for i, x := range pts {
-		p, ok := c.atPoint(l, c.point(r.Names, x, nil))
-		if !ok || p.model == nil {
+		margins := stable && (i < corners || i == len(pts)-1)
+		// With an exact method the expanded polynomial is trusted (degree
+		// ≤ MaxAffineDegree): its roots place the plot's points; margins
+		// and the grid's points take the model.
+		p, ok := c.atPoint(l, c.point(r.Names, x, nil), margins || !res.Exact)
+		if !ok {
+			continue
+		}
+		if p.model == nil {
+			if rs, ok := roots.Companion(p.char); ok && res.Exact {
+				r.Family, r.Region = append(r.Family, p.open), append(r.Region, rs...)
+			}
 			continue
 		}
 		ps, err := p.model.Poles()
@@ -285,7 +300,7 @@ func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 		for _, q := range ps {
 			r.Region = append(r.Region, q.Z)
 		}
-		if !stable || (i >= corners && i < len(pts)-1) {
+		if !margins {
 			continue
 		}
 		m, err := p.model.Margins(c.res.SampleT, ps)
