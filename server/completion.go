@@ -109,8 +109,12 @@ func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *ana
 			add(protocol.CompletionItemKindUnit, "unit", unitsMetric[toks[1]]...)
 		case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
 			add(protocol.CompletionItemKindUnit, "unit", unitsFreq...)
-		case first == "gain":
+		case first == "gain" && len(toks) >= 2 && toks[len(toks)-2] == "vary":
+			add(protocol.CompletionItemKindKeyword, "end of the range", "to")
+		case first == "gain" && (contains(toks, "min") || contains(toks, "max")):
 			add(protocol.CompletionItemKindKeyword, "range", "min", "max")
+		case first == "gain" && !contains(toks, "vary"):
+			add(protocol.CompletionItemKindKeyword, "range", "min", "max", "vary")
 		case first == "block":
 			add(protocol.CompletionItemKindKeyword, "discretization", "via")
 		}
