@@ -47,8 +47,13 @@ const (
 	CodeSensitivityHigh = "sensitivity-high"
 	CodeOvershootHigh   = "overshoot-high"
 	CodeSettlingSlow    = "settling-slow"
-	CodeLoopVerdict     = "loop-verdict" // info: one line of figures per loop
-	CodeGainLimits      = "gain-limits"  // info: stable interval of a gain
+	CodeBadRealize      = "bad-realize"      // a realize line that cannot be used
+	CodeRealizeRange    = "realize-range"    // a coefficient outside the format's range
+	CodeRealizeUnstable = "realize-unstable" // rounding moves a block pole onto or outside the circle
+	CodeRealizeLoop     = "realize-loop"     // the loop with the realized block loses stability or a requirement
+	CodeRealizeHeadroom = "realize-headroom" // a fixed-point signal can overflow
+	CodeLoopVerdict     = "loop-verdict"     // info: one line of figures per loop
+	CodeGainLimits      = "gain-limits"      // info: stable interval of a gain
 )
 
 // metricCode is the diagnostic code for a missed requirement on a metric.
@@ -110,6 +115,11 @@ var codeDescriptions = map[string]string{
 	CodeSensitivityHigh: "Peak sensitivity above its requirement.",
 	CodeOvershootHigh:   "Step overshoot above its requirement.",
 	CodeSettlingSlow:    "Step settling time above its requirement.",
+	CodeBadRealize:      "A realize line that cannot be used (unknown block, structure or format, twice).",
+	CodeRealizeRange:    "A realized coefficient outside the range of its format.",
+	CodeRealizeUnstable: "Rounding moves a block pole onto or outside the unit circle.",
+	CodeRealizeLoop:     "The loop with a realized block is unstable or misses a requirement the ideal loop meets.",
+	CodeRealizeHeadroom: "A fixed-point signal of a realized block can overflow.",
 	CodeLoopVerdict:     "A loop's verdict and figures.",
 	CodeGainLimits:      "A gain's stable interval and safe maximum.",
 }

@@ -148,6 +148,9 @@ type Block struct {
 	// Gains lists the gain names the block depends on (directly or
 	// through the blocks it uses).
 	Gains []string
+	// Realization is how the block runs on the target (its `realize`
+	// line); nil without one.
+	Realization *Realization
 }
 
 // Loop is a feedback loop and everything computed for it.
@@ -176,6 +179,9 @@ type Loop struct {
 	Hidden        []HiddenMode
 	Requirements  []Requirement
 	Gains         []string // gain names the loop depends on
+	// Realized holds the figures of the loop with every realized block in
+	// its rounded form; nil when no block of the loop is realized.
+	Realized *RealizedLoop
 }
 
 // HiddenMode is a block pole cancelled by a zero in the loop: invisible in

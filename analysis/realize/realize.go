@@ -59,6 +59,15 @@ func (r *Realization) Coefficients() [][]float64 {
 // circle within which a pole counts as on it. A coefficient the format
 // cannot hold is a *RangeError.
 func Realize(tf poly.Rational, st Structure, f Format, T, tol float64) (*Realization, error) {
+	r, err := Try(tf, st, f, T, tol)
+	if err == nil && f.Kind == Fixed {
+		r.Headroom = headroom(r, tol)
+	}
+	return r, err
+}
+
+// Try is Realize without the headroom, for searches over formats.
+func Try(tf poly.Rational, st Structure, f Format, T, tol float64) (*Realization, error) {
 	r := &Realization{Structure: st, Format: f}
 	if st == Delta {
 		if !(T > 0) {
@@ -90,9 +99,6 @@ func Realize(tf poly.Rational, st Structure, f Format, T, tol float64) (*Realiza
 		r.MaxRadius = math.Max(r.MaxRadius, cmplx.Abs(p))
 	}
 	r.Stable = r.MaxRadius < 1-tol
-	if f.Kind == Fixed {
-		r.Headroom = headroom(r, tol)
-	}
 	return r, nil
 }
 
