@@ -312,4 +312,3 @@ func tryFormat(bv *blockValue, st realize.Structure, f realize.Format, T, tol fl
 		f = realize.Format{Kind: realize.Fixed, M: re.NeedM, N: w - 1 - re.NeedM}
 	}
 }
-
