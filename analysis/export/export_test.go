@@ -206,9 +206,9 @@ json.dump(out, sys.stdout)
 // An unrealized file and a failing realization are refused with a status.
 func TestRefusals(t *testing.T) {
 	for src, status := range map[string]int{
-		"sample 1 ms\nblock a = 1 / (z - 0.5)\n": 2,
+		"sample 1 ms\nblock a = 1 / (z - 0.5)\n":                                          2,
 		"sample 100 us\nblock n = " + exprs["notch"] + "\nrealize n as direct in q3.12\n": 1,
-		"sample 1 ms\nblock a = 1 / (z - 0.5)\nrealize a as direct in q0.3\n":          1,
+		"sample 1 ms\nblock a = 1 / (z - 0.5)\nrealize a as direct in q0.3\n":             1,
 	} {
 		_, err := Blocks(checked(t, src))
 		e, ok := err.(*Error)
