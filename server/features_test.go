@@ -190,6 +190,9 @@ func TestCompletion(t *testing.T) {
 		{"gain k2 = 1 ", "max", ""},
 		{"block q = ki * ", "belt d kp s z", "zoh"},
 		{"block q = 2 / (s + 1) via tustin ", "prewarp", ""},
+		{"realize ", "d", "forward"},
+		{"realize d as ", "direct sections delta", "zoh"},
+		{"realize d as sections in ", "float64 float32 q15 q31 q1.14", "zoh"},
 	} {
 		text := base + tc.line
 		uri := c.open("comp.loop", text)
@@ -489,5 +492,22 @@ func TestDocumentText(t *testing.T) {
 	}
 	if err := c.call(lspext.MethodDocumentText, map[string]any{"uri": "untitled:x"}, nil); rpcCode(err) != jsonrpc2.InvalidParams {
 		t.Errorf("documentText of a non-file URI: %v, want InvalidParams", err)
+	}
+}
+
+// Hover on a realize line shows the rounded coefficients, the pole shift
+// and the headroom computed by the analysis.
+func TestRealizeHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := "sample 1 ms\nblock lp = 0.02 / (z^2 - 1.8z + 0.82)\nrealize lp as direct in q1.14\n"
+	uri := c.open("rz.loop", text)
+	var h protocol.Hover
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(2, 3)), &h); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"realize lp", "direct in q1.14", "0.0200195", "-1.79999", "max pole shift", "no overflow for inputs up to"} {
+		if !strings.Contains(h.Contents.Value, want) {
+			t.Errorf("hover lacks %q:\n%s", want, h.Contents.Value)
+		}
 	}
 }

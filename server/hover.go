@@ -31,6 +31,13 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err != nil {
 		return nil, err
 	}
+	if rs := realizeAt(res, pos); rs != nil && rs.Block != nil {
+		r, err := m.SpanRange(rs.Span)
+		if err != nil {
+			return nil, err
+		}
+		return protocol.Hover{Contents: protocol.MarkupContent{Kind: "markdown", Value: realizeHover(res, rs)}, Range: &r}, nil
+	}
 	t := resolveAt(res, pos)
 	if t == nil {
 		return nil, nil

@@ -1,0 +1,75 @@
+package server
+
+import (
+	"fmt"
+	"math/cmplx"
+	"strings"
+
+	"ringside/analysis"
+	"ringside/syntax"
+)
+
+// realizeAt returns the realize line of the checked file that contains pos.
+func realizeAt(res *analysis.Result, pos syntax.Pos) *syntax.RealizeStmt {
+	if res.File == nil {
+		return nil
+	}
+	for _, st := range res.File.Stmts {
+		if rs, ok := st.(*syntax.RealizeStmt); ok && rs.Pos() <= pos && pos <= rs.End() {
+			return rs
+		}
+	}
+	return nil
+}
+
+// realizeHover: the rounded coefficients, the pole shift and the headroom
+// of the realized block (analysis.Realization; nothing is recomputed).
+func realizeHover(res *analysis.Result, rs *syntax.RealizeStmt) string {
+	d := res.Scope[rs.Block.Name]
+	if d == nil || d.Block == nil || d.Block.Realization == nil || d.Block.Realization.Realization == nil {
+		return fmt.Sprintf("**realize %s**: not realized (see the diagnostics on this line)", rs.Block.Name)
+	}
+	r := d.Block.Realization
+	var b strings.Builder
+	fmt.Fprintf(&b, "**realize %s** as %s\n\n", d.Name, r.Label())
+	if r.Delta() != 0 {
+		fmt.Fprintf(&b, "delta operator δ = (z − 1)/Δ, Δ = 2^%d\n\n", r.DeltaExp)
+	}
+	b.WriteString("| section | b (rounded) | a (rounded) |\n|---|---|---|\n")
+	for i, s := range r.Sections {
+		fmt.Fprintf(&b, "| %d | %s | %s |\n", i+1, nums(s.B), nums(s.A))
+	}
+	fmt.Fprintf(&b, "\nmax pole shift %s; rounded poles ", analysis.FormatNumber(r.MaxPoleShift))
+	var ps []string
+	for _, p := range r.Poles {
+		if imag(p) >= 0 {
+			ps = append(ps, fmt.Sprintf("%s (r %s)", analysis.FormatComplex(p), analysis.FormatRadius(cmplx.Abs(p))))
+		}
+	}
+	b.WriteString(strings.Join(ps, ", "))
+	if r.Stable {
+		b.WriteString(": all inside the unit circle\n")
+	} else {
+		b.WriteString(": **not all inside the unit circle**\n")
+	}
+	if h := r.Headroom; h != nil {
+		b.WriteString("\n| signal | l1 norm | integer bits needed | has |\n|---|---|---|---|\n")
+		for _, n := range h.Nodes {
+			fmt.Fprintf(&b, "| %s | %s | %d | %d |\n", n.Name, analysis.FormatNumber(n.L1), n.IntBits, n.Have)
+		}
+		if h.Bounded {
+			fmt.Fprintf(&b, "\nno overflow for inputs up to |x| = %s (l1-norm bound, output rounding included)\n", analysis.FormatNumber(h.MaxInput))
+		} else {
+			b.WriteString("\na pole on or outside the circle: a sustained input overflows\n")
+		}
+	}
+	return b.String()
+}
+
+func nums(v []float64) string {
+	out := make([]string, len(v))
+	for i, x := range v {
+		out[i] = analysis.FormatNumber(x)
+	}
+	return strings.Join(out, ", ")
+}
