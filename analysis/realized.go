@@ -26,6 +26,8 @@ func (r *Realization) Label() string {
 // form and the rest ideal.
 type RealizedLoop struct {
 	Blocks []string // the realized blocks on the loop's paths
+	// Elements are their realizations, in path order.
+	Elements []*realize.Realization
 	// Figures is the loop analysed by the same code as the ideal one;
 	// Figures.OK is false when that analysis could not run.
 	Figures *Loop
@@ -154,31 +156,33 @@ func worstPole(ps []complex128) complex128 {
 
 // swapRealized returns the elements with every realized block's transfer
 // function replaced by its rounded one, and the names swapped.
-func swapRealized(es []element, override *Block, with *realize.Realization) ([]element, []string) {
+func swapRealized(es []element, override *Block, with *realize.Realization) ([]element, []string, []*realize.Realization) {
 	out := append([]element(nil), es...)
 	var names []string
+	var used []*realize.Realization
 	for i, e := range out {
-		if e.block == nil {
-			continue
-		}
+		r := with
 		switch {
+		case e.block == nil:
+			continue
 		case e.block == override:
-			out[i].tf = with.TF
-		case e.block.Realization != nil:
-			out[i].tf = e.block.Realization.TF
+		case e.block.Realization != nil && e.block.Realization.Realization != nil:
+			r = e.block.Realization.Realization
 		default:
 			continue
 		}
+		out[i].tf = r.TF
 		names = append(names, e.name)
+		used = append(used, r)
 	}
-	return out, names
+	return out, names, used
 }
 
 // analyseRealized runs the loop analysis on the realized elements with its
 // diagnostics set aside (they speak of the ideal loop's lines).
-func (c *checker) analyseRealized(l *Loop, sh loopShape, fwd, fb []element, override *Block, with *realize.Realization) (*Loop, []string) {
-	f2, n1 := swapRealized(fwd, override, with)
-	b2, n2 := swapRealized(fb, override, with)
+func (c *checker) analyseRealized(l *Loop, sh loopShape, fwd, fb []element, override *Block, with *realize.Realization) (*Loop, *RealizedLoop) {
+	f2, n1, r1 := swapRealized(fwd, override, with)
+	b2, n2, r2 := swapRealized(fb, override, with)
 	names := append(n1, n2...)
 	if len(names) == 0 {
 		return nil, nil
@@ -187,7 +191,7 @@ func (c *checker) analyseRealized(l *Loop, sh loopShape, fwd, fb []element, over
 	lc.diags, lc.pending = &diagList{}, nil
 	rl := &Loop{Name: l.Name, Stmt: l.Stmt, Forward: l.Forward, Feedback: l.Feedback, Positive: l.Positive, Gains: l.Gains}
 	lc.analyse(rl, sh, f2, b2)
-	return rl, names
+	return rl, &RealizedLoop{Blocks: names, Elements: append(r1, r2...), Figures: rl}
 }
 
 // realizedLoop analyses the loop with its realized blocks in place and
@@ -197,13 +201,13 @@ func (c *checker) realizedLoop(l *Loop, sh loopShape, fwd, fb []element) {
 	if !l.OK || c.env.Options.Quick {
 		return
 	}
-	rl, names := c.analyseRealized(l, sh, fwd, fb, nil, nil)
+	rl, info := c.analyseRealized(l, sh, fwd, fb, nil, nil)
 	if rl == nil {
 		return
 	}
-	l.Realized = &RealizedLoop{Blocks: names, Figures: rl}
+	l.Realized = info
 	if !rl.OK {
-		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s with %s realized could not be analysed; no realized verdict", l.Name, strings.Join(names, ", ")))
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s with %s realized could not be analysed; no realized verdict", l.Name, strings.Join(info.Blocks, ", ")))
 		return
 	}
 	msg := realizedMiss(l, rl)
