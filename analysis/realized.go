@@ -137,10 +137,14 @@ func (c *checker) blockRealizationChecks(d *Decl, bv *blockValue, r *Realization
 			short = append(short, fmt.Sprintf("%s needs %d integer bits, has %d", n.Name, n.IntBits, n.Have))
 		}
 	}
+	safe := fmt.Sprintf("Inputs up to |x| = %s are safe (l1-norm bound); beyond, the output saturates", fmtNum(h.MaxInput))
+	if h.Truncated {
+		safe = "The impulse responses were cut before they decayed, so these are lower bounds and no safe input size is claimed"
+	}
 	if len(short) > 0 {
 		c.diags.add(c.res.Path, r.Stmt.Span, Warning, CodeRealizeHeadroom,
-			fmt.Sprintf("block %s in %s can overflow for a full-scale input (|x| up to %s): %s. Inputs up to |x| = %s are safe (l1-norm bound); beyond, the output saturates",
-				d.Name, r.Format, fmtNum(r.Format.MaxValue()), strings.Join(short, "; "), fmtNum(h.MaxInput)))
+			fmt.Sprintf("block %s in %s can overflow for a full-scale input (|x| up to %s): %s. %s",
+				d.Name, r.Format, fmtNum(r.Format.MaxValue()), strings.Join(short, "; "), safe))
 	}
 }
 

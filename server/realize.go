@@ -57,9 +57,12 @@ func realizeHover(res *analysis.Result, rs *syntax.RealizeStmt) string {
 		for _, n := range h.Nodes {
 			fmt.Fprintf(&b, "| %s | %s | %d | %d |\n", n.Name, analysis.FormatNumber(n.L1), n.IntBits, n.Have)
 		}
-		if h.Bounded {
+		switch {
+		case h.Truncated:
+			b.WriteString("\nthe impulse responses were cut before they decayed: the norms are lower bounds and no safe input size is claimed\n")
+		case h.Bounded:
 			fmt.Fprintf(&b, "\nno overflow for inputs up to |x| = %s (l1-norm bound, output rounding included)\n", analysis.FormatNumber(h.MaxInput))
-		} else {
+		default:
 			b.WriteString("\na pole on or outside the circle: a sustained input overflows\n")
 		}
 	}

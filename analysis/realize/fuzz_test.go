@@ -17,7 +17,11 @@ func FuzzRealize(f *testing.F) {
 	f.Add([]byte{1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12})
 	f.Add([]byte{200, 14, 3, 90, 91, 92, 93, 1, 1, 1, 1, 1, 1, 1, 1})
 	f.Add([]byte{0, 0, 0, 0})
-	f.Fuzz(func(t *testing.T, data []byte) {
+	f.Fuzz(fuzzOne)
+}
+
+func fuzzOne(t *testing.T, data []byte) {
+	{
 		in := fuzzin.New(data)
 		st := Structure(in.Byte() % 3)
 		kind := in.Byte()
@@ -57,7 +61,7 @@ func FuzzRealize(f *testing.F) {
 		if h.Bounded && !h.Truncated && h.MaxInput > fm.Quantum() && allFinite(h) && fm.N <= 40 {
 			checkAgainstExact(t, r, rng, 300)
 		}
-	})
+	}
 }
 
 func allFinite(h *Headroom) bool {

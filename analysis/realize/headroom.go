@@ -21,10 +21,11 @@ type Headroom struct {
 	// circle: the l1 norms are infinite and a sustained input overflows.
 	Bounded bool
 	// MaxInput is the largest |x| (in the block's input units) for which
-	// no node can overflow; 0 when not Bounded.
+	// no node can overflow; 0 when not Bounded or Truncated.
 	MaxInput float64
-	// Truncated: the impulse responses were cut at MaxImpulse samples
-	// before decaying to 1e-14, so the norms are lower bounds.
+	// Truncated: the impulse responses were cut (MaxImpulse samples, or
+	// the MaxHeadroomWork limit) before decaying to 1e-14, so the norms
+	// are lower bounds and no safe input is claimed.
 	Truncated bool
 }
 
@@ -51,6 +52,11 @@ func (n Node) Short() bool { return n.IntBits > n.Have }
 // norms (a pole at radius 0.99997 decays to 1e-14 in about 10^6 samples).
 const MaxImpulse = 1 << 20
 
+// MaxHeadroomWork caps samples × runs × nodes of the headroom computation
+// (about 60 ms on the 2-core CI machine): beyond it the norms are cut and
+// marked Truncated.
+const MaxHeadroomWork = 1 << 22
+
 func headroom(r *Realization, tol float64) *Headroom {
 	h := &Headroom{Bounded: r.MaxRadius < 1-tol}
 	names := nodeNames(r)
@@ -60,13 +66,17 @@ func headroom(r *Realization, tol float64) *Headroom {
 		}
 		return h
 	}
-	length := MaxImpulse
+	need := 4*len(names) + 4
 	if r.MaxRadius > 0 {
-		length = int(math.Min(MaxImpulse, math.Ceil(math.Log(1e-14)/math.Log(r.MaxRadius))+float64(4*len(names))))
-	} else {
-		length = 4*len(names) + 4
+		need = int(math.Min(MaxImpulse, math.Ceil(math.Log(1e-14)/math.Log(r.MaxRadius))+float64(4*len(names))))
 	}
-	h.Truncated = length >= MaxImpulse
+	// One run per noise source (each section) plus the input, over every
+	// node: cap the work so that a long, slow block stays within an
+	// editor's keystroke budget.
+	length := min(need, MaxHeadroomWork/((len(r.Sections)+1)*len(names)))
+	if length < need || need >= MaxImpulse {
+		h.Truncated = true
+	}
 	l1 := impulseNorms(r, -1, length)
 	noise := make([]float64, len(l1))
 	q := r.Format.Quantum() / 2
@@ -87,6 +97,9 @@ func headroom(r *Realization, tol float64) *Headroom {
 		h.Nodes = append(h.Nodes, nd)
 	}
 	h.MaxInput = math.Min(h.MaxInput, math.Min(fullScale, accumulatorLimit(r, h.Nodes)))
+	if h.Truncated {
+		h.MaxInput = 0 // the norms are lower bounds: no input bound is established
+	}
 	return h
 }
 
