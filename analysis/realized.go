@@ -214,7 +214,7 @@ func (c *checker) realizedLoop(l *Loop, sh loopShape, fwd, fb []element) {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s with %s realized could not be analysed; no realized verdict", l.Name, strings.Join(info.Blocks, ", ")))
 		return
 	}
-	msg := realizedMiss(l, rl)
+	msg, sev := realizedMiss(l, rl)
 	if msg == "" {
 		return
 	}
@@ -223,14 +223,18 @@ func (c *checker) realizedLoop(l *Loop, sh loopShape, fwd, fb []element) {
 		if r == nil || e.decl.Path != c.res.Path {
 			continue
 		}
-		x := c.diags.add(c.res.Path, r.Stmt.Span, Error, CodeRealizeLoop,
+		x := c.diags.add(c.res.Path, r.Stmt.Span, sev, CodeRealizeLoop,
 			fmt.Sprintf("with %s realized as %s, loop %s %s; the ideal loop does not. Choose a wider format or another structure", e.name, r.Label(), l.Name, msg))
 		x.Related = append(x.Related, Related{Path: c.res.Path, Span: l.Stmt.Name.Span, Message: "loop " + l.Name})
 		d := e.decl
 		bv := &blockValue{tf: e.tf, ok: true}
 		x.Fixes = c.realizeFixes(d, bv, r, func(cand *realize.Realization) bool {
 			cl, _ := c.analyseRealized(l, sh, fwd, fb, e.block, cand)
-			return cl != nil && cl.OK && realizedMiss(l, cl) == ""
+			if cl == nil || !cl.OK {
+				return false
+			}
+			miss, _ := realizedMiss(l, cl)
+			return miss == ""
 		})
 	}
 }
@@ -243,17 +247,22 @@ func realizationOf(e element) *Realization {
 }
 
 // realizedMiss says what the realized loop loses against the ideal one:
-// stability, or a requirement the ideal loop meets; "" when nothing.
-func realizedMiss(ideal, rl *Loop) string {
+// stability, or a requirement the ideal loop meets; "" when nothing. Losing
+// stability or a written requirement is an error, a default one a warning.
+func realizedMiss(ideal, rl *Loop) (string, Severity) {
 	if ideal.Stable && !rl.Stable {
-		return fmt.Sprintf("is UNSTABLE (largest closed-loop pole radius %s, ideal %s)", FormatRadius(rl.MaxRadius), FormatRadius(ideal.MaxRadius))
+		return fmt.Sprintf("is UNSTABLE (largest closed-loop pole radius %s, ideal %s)", FormatRadius(rl.MaxRadius), FormatRadius(ideal.MaxRadius)), Error
 	}
 	for i, q := range rl.Requirements {
 		if i < len(ideal.Requirements) && ideal.Requirements[i].Met && !q.Met {
-			return fmt.Sprintf("misses %s %s %s (got %s, ideal %s)", q.Metric, q.Op, fmtNum(q.Want), q.GotText, ideal.Requirements[i].GotText)
+			what, sev := "", Error
+			if q.Item == nil {
+				what, sev = "the default ", Warning
+			}
+			return fmt.Sprintf("misses %s%s %s %s (got %s, ideal %s)", what, q.Metric, q.Op, fmtNum(q.Want), q.GotText, ideal.Requirements[i].GotText), sev
 		}
 	}
-	return ""
+	return "", 0
 }
 
 // realizeFixes offers, per structure (the written one first), the
