@@ -30,7 +30,9 @@ func TestExportCommand(t *testing.T) {
 		t.Fatalf("export good.loop: exit %d\n%s", code, out)
 	}
 	code, js, _ := exp("--lang", "json", "good.loop")
-	var doc struct{ Blocks []struct{ Test struct{ Output []int64 } } }
+	var doc struct {
+		Blocks []struct{ Test struct{ Output []int64 } }
+	}
 	if code != 0 || json.Unmarshal([]byte(js), &doc) != nil || len(doc.Blocks) != 1 || len(doc.Blocks[0].Test.Output) != 64 {
 		t.Fatalf("export --lang json: exit %d\n%s", code, js)
 	}
