@@ -120,7 +120,7 @@ func TestPolesAgainstNumpy(t *testing.T) {
 		got = append(got, r)
 		rc := refCase{Name: k.name, Delta: r.Delta(), Format: formatJSON(f)}
 		for _, s := range r.Ideal {
-			rc.Sections = append(rc.Sections, refSection{s.B, s.A})
+			rc.Sections = append(rc.Sections, refSection(s))
 		}
 		req.Cases = append(req.Cases, rc)
 	}
