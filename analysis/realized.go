@@ -96,6 +96,12 @@ func (c *checker) realizeBlock(ev *evaluator, d *Decl, rs *syntax.RealizeStmt) *
 		return nil
 	}
 	out := &Realization{Stmt: rs, Realization: r}
+	if sec, silenced := r.Silenced(); silenced {
+		x := c.diags.add(c.res.Path, rs.Format.Span, Error, CodeRealizeRange,
+			fmt.Sprintf("block %s as %s in %s: every numerator coefficient of section %d rounds to 0 (below half of 2^-%d): the realized block outputs nothing", d.Name, st, f, sec, f.N))
+		x.Fixes = c.realizeFixes(d, bv, out, nil)
+		return nil
+	}
 	c.blockRealizationChecks(d, bv, out)
 	return out
 }
@@ -281,7 +287,10 @@ func (c *checker) realizeFixes(d *Decl, bv *blockValue, cur *Realization, keeps 
 	for _, st := range order {
 		for _, f := range candidateFormats(cur.Format) {
 			r := tryFormat(bv, st, f, c.res.SampleT, tol)
-			if r == nil || outside(r.Poles, tol) > outside(r.IdealPoles, tol) || (keeps != nil && !keeps(r)) {
+			if r == nil || outside(r.Poles, tol) > outside(r.IdealPoles, tol) {
+				continue
+			}
+			if _, silenced := r.Silenced(); silenced || (keeps != nil && !keeps(r)) {
 				continue
 			}
 			label := st.String() + " in " + r.Format.String()

@@ -511,3 +511,18 @@ func TestRealizeHover(t *testing.T) {
 		}
 	}
 }
+
+// The loop hover adds the loop's figures with its realized blocks in place.
+func TestRealizedLoopHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\nrealize lp as direct in q0.3\nloop coarse {\n  forward lp\n}\n"
+	uri := c.open("rzl.loop", text)
+	var h protocol.Hover
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(3, 6)), &h); err != nil {
+		t.Fatal(err)
+	}
+	// q0.3: z − 0.875 + 0.125 closes at z = 0.75.
+	if !strings.Contains(h.Contents.Value, "**realized** (lp as direct in q0.3): stable, largest pole radius 0.75") {
+		t.Errorf("loop hover:\n%s", h.Contents.Value)
+	}
+}

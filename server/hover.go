@@ -68,7 +68,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 		}
 		switch {
 		case t.loop != nil:
-			md = loopHover(t.loop)
+			md = loopHover(t.loop) + realizedLoopText(t.loop)
 		case t.lstmt != nil:
 			md = fmt.Sprintf("**loop %s**: not analysed", t.name)
 		case t.decl != nil && t.decl.Gain != nil:

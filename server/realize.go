@@ -76,3 +76,34 @@ func nums(v []float64) string {
 	}
 	return strings.Join(out, ", ")
 }
+
+// realizedLoopText is the loop hover's part on the loop as it runs with its
+// realized blocks (empty when none is realized).
+func realizedLoopText(l *analysis.Loop) string {
+	rl := l.Realized
+	if rl == nil {
+		return ""
+	}
+	var names []string
+	for i, n := range rl.Blocks {
+		names = append(names, fmt.Sprintf("%s as %s in %s", n, rl.Elements[i].Structure, rl.Elements[i].Format))
+	}
+	f := rl.Figures
+	head := "\n\n**realized** (" + strings.Join(names, ", ") + "): "
+	if !f.OK {
+		return head + "not analysed\n"
+	}
+	verdict := "stable"
+	if !f.Stable {
+		verdict = "**UNSTABLE**"
+	}
+	return head + fmt.Sprintf("%s, largest pole radius %s, gain margin %s, phase margin %s\n",
+		verdict, analysis.FormatRadius(f.MaxRadius), marginText(f.Margins.GainMarginDB, " dB"), marginText(f.Margins.PhaseMarginDeg, "°"))
+}
+
+func marginText(p *float64, unit string) string {
+	if p == nil {
+		return "unlimited (no crossing)"
+	}
+	return analysis.FormatNumber(*p) + unit
+}

@@ -217,3 +217,23 @@ func maxShift(ideal, rounded []complex128) float64 {
 	}
 	return worst
 }
+
+// Silenced reports whether rounding turned a section's numerator, nonzero
+// in the ideal structure, into zeros: the realized block outputs nothing.
+func (r *Realization) Silenced() (section int, ok bool) {
+	for i, s := range r.Sections {
+		if allZero(s.B) && !allZero(r.Ideal[i].B) {
+			return i + 1, true
+		}
+	}
+	return 0, false
+}
+
+func allZero(v []float64) bool {
+	for _, x := range v {
+		if x != 0 {
+			return false
+		}
+	}
+	return true
+}
