@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math/cmplx"
+	"path/filepath"
 	"strings"
 
 	"ringside/analysis/realize"
@@ -33,10 +34,24 @@ type RealizedLoop struct {
 	Figures *Loop
 }
 
-// realizations reads this file's `realize` lines.
+// realizations reads the `realize` lines of this file and of the files it
+// uses (a block runs as its own file says wherever a loop uses it); only
+// this file's lines are reported on.
 func (c *checker) realizations(ev *evaluator) {
+	for _, u := range c.ld.order {
+		uc := c
+		if u != c.root {
+			quiet := *c
+			quiet.diags = &diagList{}
+			uc = &quiet
+		}
+		uc.realizeLines(ev, u)
+	}
+}
+
+func (c *checker) realizeLines(ev *evaluator, u *unit) {
 	seen := map[string]*syntax.RealizeStmt{}
-	for _, st := range c.root.file.Stmts {
+	for _, st := range u.file.Stmts {
 		rs, ok := st.(*syntax.RealizeStmt)
 		if !ok || rs.Block == nil {
 			continue
@@ -50,8 +65,11 @@ func (c *checker) realizations(ev *evaluator) {
 		case d.Block == nil:
 			c.diags.add(c.res.Path, rs.Block.Span, Error, CodeBadRealize, fmt.Sprintf("%s is a gain; realize applies to blocks (a gain is realized inside the block that uses it)", name))
 			continue
+		case d.Path != u.path:
+			c.diags.add(c.res.Path, rs.Block.Span, Error, CodeBadRealize, fmt.Sprintf("block %s is declared in %s; write its realize line there, next to the block", name, filepath.Base(d.Path)))
+			continue
 		case seen[name] != nil:
-			line, _ := c.root.file.Lines.LineCol(seen[name].From)
+			line, _ := u.file.Lines.LineCol(seen[name].From)
 			c.diags.add(c.res.Path, rs.Span, Error, CodeBadRealize, fmt.Sprintf("block %s already has a realize line (line %d); a block runs in one structure and format", name, line))
 			continue
 		}
@@ -246,7 +264,7 @@ func (c *checker) realizedLoop(l *Loop, sh loopShape, fwd, fb []element) {
 }
 
 func realizationOf(e element) *Realization {
-	if e.block == nil || e.block.Realization == nil {
+	if e.block == nil || e.block.Realization == nil || e.block.Realization.Realization == nil {
 		return nil
 	}
 	return e.block.Realization

@@ -67,3 +67,17 @@ func TestRealizeFixTitlesCarryTheirPoleShift(t *testing.T) {
 		t.Errorf("second fix %q, want sections in q1.14", d.Fixes[1].Title)
 	}
 }
+
+// A block realized in its own file runs realized in every loop that uses
+// it; a realize line for a used block is refused in the using file.
+func TestRealizeAcrossFiles(t *testing.T) {
+	plant := "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\nrealize lp as direct in q0.3\n"
+	r := checkSrc(t, "use \"filters.loop\"\nloop l {\n  forward lp\n}\n", map[string]string{"filters.loop": plant})
+	if rl := r.Loops[0].Realized; rl == nil || !rl.Figures.OK || math.Abs(rl.Figures.MaxRadius-0.75) > 1e-12 {
+		t.Fatalf("loop over a used realized block: %+v", r.Loops[0].Realized)
+	}
+	r = checkSrc(t, "use \"filters.loop\"\nrealize lp as sections in q1.14\n", map[string]string{"filters.loop": "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\n"})
+	if d := findDiag(r, CodeBadRealize); d == nil || !strings.Contains(d.Message, "declared in filters.loop") {
+		t.Fatalf("realize of a used block: %v", r.Diagnostics)
+	}
+}
