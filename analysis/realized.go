@@ -3,6 +3,7 @@ package analysis
 import (
 	"errors"
 	"fmt"
+	"math"
 	"math/cmplx"
 	"path/filepath"
 	"strings"
@@ -200,6 +201,7 @@ func swapRealized(es []element, override *Block, with *realize.Realization) ([]e
 			continue
 		}
 		out[i].tf = r.TF
+		out[i].fac, out[i].facErr = r.Factored()
 		names = append(names, e.name)
 		used = append(used, r)
 	}
@@ -219,6 +221,7 @@ func (c *checker) analyseRealized(l *Loop, sh loopShape, fwd, fb []element, over
 	lc.diags, lc.pending = &diagList{}, nil
 	rl := &Loop{Name: l.Name, Stmt: l.Stmt, Forward: l.Forward, Feedback: l.Feedback, Positive: l.Positive, Gains: l.Gains}
 	lc.analyse(rl, sh, f2, b2)
+	trimStep(rl)
 	return rl, &RealizedLoop{Blocks: names, Elements: append(r1, r2...), Figures: rl}
 }
 
@@ -274,6 +277,9 @@ func realizationOf(e element) *Realization {
 // stability, or a requirement the ideal loop meets; "" when nothing. Losing
 // stability or a written requirement is an error, a default one a warning.
 func realizedMiss(ideal, rl *Loop) (string, Severity) {
+	if ideal.Stable && rl.Undecided {
+		return "cannot be shown stable: a closed-loop pole's error bound straddles the unit circle; no realized verdict is given", Warning
+	}
 	if ideal.Stable && !rl.Stable {
 		return fmt.Sprintf("is UNSTABLE (largest closed-loop pole radius %s, ideal %s)", FormatRadius(rl.MaxRadius), FormatRadius(ideal.MaxRadius)), Error
 	}
@@ -283,7 +289,7 @@ func realizedMiss(ideal, rl *Loop) (string, Severity) {
 			if q.Item == nil {
 				what, sev = "the default ", Warning
 			}
-			return fmt.Sprintf("misses %s%s %s %s (got %s, ideal %s)", what, q.Metric, q.Op, fmtNum(q.Want), q.GotText, ideal.Requirements[i].GotText), sev
+			return fmt.Sprintf("misses %s%s %s %s (got %s, ideal %s)", what, q.Metric, q.Op, strings.TrimSpace(fmtNum(q.Want)+" "+q.Unit), gotText(q), gotText(ideal.Requirements[i])), sev
 		}
 	}
 	return "", 0
@@ -355,4 +361,36 @@ func tryFormat(bv *blockValue, st realize.Structure, f realize.Format, T, tol fl
 		}
 		f = realize.Format{Kind: realize.Fixed, M: re.NeedM, N: w - 1 - re.NeedM}
 	}
+}
+
+// realizeKey is what a loop's memo key needs of an element's realization:
+// its realize line as written ("" when the element is not realized).
+func (c *checker) realizeKey(e element) string {
+	r := realizationOf(e)
+	if r == nil {
+		return ""
+	}
+	f := c.res.Files[e.decl.Path]
+	if f == nil {
+		return ""
+	}
+	return stmtText(f.Src, r.Stmt)
+}
+
+// realizeStmt is the realize line of d's block in this check (nil when it
+// has none that was realized).
+func realizeStmt(d *Decl) syntax.Node {
+	if d.Block == nil || d.Block.Realization == nil {
+		return nil
+	}
+	return d.Block.Realization.Stmt
+}
+
+// gotText is a requirement's figure with six significant digits, so that a
+// value just past the limit does not print as the limit itself.
+func gotText(q Requirement) string {
+	if q.Got == nil || math.IsInf(*q.Got, 0) {
+		return q.GotText
+	}
+	return strings.TrimSpace(fmtNum(*q.Got) + " " + q.Unit)
 }

@@ -3,6 +3,7 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -79,5 +80,21 @@ func TestRealizeAcrossFiles(t *testing.T) {
 	r = checkSrc(t, "use \"filters.loop\"\nrealize lp as sections in q1.14\n", map[string]string{"filters.loop": "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\n"})
 	if d := findDiag(r, CodeBadRealize); d == nil || !strings.Contains(d.Message, "declared in filters.loop") {
 		t.Fatalf("realize of a used block: %v", r.Diagnostics)
+	}
+}
+
+// Editing a realize line re-analyses the loops of its block: the memoised
+// result equals a fresh check.
+func TestMemoRealizeEdit(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "r.loop")
+	env := Env{Roots: []string{dir}}
+	memo := NewMemo()
+	src := "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\nrealize lp as direct in q0.3\nloop coarse {\n  forward lp\n}\n"
+	first := checkBoth(t, memo, path, []byte(src), env)
+	second := checkBoth(t, memo, path, []byte(strings.Replace(src, "q0.3", "q0.12", 1)), env)
+	a, b := first.Loops[0].Realized, second.Loops[0].Realized
+	if a == nil || b == nil || a.Figures.MaxRadius == b.Figures.MaxRadius {
+		t.Fatalf("realized radius %v then %v: the edit did not reach the loop", a, b)
 	}
 }

@@ -85,7 +85,10 @@ func loopText(l *analysis.Loop) string {
 		return "not analysed"
 	}
 	s := "UNSTABLE"
-	if l.Stable {
+	switch {
+	case l.Undecided:
+		s = "stability undecided"
+	case l.Stable:
 		s = "stable"
 	}
 	s += ", max radius " + analysis.FormatRadius(l.MaxRadius)

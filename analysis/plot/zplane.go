@@ -234,6 +234,9 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 		zp.legend = append(zp.legend, legendItem{"damping limit ζ = " + analysis.FormatNumber(*z), lim})
 	}
 
+	if err := zp.addRegion(p, l); err != nil {
+		return nil, err
+	}
 	scatter := func(zs []complex128, g draw.GlyphDrawer, col color.Color, r float64, text string) error {
 		if len(zs) == 0 {
 			return nil

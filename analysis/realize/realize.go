@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 )
@@ -142,11 +143,7 @@ func (r *Realization) round() error {
 func (r *Realization) zPoly(c []float64) poly.Poly {
 	n := len(c) - 1
 	if r.Structure != Delta {
-		p := make(poly.Poly, n+1)
-		for k, v := range c {
-			p[n-k] = v
-		}
-		return p
+		return qPoly(c)
 	}
 	d := r.Delta()
 	zm1 := poly.New(-1, 1)
@@ -236,4 +233,50 @@ func allZero(v []float64) bool {
 		}
 	}
 	return true
+}
+
+// qPoly is the polynomial Σ c[k] q^(n−k) in the structure's own operator q
+// (lowest power first).
+func qPoly(c []float64) poly.Poly {
+	n := len(c) - 1
+	p := make(poly.Poly, n+1)
+	for k, v := range c {
+		p[n-k] = v
+	}
+	return p
+}
+
+// Factored is the rounded structure's transfer function in z as gain, zeros
+// and poles, each section factored on its own (for the delta form in δ and
+// mapped by z = 1 + Δδ, gain times Δ^(poles − zeros)): the form the loop
+// analysis works on.
+func (r *Realization) Factored() (lti.Factored, error) {
+	f := lti.Const(1)
+	d := r.Delta()
+	for _, s := range r.Sections {
+		g := lti.Const(1)
+		if err := g.MulPoly(qPoly(s.B), 1); err != nil {
+			return lti.Factored{}, err
+		}
+		if err := g.MulPoly(qPoly(s.A), -1); err != nil {
+			return lti.Factored{}, err
+		}
+		if r.Structure == Delta {
+			g = toZ(g, d)
+		}
+		f = f.Mul(g)
+	}
+	return f, nil
+}
+
+// toZ maps a factored function of δ = (z − 1)/Δ to z.
+func toZ(g lti.Factored, d float64) lti.Factored {
+	out := lti.Factored{Gain: g.Gain * math.Pow(d, float64(len(g.Poles)-len(g.Zeros))), Err: g.Err * d}
+	for _, z := range g.Zeros {
+		out.Zeros = append(out.Zeros, 1+complex(d, 0)*z)
+	}
+	for _, p := range g.Poles {
+		out.Poles = append(out.Poles, 1+complex(d, 0)*p)
+	}
+	return out
 }
