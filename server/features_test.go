@@ -287,7 +287,7 @@ func TestFormatting(t *testing.T) {
 
 func TestSemanticTokens(t *testing.T) {
 	c := newClient(t, clientOptions{})
-	uri := c.open("sem.loop", "# é\nsample 1 ms\ngain kp = 2\nblock c = kp * z^-1 via zoh\nloop l {\n  forward c\n  require overshoot <= 5 %\n}\n")
+	uri := c.open("sem.loop", "# é\nsample 1 ms\ngain kp = 2\nblock c = kp * z^-1 via zoh\nloop l {\n  forward c\n  require overshoot <= 5 %\n}\nrealize c as sections in q1.14\n")
 	var st protocol.SemanticTokens
 	if err := c.call(protocol.MethodSemanticTokensFull, docParams(uri), &st); err != nil {
 		t.Fatal(err)
@@ -309,7 +309,8 @@ func TestSemanticTokens(t *testing.T) {
 		got = append(got, string(r[col:col+st.Data[i+2]])+"="+tokenTypes[st.Data[i+3]])
 	}
 	joined := strings.Join(got, " ")
-	for _, want := range []string{"# é=comment", "sample=keyword", "1=number", "ms=type", "kp=parameter", "c=function", "z=keyword", "zoh=enumMember", "l=variable", "forward=keyword", "overshoot=property", "<==operator", "%=type"} {
+	for _, want := range []string{"# é=comment", "sample=keyword", "1=number", "ms=type", "kp=parameter", "c=function", "z=keyword", "zoh=enumMember", "l=variable", "forward=keyword", "overshoot=property", "<==operator", "%=type",
+		"realize=keyword", "as=keyword", "sections=enumMember", "in=keyword", "q1.14=type"} {
 		if !strings.Contains(" "+joined+" ", " "+want+" ") {
 			t.Errorf("semantic tokens lack %q:\n%s", want, joined)
 		}

@@ -107,3 +107,18 @@ func marginText(p *float64, unit string) string {
 	}
 	return analysis.FormatNumber(*p) + unit
 }
+
+// realizeKinds classifies a realize line for semantic tokens: the block as
+// a block, as and in as keywords, the structure as an enum member and the
+// format (q1.14 is two lexer tokens) as one type token.
+func realizeKinds(n *syntax.RealizeStmt, res *analysis.Result, kinds map[syntax.Pos]int, units map[syntax.Pos]syntax.Span) {
+	if n.Block == nil || n.Structure == nil || n.Format == nil {
+		return
+	}
+	if k, ok := declKind(res.Scope[n.Block.Name]); ok {
+		kinds[n.Block.From] = k
+	}
+	kinds[n.AsKw.From], kinds[n.InKw.From] = tokKeyword, tokKeyword
+	kinds[n.Structure.From] = tokEnumMember
+	units[n.Format.From] = n.Format.Span
+}

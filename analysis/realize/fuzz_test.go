@@ -46,6 +46,9 @@ func fuzzOne(t *testing.T, data []byte) {
 			return
 		}
 		r.TestVector()
+		if fac, err := r.Factored(); err == nil && len(fac.Poles) != len(r.Poles) {
+			t.Fatalf("factored form has %d poles, the structure %d", len(fac.Poles), len(r.Poles))
+		}
 		if fm.Kind != Fixed {
 			return
 		}
