@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"ringside/analysis"
+	"ringside/analysis/realize"
 	"ringside/syntax"
 )
 
@@ -52,19 +53,8 @@ func realizeHover(res *analysis.Result, rs *syntax.RealizeStmt) string {
 	} else {
 		b.WriteString(": **not all inside the unit circle**\n")
 	}
-	if h := r.Headroom; h != nil {
-		b.WriteString("\n| signal | l1 norm | integer bits needed | has |\n|---|---|---|---|\n")
-		for _, n := range h.Nodes {
-			fmt.Fprintf(&b, "| %s | %s | %d | %d |\n", n.Name, analysis.FormatNumber(n.L1), n.IntBits, n.Have)
-		}
-		switch {
-		case h.Truncated:
-			b.WriteString("\nthe impulse responses were cut before they decayed: the norms are lower bounds and no safe input size is claimed\n")
-		case h.Bounded:
-			fmt.Fprintf(&b, "\nno overflow for inputs up to |x| = %s (l1-norm bound, output rounding included)\n", analysis.FormatNumber(h.MaxInput))
-		default:
-			b.WriteString("\na pole on or outside the circle: a sustained input overflows\n")
-		}
+	if r.Headroom != nil {
+		b.WriteString(headroomText(r.Headroom))
 	}
 	return b.String()
 }
@@ -121,4 +111,22 @@ func realizeKinds(n *syntax.RealizeStmt, res *analysis.Result, kinds map[syntax.
 	kinds[n.AsKw.From], kinds[n.InKw.From] = tokKeyword, tokKeyword
 	kinds[n.Structure.From] = tokEnumMember
 	units[n.Format.From] = n.Format.Span
+}
+
+// headroomText is the hover's headroom table and safe input size.
+func headroomText(h *realize.Headroom) string {
+	if !h.Bounded {
+		return "\nheadroom: a pole on or outside the circle, so no l1 norm is finite: a sustained input overflows\n"
+	}
+	var b strings.Builder
+	b.WriteString("\n| signal | l1 norm | integer bits needed | has |\n|---|---|---|---|\n")
+	for _, n := range h.Nodes {
+		fmt.Fprintf(&b, "| %s | %s | %d | %d |\n", n.Name, analysis.FormatNumber(n.L1), n.IntBits, n.Have)
+	}
+	if h.Truncated {
+		b.WriteString("\nthe impulse responses were cut before they decayed: the norms are lower bounds and no safe input size is claimed\n")
+	} else {
+		fmt.Fprintf(&b, "\nno overflow for inputs up to |x| = %s (l1-norm bound, output rounding included)\n", analysis.FormatNumber(h.MaxInput))
+	}
+	return b.String()
 }
