@@ -145,10 +145,14 @@ func (c *checker) blockRealizationChecks(d *Decl, bv *blockValue, r *Realization
 				d.Name, r.Label(), fmtComplex(worst), FormatRadius(cmplx.Abs(worst)), fmtNum(r.MaxPoleShift)))
 		x.Fixes = c.realizeFixes(d, bv, r, nil)
 	}
-	h := r.Headroom
-	if h == nil {
-		return
+	if r.Headroom != nil {
+		c.headroomWarning(d, r)
 	}
+}
+
+// headroomWarning reports fixed-point signals that can overflow.
+func (c *checker) headroomWarning(d *Decl, r *Realization) {
+	h, tol := r.Headroom, c.env.Options.Tolerance
 	if !h.Bounded {
 		if outside(r.IdealPoles, tol) > 0 {
 			c.diags.add(c.res.Path, r.Stmt.Span, Warning, CodeRealizeHeadroom,
