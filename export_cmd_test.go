@@ -19,6 +19,7 @@ func TestExportCommand(t *testing.T) {
 	os.WriteFile("none.loop", []byte("sample 1 ms\nblock lp = 0.02 / (z^2 - 1.8z + 0.82)\n"), 0o644)
 	outside := t.TempDir()
 	os.Symlink(outside, "elsewhere")
+	os.Symlink("good.loop", "link.h")
 
 	exp := func(args ...string) (int, string, string) {
 		var out, errb bytes.Buffer
@@ -54,6 +55,7 @@ func TestExportCommand(t *testing.T) {
 		{[]string{"none.loop"}, 2, "no block of the file has a `realize` line"},
 		{[]string{"-o", filepath.Join(outside, "x.h"), "good.loop"}, 2, "outside the working folder"},
 		{[]string{"-o", "elsewhere/x.h", "good.loop"}, 2, "outside the working folder"},
+		{[]string{"-o", "link.h", "good.loop"}, 2, "cannot write link.h"},
 		{[]string{"--lang", "rust", "good.loop"}, 2, "usage"},
 		{[]string{"missing.loop"}, 2, "cannot read"},
 	} {

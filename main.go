@@ -369,9 +369,9 @@ func runExport(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	abs, _ := filepath.Abs(files[0])
-	src, err := os.ReadFile(abs)
+	src, err := readInput(abs)
 	if err != nil {
-		fmt.Fprintf(stderr, "ringside export: cannot read %s: %v\n", files[0], errors.Unwrap(err))
+		fmt.Fprintf(stderr, "ringside export: cannot read %s: %v\n", files[0], err)
 		return exitUsage
 	}
 	cwd, _ := os.Getwd()
@@ -397,7 +397,10 @@ func runExport(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *out == "" {
-		stdout.Write(data)
+		if _, err := stdout.Write(data); err != nil {
+			fmt.Fprintf(stderr, "ringside export: cannot write the output: %v\n", err)
+			return exitUsage
+		}
 		return 0
 	}
 	if err := export.WriteFile(cwd, *out, data); err != nil {
