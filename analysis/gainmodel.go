@@ -177,7 +177,7 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		if math.IsNaN(k) || math.IsInf(k, 0) {
 			continue
 		}
-		if len(ks) > 0 && math.Abs(k-ks[len(ks)-1]) <= scalingTol*math.Max(1, math.Abs(k)) {
+		if len(ks) > 0 && math.Abs(k-ks[len(ks)-1]) <= scalingTol*math.Abs(k) {
 			continue
 		}
 		if k == 0 && c.stableAt(name, k, loops) {

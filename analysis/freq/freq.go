@@ -189,7 +189,7 @@ func (lp loop) phaseCrossings(grid, g, gScale []float64, T float64) []Crossing {
 	var out []Crossing
 	for _, th := range lp.realAxis(grid, g, gScale) {
 		N, D := lp.eval(th)
-		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
+		if lp.singular(th, N, D) || real(N*cmplx.Conj(D)) >= 0 {
 			continue
 		}
 		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: -20 * math.Log10(cmplx.Abs(N/D))})
@@ -293,13 +293,28 @@ func (l loop) eval(th float64) (N, D complex128) {
 // value returns L(e^{jθ}); ok is false at a pole or zero on the circle.
 func (l loop) value(th float64) (complex128, bool) {
 	N, D := l.eval(th)
-	if l.singular(N, D) {
+	if l.singular(th, N, D) {
 		return 0, false
 	}
 	return N / D, true
 }
 
-func (l loop) singular(N, D complex128) bool {
+// singular reports a pole or zero of L on the circle at θ. In factored form
+// that is a factor z − r within SingularTol of vanishing there (a tiny |L|
+// from a tiny gain is not a zero); from polynomials, |D| or |N| negligible
+// beside |N| + |D|.
+func (l loop) singular(th float64, N, D complex128) bool {
+	if l.fac != nil {
+		z := cmplx.Rect(1, th)
+		for _, rs := range [][]complex128{l.fac.Zeros, l.fac.Poles} {
+			for _, r := range rs {
+				if cmplx.Abs(z-r) <= SingularTol*math.Max(1, cmplx.Abs(r)) {
+					return true
+				}
+			}
+		}
+		return D == 0 || N == 0
+	}
 	s := cmplx.Abs(N) + cmplx.Abs(D)
 	return cmplx.Abs(D) <= SingularTol*s || cmplx.Abs(N) <= SingularTol*s
 }

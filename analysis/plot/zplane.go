@@ -101,6 +101,24 @@ func (c poleChecks) breaks(p pole.Info) bool {
 
 // openRoots returns the roots of a polynomial of L. A constant has none;
 // the zero polynomial (L ≡ 0 has no zeros worth drawing) gives none either.
+// openPolesZeros returns L's poles and zeros as written: from the loop's
+// factored model when there is one (exact, any order), else as roots of
+// L's polynomials.
+func openPolesZeros(l *analysis.Loop) (poles, zeros []complex128, err error) {
+	if l.Model != nil {
+		f := l.Model.Written()
+		if f.Gain == 0 {
+			return f.Poles, nil, nil
+		}
+		return f.Poles, f.Zeros, nil
+	}
+	if poles, err = openRoots(l.Open.Den, "poles"); err != nil {
+		return nil, nil, err
+	}
+	zeros, err = openRoots(l.Open.Num, "zeros")
+	return poles, zeros, err
+}
+
 func openRoots(p []float64, what string) ([]complex128, error) {
 	q := trimPoly(p)
 	if len(q) <= 1 {
@@ -161,11 +179,7 @@ func dampingCurve(zeta float64) plotter.XYs {
 }
 
 func newZPlane(l *analysis.Loop) (*zPlane, error) {
-	open, err := openRoots(l.Open.Den, "poles")
-	if err != nil {
-		return nil, err
-	}
-	zeros, err := openRoots(l.Open.Num, "zeros")
+	open, zeros, err := openPolesZeros(l)
 	if err != nil {
 		return nil, err
 	}
