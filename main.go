@@ -1,7 +1,7 @@
 // Command ringside checks .loop files of discrete-time control loops, from
 // the command line or as a language server.
 //
-//	ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
+//	ringside check [--format text|json|sarif] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
 //	ringside fmt [-w] FILE...
 //	ringside plot FILE [--loop NAME] [-o OUT]
 //	ringside serve [--stdio] [--log-file PATH] [--log-level LEVEL]
@@ -10,7 +10,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -18,12 +17,14 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"sort"
 	"strings"
 
 	"ringside/analysis"
 	"ringside/analysis/plot"
 	"ringside/analysis/report"
+	"ringside/internal/fileio"
 	"ringside/server"
 	"ringside/syntax"
 )
@@ -34,13 +35,17 @@ const version = "0.1.0"
 const usage = `ringside: stability, margins and gain limits of discrete-time control loops in .loop files
 
 usage:
-  ringside check [--format text|json|sarif] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
+  ringside check [--format text|json|sarif] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
   ringside fmt [-w] FILE...
   ringside plot FILE [--loop NAME] [-o OUT.svg|OUT.png|OUT.html]
   ringside serve [--stdio] [--log-file PATH] [--log-level debug|info|warn|error]
 
 check exits 0 when no file has errors, 1 when any has, 2 on usage errors or unreadable input.
 `
+
+// checkMemoryLimit is the soft heap limit of `check` (GOMEMLIMIT
+// overrides it): about three times what a 2,000-loop file's result keeps.
+const checkMemoryLimit = 96 << 20
 
 // exitUsage is the exit status for bad usage or unreadable input.
 const exitUsage = 2
@@ -95,6 +100,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	fset := flag.NewFlagSet("check", flag.ContinueOnError)
 	fset.SetOutput(stderr)
 	format := fset.String("format", "text", "output format: text, json or sarif")
+	indent := fset.Bool("indent", false, "lay JSON and SARIF out for people (compact by default)")
 	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
 	opts := analysis.DefaultOptions()
 	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
@@ -122,21 +128,10 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if *root != "" {
 		rootDir, _ = filepath.Abs(*root)
 	}
-	files, err := collect(paths)
+	files, err := collect(paths, stderr)
 	if err != nil {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
-	}
-	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
-	var results []*analysis.Result
-	for _, f := range files {
-		abs, _ := filepath.Abs(f)
-		src, err := os.ReadFile(abs)
-		if err != nil {
-			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
-			return exitUsage
-		}
-		results = append(results, analysis.Check(context.Background(), abs, src, env))
 	}
 	display := func(p string) string {
 		if rel, err := filepath.Rel(cwd, p); err == nil && !strings.HasPrefix(rel, "..") {
@@ -144,31 +139,52 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		}
 		return p
 	}
-	switch *format {
-	case "json":
-		writeJSON(stdout, report.Build(results, display))
-	case "sarif":
-		writeJSON(stdout, report.SARIF(results, display, version))
-	default:
-		report.Text(stdout, results, display)
+	// One file at a time, written as soon as it is checked: memory is
+	// bounded by the largest file. A check allocates far more than it
+	// keeps (a 2,000-loop file keeps about 30 MB); the soft limit makes the
+	// collector reclaim that garbage before the footprint grows past it.
+	if os.Getenv("GOMEMLIMIT") == "" {
+		debug.SetMemoryLimit(checkMemoryLimit)
 	}
-	for _, r := range results {
+	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
+	out := report.NewStream(*format, stdout, display, version, *indent)
+	status := 0
+	for _, f := range files {
+		abs, _ := filepath.Abs(f)
+		src, err := readInput(abs)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, err)
+			_ = out.Close() // what was written stays a whole document
+			return exitUsage
+		}
+		r := analysis.Check(context.Background(), abs, src, env)
+		out.Add(r)
 		if r.HasErrors() {
-			return 1
+			status = 1
 		}
 	}
-	return 0
+	if err := out.Close(); err != nil {
+		fmt.Fprintf(stderr, "ringside check: writing the report: %v\n", err)
+		return exitUsage
+	}
+	return status
 }
 
-func writeJSON(w io.Writer, v any) {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	enc.SetEscapeHTML(false)
-	_ = enc.Encode(v)
+// readInput reads a .loop file named on the command line: a regular file
+// of at most analysis.MaxFileSize bytes, never blocking on a FIFO.
+func readInput(path string) ([]byte, error) {
+	src, err := fileio.ReadRegular(path, analysis.MaxFileSize)
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return nil, pe.Err
+	}
+	return src, err
 }
 
-// collect expands folders into the .loop files inside them, sorted.
-func collect(paths []string) ([]string, error) {
+// collect expands folders into the .loop files inside them, sorted. A
+// .loop entry that is not a regular file (a FIFO, a device, a link to
+// neither) is skipped with a note on stderr: it would block or never end.
+func collect(paths []string, stderr io.Writer) ([]string, error) {
 	var out []string
 	for _, p := range paths {
 		info, err := os.Stat(p)
@@ -187,9 +203,18 @@ func collect(paths []string) ([]string, error) {
 			if d.IsDir() && path != p && strings.HasPrefix(d.Name(), ".") {
 				return filepath.SkipDir
 			}
-			if !d.IsDir() && strings.HasSuffix(path, ".loop") {
-				found = append(found, path)
+			if d.IsDir() || !strings.HasSuffix(path, ".loop") {
+				return nil
 			}
+			if info, err := os.Stat(path); err != nil || !info.Mode().IsRegular() {
+				why := "cannot be read"
+				if err == nil {
+					why = fileio.NotRegularError(info.Mode()).Error()
+				}
+				fmt.Fprintf(stderr, "ringside check: skipped %s: %s\n", path, why)
+				return nil
+			}
+			found = append(found, path)
 			return nil
 		})
 		if err != nil {
@@ -218,28 +243,35 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 	}
 	status := 0
 	for _, f := range files {
-		src, err := os.ReadFile(f)
+		src, err := readInput(f)
 		if err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, errors.Unwrap(err))
+			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, err)
 			return exitUsage
 		}
 		out, err := syntax.Format(src)
-		if err != nil {
+		if errors.Is(err, syntax.ErrSyntax) {
 			fmt.Fprintf(stderr, "ringside fmt: %s: not formatted, fix its syntax first: %v\n", f, err)
 			status = 1
 			continue
 		}
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: %s: %v\n", f, err)
+			status = 1
+			continue
+		}
 		if !*write {
-			stdout.Write(out)
+			if _, err := stdout.Write(out); err != nil {
+				fmt.Fprintf(stderr, "ringside fmt: cannot write the output: %v\n", err)
+				return exitUsage
+			}
 			continue
 		}
 		if bytes.Equal(out, src) {
 			continue
 		}
-		info, _ := os.Stat(f)
-		if err := os.WriteFile(f, out, info.Mode().Perm()); err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot write %s: %v\n", f, err)
-			status = 1
+		if err := fileio.WriteAtomic(f, out, 0o644); err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: cannot write %s (left as it was): %v\n", f, err)
+			return exitUsage
 		}
 	}
 	return status
@@ -260,9 +292,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	abs, _ := filepath.Abs(files[0])
-	src, err := os.ReadFile(abs)
+	src, err := readInput(abs)
 	if err != nil {
-		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], errors.Unwrap(err))
+		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], err)
 		return exitUsage
 	}
 	rootDir, _ := os.Getwd()
@@ -314,10 +346,13 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *out == "" {
-		stdout.Write(data)
+		if _, err := stdout.Write(data); err != nil {
+			fmt.Fprintf(stderr, "ringside plot: cannot write the output: %v\n", err)
+			return exitUsage
+		}
 		return 0
 	}
-	if err := os.WriteFile(*out, data, 0o644); err != nil {
+	if err := fileio.WriteAtomic(*out, data, 0o644); err != nil {
 		fmt.Fprintf(stderr, "ringside plot: cannot write %s: %v\n", *out, err)
 		return exitUsage
 	}

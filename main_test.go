@@ -20,7 +20,7 @@ var update = flag.Bool("update", false, "rewrite the golden check outputs of tes
 func TestDemoGolden(t *testing.T) {
 	for _, format := range []string{"text", "json", "sarif"} {
 		var out, errb bytes.Buffer
-		code := run([]string{"check", "--format", format, "testdata/demo"}, nil, &out, &errb)
+		code := run([]string{"check", "--format", format, "--indent", "testdata/demo"}, nil, &out, &errb)
 		if code != 1 {
 			t.Fatalf("%s: exit %d, want 1 (the demo has unstable loops); stderr: %s", format, code, errb.String())
 		}
@@ -170,4 +170,24 @@ func TestImportDirection(t *testing.T) {
 	check("analysis", func(p string) bool {
 		return strings.HasPrefix(p, "ringside/server") || strings.HasPrefix(p, "go.lsp.dev") || strings.Contains(p, "jsonrpc")
 	})
+}
+
+// failWriter fails every write, like a full disk or a closed pipe.
+type failWriter struct{}
+
+func (failWriter) Write([]byte) (int, error) { return 0, os.ErrClosed }
+
+// Every output path reports a failed write or encoding with exit status 2;
+// nothing vanishes silently.
+func TestOutputErrorsExit2(t *testing.T) {
+	dir := t.TempDir()
+	f := filepath.Join(dir, "a.loop")
+	os.WriteFile(f, []byte("sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n}\n"), 0o644)
+	for _, args := range [][]string{{"check", "--root", dir, f}, {"check", "--format", "json", "--root", dir, f},
+		{"check", "--format", "sarif", "--root", dir, f}, {"fmt", f}, {"plot", "--root", dir, f}} {
+		var errb bytes.Buffer
+		if code := run(args, nil, failWriter{}, &errb); code != 2 || errb.Len() == 0 {
+			t.Errorf("%v: exit %d, stderr %q", args, code, errb.String())
+		}
+	}
 }

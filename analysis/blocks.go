@@ -28,16 +28,8 @@ func (c *checker) blocks(ev *evaluator) {
 			continue
 		}
 		bv := ev.block(d)
-		b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
-		b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
-		b.Gains = sortedKeys(bv.gains)
+		fillBlock(b, bv)
 		if b.Var == 's' {
-			if b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
-				b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
-				if p := b.Stmt.Via.Prewarp; p != nil {
-					b.PrewarpHz, _ = prewarpHz(p)
-				}
-			}
 			if c.res.SampleT == 0 {
 				needSample = true
 			}
@@ -52,6 +44,19 @@ func (c *checker) blocks(ev *evaluator) {
 	}
 	if needSample || (c.res.SampleT == 0 && len(c.loopStmts()) > 0) {
 		c.noSample()
+	}
+}
+
+// fillBlock copies an evaluation into the block.
+func fillBlock(b *Block, bv *blockValue) {
+	b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
+	b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
+	b.Gains = sortedKeys(bv.gains)
+	if b.Var == 's' && b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
+		b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
+		if p := b.Stmt.Via.Prewarp; p != nil {
+			b.PrewarpHz, _ = prewarpHz(p)
+		}
 	}
 }
 
@@ -74,9 +79,13 @@ func (c *checker) noSample() {
 			span.To = l.LineEnd(0)
 		}
 	}
+	// The new line goes after a byte order mark, which is part of nothing,
+	// and uses the file's own line break.
+	src := c.root.file.Src
+	bom := syntax.Pos(syntax.BOMLen(src))
 	x := c.diags.add(c.res.Path, span, Error, CodeNoSample,
 		"no sample line: s blocks cannot be discretized and frequencies cannot be given in Hz without the sample period; add one, e.g. `sample 1 ms`")
-	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: 0, To: 0}, NewText: "sample 1 ms\n"}}})
+	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: bom, To: bom}, NewText: "sample 1 ms" + syntax.LineBreak(src)}}})
 }
 
 // continuousChecks warns of continuous poles beyond Nyquist and shared
@@ -88,7 +97,7 @@ func (c *checker) continuousChecks(b *Block) {
 		return
 	}
 	nyq := math.Pi / c.res.SampleT // rad/s
-	pr, err := roots.Find(b.Cont.Den)
+	pr, err := c.findRoots(b.Cont.Den)
 	if err != nil {
 		return
 	}
@@ -107,8 +116,8 @@ func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Spa
 	if r.Num.Degree() < 1 || r.Den.Degree() < 1 {
 		return
 	}
-	nr, err1 := roots.Find(r.Num)
-	dr, err2 := roots.Find(r.Den)
+	nr, err1 := c.findRoots(r.Num)
+	dr, err2 := c.findRoots(r.Den)
 	if err1 != nil || err2 != nil {
 		return
 	}

@@ -43,9 +43,13 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	for _, e := range root.errs {
 		diags.add(path, e.Span, Error, CodeSyntax, e.Msg)
 	}
-	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}}
+	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}, memo: env.Memo.begin(path)}
 	c.run(ctx)
-	res.Diagnostics = diags.sorted(path)
+	if ctx.Err() == nil {
+		c.memo.commit()
+	}
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics)
 	return res
 }
 
@@ -65,6 +69,8 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
+	// memo is this check's view of Env.Memo (nil: none).
+	memo *memoRun
 }
 
 func (c *checker) run(ctx context.Context) {
@@ -81,6 +87,7 @@ func (c *checker) run(ctx context.Context) {
 			ev.block(d)
 		}
 	}
+	c.usedBlocks(ev)
 	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
 		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
@@ -103,11 +110,13 @@ func (c *checker) run(ctx context.Context) {
 		lc.diags, lc.pending = &diagList{}, nil
 		own[i] = &lc
 		if ctx.Err() != nil {
-			lc.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
-			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls}
+			// An error, so that a check that did not decide every loop
+			// never passes (exit status 1).
+			lc.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again with a larger --budget")
+			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
-		loops[i] = lc.loop(ev, ls)
+		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.guardedLoop(ev, ls) })
 	})
 	for i, lc := range own {
 		base := len(c.diags.list)
@@ -118,12 +127,48 @@ func (c *checker) run(ctx context.Context) {
 		}
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
+	c.robustLoops(ctx)
 	c.gainLimits(ctx)
 	c.summaries()
 }
 
+// guardedLoop analyses one loop; a panic inside the numerics (a bug, or a
+// library failing on a pathological matrix) becomes an error on the loop
+// with no verdict, never a crash of the check or a guessed figure.
+func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
+	defer func() {
+		if r := recover(); r != nil {
+			c.diags.list = nil
+			c.pending = nil
+			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric,
+				fmt.Sprintf("loop %s: the analysis failed inside its numerics (%v); no verdict: please report this file", ls.Name.Name, r))
+			l = &Loop{Name: ls.Name.Name, Stmt: ls}
+		}
+	}()
+	return c.loop(ev, ls)
+}
+
+// usedBlocks fills in the blocks of used files (transfer function, poles,
+// zeros) in the same pass, so that every view of such a block reads this
+// result. Their findings belong to the check of their own file.
+func (c *checker) usedBlocks(ev *evaluator) {
+	own := c.diags
+	c.diags = &diagList{}
+	defer func() { c.diags = own }()
+	for _, name := range sortedDecls(c.res.Scope) {
+		d := c.res.Scope[name]
+		if d.Block == nil || d.Path == c.res.Path {
+			continue
+		}
+		fillBlock(d.Block, ev.block(d))
+		if d.Block.OK {
+			c.blockPoles(d.Block)
+		}
+	}
+}
+
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
-	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags}
+	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags, numbers: c.memo}
 }
 
 // samples reads the sample period: this file's own, else one shared by the
@@ -294,6 +339,7 @@ func (c *checker) gainValues() {
 			g.Max = &v
 		}
 		c.gains[name] = g.Value
+		c.varyRange(g, g.Path == c.res.Path && s.Value != nil)
 		if g.Path != c.res.Path || s.Value == nil {
 			continue
 		}
@@ -305,11 +351,11 @@ func (c *checker) gainValues() {
 		switch {
 		case g.Min != nil && g.Max != nil && *g.Min > *g.Max:
 			c.diags.add(g.Path, syntax.Span{From: s.Min.From, To: s.Max.To}, Error, CodeGainRangeEmpty,
-				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, fmtNum(*g.Min), fmtNum(*g.Max)))
+				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, s.Min, s.Max))
 		case g.Min != nil && g.Value < *g.Min:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, fmtNum(g.Value), fmtNum(*g.Min)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, s.Value, s.Min))
 		case g.Max != nil && g.Value > *g.Max:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, fmtNum(g.Value), fmtNum(*g.Max)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, s.Value, s.Max))
 		}
 	}
 }

@@ -31,6 +31,30 @@ type evaluator struct {
 	sweepGain string
 	sweepK    float64
 	base      *evaluator
+	// numbers keeps discretizations between checks (nil: none).
+	numbers *memoRun
+	// assigned sets several gains at once (a point of a box of varying
+	// gains); like a sweep, blocks that depend on none are taken from base.
+	assigned map[string]float64
+}
+
+// assign returns an evaluator that sets every gain of values and reuses
+// every block of ev that depends on none of them.
+func (ev *evaluator) assign(values map[string]float64) *evaluator {
+	return &evaluator{scope: ev.scope, gains: ev.gains, t: ev.t, memo: map[string]*blockValue{}, assigned: values, base: ev}
+}
+
+// changes reports whether bv depends on a gain this evaluator sets.
+func (ev *evaluator) changes(bv *blockValue) bool {
+	if bv.gains[ev.sweepGain] {
+		return true
+	}
+	for g := range ev.assigned {
+		if bv.gains[g] {
+			return true
+		}
+	}
+	return false
 }
 
 // sweep returns an evaluator that sets gain name to k and reuses every
@@ -43,6 +67,9 @@ func (ev *evaluator) sweep(name string, k float64) *evaluator {
 func (ev *evaluator) gain(name string) float64 {
 	if ev.base != nil && name == ev.sweepGain {
 		return ev.sweepK
+	}
+	if v, ok := ev.assigned[name]; ok {
+		return v
 	}
 	return ev.gains[name]
 }
@@ -83,7 +110,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 		return bv
 	}
 	if ev.base != nil {
-		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !bv.gains[ev.sweepGain] {
+		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !ev.changes(bv) {
 			return bv
 		}
 	}
@@ -163,7 +190,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			}
 			opt.PrewarpHz = hz
 		}
-		tf, err := discretize.Discretize(r, opt)
+		tf, err := ev.numbers.discretize(r, opt)
 		if err != nil {
 			ev.report(d.Path, st.Via.Span, Error, CodeDiscretize, fmt.Sprintf("cannot discretize block %s by %s: %v", d.Name, m.Title(), err))
 			return bv

@@ -32,7 +32,12 @@ type pendingFix struct {
 // loopAt evaluates a loop's characteristic polynomial and open loop with
 // gain name set to k.
 func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
-	ev := c.base.sweep(name, k)
+	return c.loopWith(l, c.base.sweep(name, k))
+}
+
+// loopWith evaluates a loop's characteristic polynomial and open loop with
+// the gains ev sets.
+func (c *checker) loopWith(l *Loop, ev *evaluator) (poly.Poly, poly.Rational, bool) {
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
@@ -134,19 +139,15 @@ func (c *checker) gainLimits(ctx context.Context) {
 	}
 	// Gains are independent of each other: each search only reads the
 	// loops and the shared evaluator.
+	using := loopsByGain(c.res.Loops)
+	deps := c.dependents()
 	parallel(len(gains), func(i int) {
 		g := gains[i]
 		if ctx.Err() != nil {
 			return
 		}
-		var loops []*Loop
-		for _, l := range c.res.Loops {
-			if l.OK && contains(l.Gains, g.Name) {
-				loops = append(loops, l)
-			}
-		}
-		if len(loops) > 0 {
-			g.Limits = c.limitsOf(g, loops)
+		if loops := using[g.Name]; len(loops) > 0 {
+			g.Limits = c.memoLimits(g, loops, deps, func() *GainLimits { return c.limitsOf(g, loops) })
 		}
 	})
 	c.attachFixes()
@@ -430,8 +431,8 @@ func (c *checker) attachFixes() {
 		x := &c.diags.list[p.diag]
 		for _, name := range p.loop.Gains {
 			d := c.res.Scope[name]
-			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil {
-				continue
+			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil || d.Gain.Vary != nil {
+				continue // a varying gain is the plant's, not the engineer's to set
 			}
 			g := d.Gain
 			if f, ok := setGainFix(g, c.requiredGM(p.loop)); ok {

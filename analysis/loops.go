@@ -246,6 +246,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 			l.Step = &st
 		}
 	}
+	c.diskMargin(l)
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 	return l
@@ -422,14 +423,8 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,
 			fmt.Sprintf("loop %s is not BIBO stable: closed-loop pole on the unit circle at %s (tolerance %g); a bounded input can drive an unbounded output (a sustained oscillation or drift)", l.Name, where, c.env.Options.Tolerance))
 	} else {
-		n := 0
-		for _, p := range l.Poles {
-			if p.Radius > 1+c.env.Options.Tolerance {
-				n++
-			}
-		}
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodePoleOutside,
-			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, n, where))
+			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, l.PolesOutside(), where))
 	}
 	// Point at the open-loop pole nearest to the worst closed-loop pole.
 	best, bestD := -1, math.Inf(1)
@@ -480,7 +475,7 @@ func (c *checker) flipSignFix(x *Diagnostic, l *Loop, fwd, fb []element) {
 	}
 	if !found {
 		at := l.Stmt.LBrace + 1
-		edit = Edit{Path: c.res.Path, Span: syntax.Span{From: at, To: at}, NewText: "\n  sign " + want}
+		edit = Edit{Path: c.res.Path, Span: syntax.Span{From: at, To: at}, NewText: syntax.LineBreak(c.res.File.Src) + "  sign " + want} // the file's own line break
 	}
 	x.Message += fmt.Sprintf("; with sign %s it would be stable: check the sign of the measurement", want)
 	x.Fixes = append(x.Fixes, Fix{Title: "Flip the feedback sign to " + note, Edits: []Edit{edit}})

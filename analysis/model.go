@@ -109,6 +109,9 @@ type Gain struct {
 	Value    float64
 	Min, Max *float64
 	Limits   *GainLimits // nil when no loop of this file uses it
+	// Vary is the range of an uncertain gain (`vary A to B`); nil for a
+	// tunable one (or when the range is not valid).
+	Vary *Range
 }
 
 // GainLimits are the values of a gain that keep every loop using it stable
@@ -163,6 +166,9 @@ type Loop struct {
 	Feedback []string
 	Positive bool // positive feedback
 	OK       bool // every element resolved and the analysis ran
+	// NotReached: the analysis stopped (time budget, cancel) before this
+	// loop; it has no verdict and an error says so.
+	NotReached bool
 
 	Open   poly.Rational // L, sign folded in so that the loop closes as 1 + L = 0
 	Char   poly.Poly     // uncancelled characteristic polynomial
@@ -189,6 +195,12 @@ type Loop struct {
 	Hidden       []HiddenMode
 	Requirements []Requirement
 	Gains        []string // gain names the loop depends on
+	// Robust is the analysis over the box of the loop's varying gains;
+	// nil when it depends on none (vary.go).
+	Robust *Robust
+	// Disk is the symmetric disk margin; nil unless the loop is stable
+	// (disk.go).
+	Disk *DiskMargin
 }
 
 // HiddenMode is a block pole cancelled by a zero in the loop: invisible in

@@ -187,7 +187,9 @@ func TestCompletion(t *testing.T) {
 		{"", "block", "forward"},
 		{"block p = 1 / (s + 1) via ", "zoh foh tustin matched", "block"},
 		{"sample 1 ", "ms", "dB"},
-		{"gain k2 = 1 ", "max", ""},
+		{"gain k2 = 1 ", "min max vary", ""},
+		{"gain k2 = 1 vary 0.5 ", "to", "max"},
+		{"gain k2 = 1 max 3 ", "min", "vary"},
 		{"block q = ki * ", "belt d kp s z", "zoh"},
 		{"block q = 2 / (s + 1) via tustin ", "prewarp", ""},
 	} {
@@ -205,7 +207,7 @@ func TestCompletion(t *testing.T) {
 	}{
 		{"  ", "forward feedback sign require", "block"},
 		{"  sign ", "negative positive", ""},
-		{"  require ", "gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling", ""},
+		{"  require ", "gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling disk_margin", ""},
 		{"  require overshoot <= 10 ", "%", "ms"},
 		{"  feedback ", "belt d ki kp", "s"},
 	} {
@@ -340,11 +342,13 @@ func TestFoldingLensInlay(t *testing.T) {
 	for _, b := range res.Blocks {
 		want = append(want, " |p|max "+maxRadiusText(b))
 	}
+	// the stable loop shows its verdict too
+	want = append(want, res.Loops[0].Verdict())
 	var labels []string
 	for _, h := range hints {
 		labels = append(labels, h.Label)
 	}
-	if strings.Join(labels, ",") != strings.Join(want, ",") || len(hints) != 2 || hints[0].Position != pos(4, 41) {
+	if strings.Join(labels, ",") != strings.Join(want, ",") || len(hints) != 3 || hints[0].Position != pos(4, 41) || hints[2].Position.Line != 7 {
 		t.Errorf("inlay hints %+v, want labels %v", hints, want)
 	}
 	// belt's poles: 40/(s²+9s+40) has |s| = √40 rad/s, so the ZOH poles
@@ -425,8 +429,8 @@ func TestCancelRequest(t *testing.T) {
 
 func TestPanicIsReportedAndSurvived(t *testing.T) {
 	requestHandlers["test/panic"] = func(s *Server, ctx context.Context, _ json.RawMessage) (any, error) {
-		var m map[string]int
-		m["boom"] = 1
+		var none []int
+		_ = none[len(none)] // index out of range: a panic on purpose
 		return nil, nil
 	}
 	defer delete(requestHandlers, "test/panic")

@@ -19,16 +19,17 @@ func (s *Server) formatting(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	out, err := syntax.Format(src)
 	if err != nil {
 		return []protocol.TextEdit{}, nil
 	}
-	if bytes.Contains(src, []byte("\r\n")) {
-		out = bytes.ReplaceAll(out, []byte("\n"), []byte("\r\n"))
+	if nl := syntax.LineBreak(src); nl != "\n" {
+		out = bytes.ReplaceAll(out, []byte("\n"), []byte(nl))
 	}
 	return diffEdits(m, src, out, 0), nil
 }
@@ -38,10 +39,11 @@ func (s *Server) rangeFormatting(ctx context.Context, params json.RawMessage) (a
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	span, err := m.RangeSpan(p.Range)
 	if err != nil {
 		return nil, errorf(-32602, "%v", err)
@@ -132,14 +134,18 @@ func diffEdits(m *Mapper, old, new []byte, from syntax.Pos) []protocol.TextEdit 
 	return edits
 }
 
-// splitLines splits s after each "\n", keeping the breaks.
+// splitLines splits s after each line break ("\n", "\r\n" or a lone
+// "\r"), keeping the breaks.
 func splitLines(s string) []string {
 	var out []string
 	for len(s) > 0 {
-		i := strings.IndexByte(s, '\n')
+		i := strings.IndexAny(s, "\r\n")
 		if i < 0 {
 			out = append(out, s)
 			break
+		}
+		if s[i] == '\r' && i+1 < len(s) && s[i+1] == '\n' {
+			i++
 		}
 		out = append(out, s[:i+1])
 		s = s[i+1:]

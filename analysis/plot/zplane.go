@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"ringside/analysis"
+	"ringside/analysis/lti"
 	"ringside/analysis/pole"
 	"ringside/analysis/roots"
 )
@@ -101,24 +102,6 @@ func (c poleChecks) breaks(p pole.Info) bool {
 
 // openRoots returns the roots of a polynomial of L. A constant has none;
 // the zero polynomial (L ≡ 0 has no zeros worth drawing) gives none either.
-// openPolesZeros returns L's poles and zeros as written: from the loop's
-// factored model when there is one (exact, any order), else as roots of
-// L's polynomials.
-func openPolesZeros(l *analysis.Loop) (poles, zeros []complex128, err error) {
-	if l.Model != nil {
-		f := l.Model.Written()
-		if f.Gain == 0 {
-			return f.Poles, nil, nil
-		}
-		return f.Poles, f.Zeros, nil
-	}
-	if poles, err = openRoots(l.Open.Den, "poles"); err != nil {
-		return nil, nil, err
-	}
-	zeros, err = openRoots(l.Open.Num, "zeros")
-	return poles, zeros, err
-}
-
 func openRoots(p []float64, what string) ([]complex128, error) {
 	q := trimPoly(p)
 	if len(q) <= 1 {
@@ -176,6 +159,26 @@ func dampingCurve(zeta float64) plotter.XYs {
 		out[i] = plotter.XY{X: r * c, Y: r * s}
 	}
 	return out
+}
+
+// openPolesZeros returns L's poles and zeros: those of its blocks, as the
+// analysis found them (L is their product, nothing cancelled), or the roots
+// of L's polynomials for a loop without a block model.
+func openPolesZeros(l *analysis.Loop) (poles, zeros []complex128, err error) {
+	if m := l.Model; m != nil {
+		for _, b := range append(append([]lti.Factored(nil), m.Forward...), m.Feedback...) {
+			poles = append(poles, b.Poles...)
+			if !b.IsZero() {
+				zeros = append(zeros, b.Zeros...)
+			}
+		}
+		return poles, zeros, nil
+	}
+	if poles, err = openRoots(l.Open.Den, "poles"); err != nil {
+		return nil, nil, err
+	}
+	zeros, err = openRoots(l.Open.Num, "zeros")
+	return poles, zeros, err
 }
 
 func newZPlane(l *analysis.Loop) (*zPlane, error) {
@@ -244,6 +247,9 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 		zp.legend = append(zp.legend, legendItem{"damping limit ζ = " + analysis.FormatNumber(*z), lim})
 	}
 
+	if err := zp.addRegion(p, l); err != nil {
+		return nil, err
+	}
 	scatter := func(zs []complex128, g draw.GlyphDrawer, col color.Color, r float64, text string) error {
 		if len(zs) == 0 {
 			return nil

@@ -76,6 +76,8 @@ type Loop struct {
 	HiddenModes        []HiddenMode  `json:"hidden_modes"`
 	Requirements       []Requirement `json:"requirements"`
 	Verdict            string        `json:"verdict"`
+	DiskMargin         *DiskMargin   `json:"disk_margin"`
+	Robust             *Robust       `json:"robust,omitempty"`
 }
 
 // Pole is one closed-loop (or block) pole or zero.
@@ -246,6 +248,7 @@ func loop(l *analysis.Loop) Loop {
 	for _, q := range l.Requirements {
 		out.Requirements = append(out.Requirements, Requirement{Metric: q.Metric, Op: q.Op, Want: q.Want, Got: finitePtr(q.Got), Met: q.Met, Default: q.Item == nil})
 	}
+	out.DiskMargin, out.Robust = diskMargin(l), robust(l)
 	return out
 }
 

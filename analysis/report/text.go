@@ -1,7 +1,6 @@
 package report
 
 import (
-	"fmt"
 	"io"
 
 	"ringside/analysis"
@@ -15,22 +14,9 @@ const Caution = "ringside assumes linear, time-invariant models at one sample pe
 // Text writes `file:line:col: severity: message [code]` lines, then a
 // count and the caution.
 func Text(w io.Writer, results []*analysis.Result, display func(string) string) {
-	var errs, warns int
+	s := NewStream("text", w, display, "", false)
 	for _, r := range results {
-		for _, d := range r.Diagnostics {
-			line, col := Position(r, d.Path, int(d.Span.From))
-			fmt.Fprintf(w, "%s:%d:%d: %s: %s [%s]\n", display(d.Path), line, col, d.Severity, d.Message, d.Code)
-			for _, rel := range d.Related {
-				l2, c2 := Position(r, rel.Path, int(rel.Span.From))
-				fmt.Fprintf(w, "\t%s:%d:%d: %s\n", display(rel.Path), l2, c2, rel.Message)
-			}
-			switch d.Severity {
-			case analysis.Error:
-				errs++
-			case analysis.Warning:
-				warns++
-			}
-		}
+		s.Add(r)
 	}
-	fmt.Fprintf(w, "%d file(s) checked: %d error(s), %d warning(s).\n%s\n", len(results), errs, warns, Caution)
+	_ = s.Close()
 }
