@@ -44,6 +44,7 @@ type refCase struct {
 	Feedback  []string            `json:"feedback"`
 	MarginsOf *refBlock           `json:"margins_of,omitempty"`
 	Exact     *float64            `json:"exact_radius,omitempty"` // known by construction
+	GMBlocks  bool                `json:"gm_blocks,omitempty"`    // reference gain margin of the loop's own L
 	order     []string            // block declaration order
 }
 
@@ -140,7 +141,7 @@ func structureCases() []refCase {
 	// Furnace: ten first-order lags (time constants 30…300 s) behind a PI
 	// controller, sampled every 2 s.
 	for _, kp := range []float64{0.35, 0.6, 0.9} {
-		c := refCase{Name: fmt.Sprintf("furnace_kp%s", ident(kp)), T: 2}
+		c := refCase{Name: fmt.Sprintf("furnace_kp%s", ident(kp)), T: 2, GMBlocks: true}
 		taus := []float64{30, 45, 60, 80, 100, 130, 160, 200, 250, 300}
 		ti := 900.0
 		c.add("pi", zblock([]float64{-kp, kp + kp*c.T/ti}, []float64{-1, 1}))
@@ -201,7 +202,7 @@ func structureCases() []refCase {
 	// Order 30 with a fifty-sample delay in the feedback path: many phase
 	// crossings.
 	for _, g := range []float64{0.2, 0.6} {
-		c := refCase{Name: fmt.Sprintf("order30_delay50_g%s", ident(g)), T: 1e-3}
+		c := refCase{Name: fmt.Sprintf("order30_delay50_g%s", ident(g)), T: 1e-3, GMBlocks: true}
 		c.add("g", zblock([]float64{g}, []float64{1}))
 		c.Forward = []string{"g"}
 		for i := 0; i < 20; i++ {
@@ -249,9 +250,46 @@ func structureCases() []refCase {
 	return cs
 }
 
+// twoBlockCase is L = k·(z − 0.5)/(z − 1) · k·0.1/(z − 0.9) at k = 1: the
+// gain appears in two blocks, so L = k²·G and the characteristic
+// polynomial is not affine in k.
+func twoBlockCase() refCase {
+	c := refCase{Name: "two_block_gain", T: 1e-3, GMBlocks: true}
+	c.add("c", zblock([]float64{-0.5, 1}, []float64{-1, 1}))
+	c.add("p", zblock([]float64{0.1}, []float64{-0.9, 1}))
+	c.Forward = []string{"c", "p"}
+	return c
+}
+
+// TestIsolatedUnstableGain: with the gain in two blocks, L = k²·G, so the
+// loop is stable for 0 < |k| < k_max with k_max = 10^(GM_G/40) (GM_G the
+// gain margin of G, numpy reference) — and unstable at k = 0 itself, where
+// the integrator 1/(z − 1) is left on the circle: the interval around
+// k = 0.5 is (0, k_max), not (−k_max, k_max).
+func TestIsolatedUnstableGain(t *testing.T) {
+	c := twoBlockCase()
+	r := runStructureRef(t, []refCase{c})[c.Name]
+	if r.GMDB == nil {
+		t.Fatal("no reference gain margin")
+	}
+	kmax := math.Pow(10, *r.GMDB/40)
+	res := checkSrc(t, "sample 1 ms\ngain k = 0.5\nblock c = k * (z - 0.5) / (z - 1)\nblock p = k * 0.1 / (z - 0.9)\nloop two_block_gain {\n  forward c p\n}\n", nil)
+	g := gainNamed(t, res, "k")
+	lim := g.Limits
+	if lim == nil || lim.StableMin == nil || lim.StableMax == nil || !lim.CurrentStable {
+		t.Fatalf("limits %+v", lim)
+	}
+	if *lim.StableMin != 0 || math.Abs(*lim.StableMax-kmax) > 1e-6*kmax {
+		t.Errorf("stable interval (%g, %g), want (0, %.9g)", *lim.StableMin, *lim.StableMax, kmax)
+	}
+}
+
 func runStructureRef(t *testing.T, cases []refCase) map[string]refResult {
 	t.Helper()
 	py := scipyref.Python(t)
+	if exec.Command(py, "-c", "import mpmath").Run() != nil && exec.Command("/usr/bin/python3", "-c", "import numpy, scipy, mpmath").Run() == nil {
+		py = "/usr/bin/python3" // Debian's, with python3-mpmath
+	}
 	dir := t.TempDir()
 	in, out := filepath.Join(dir, "in.json"), filepath.Join(dir, "out.json")
 	b, err := json.Marshal(cases)
@@ -318,8 +356,8 @@ func TestStructureCrossCheck(t *testing.T) {
 			want = "marginal"
 		}
 		got := verdictWord(l)
-		t.Logf("%-26s order %3d  radius %.12f ± %.2g  mp %.12f (err %.1g)  numpy ss %.12f  verdict %s",
-			c.Name, len(l.Poles), l.MaxRadius, l.PoleBounds[0], r.RadiusMP, r.RadiusMPErr, r.RadiusSS, got)
+		t.Logf("%-26s order %3d  radius %.12f ± %.2g  mp %.12f (err %.1g)  numpy ss %.12f  verdict %s  GM %s dB (ref %s)",
+			c.Name, len(l.Poles), l.MaxRadius, l.PoleBounds[0], r.RadiusMP, r.RadiusMPErr, r.RadiusSS, got, ptrStr(l.Margins.GainMarginDB), ptrStr(r.GMDB))
 		if got == "undecided" {
 			// Allowed where the eigenvalues cannot separate a five-fold
 			// pole from its neighbours; elsewhere a decided verdict is due.
@@ -334,7 +372,7 @@ func TestStructureCrossCheck(t *testing.T) {
 		if d := math.Abs(l.MaxRadius - r.RadiusMP); d > l.PoleBounds[0]+1e-12 {
 			t.Errorf("%s: largest radius %.15f, reference %.15f: off by %.3g, beyond the bound %.3g", c.Name, l.MaxRadius, r.RadiusMP, d, l.PoleBounds[0])
 		}
-		if c.MarginsOf != nil && r.GMDB != nil {
+		if r.GMDB != nil {
 			m := l.Margins
 			if m.GainMarginDB == nil || math.Abs(*m.GainMarginDB-*r.GMDB) > 1e-6 || math.Abs(*m.PhaseCrossoverHz-*r.GMHz) > 1e-6**r.GMHz {
 				t.Errorf("%s: gain margin %v at %v Hz, reference (cancelled L) %.9g dB at %.9g Hz", c.Name, ptrStr(m.GainMarginDB), ptrStr(m.PhaseCrossoverHz), *r.GMDB, *r.GMHz)
@@ -362,4 +400,36 @@ func ptrStr(p *float64) string {
 		return "nil"
 	}
 	return fmt.Sprint(*p)
+}
+
+// TestTriplePoleBlock: a block written 0.002/(z − 1)^3 has a triple pole
+// exactly at z = 1 (read from the factor as written, no root finding), so
+// it is "on the circle", never "outside"; closed around unity feedback,
+// (z − 1)^3 + 0.002 = 0 puts the poles at 1 + 0.002^(1/3)·e^{j(2i+1)π/3}
+// (closed form): radius |1 + 0.126·e^{jπ/3}| ≈ 1.069, unstable.
+func TestTriplePoleBlock(t *testing.T) {
+	res := checkSrc(t, "sample 1 ms\nblock tri = 0.002 / (z - 1)^3\nloop t {\n  forward tri\n}\n", nil)
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeBlockOutside {
+			t.Errorf("block reported outside the circle: %s", d.Message)
+		}
+	}
+	found := false
+	for _, d := range res.Diagnostics {
+		found = found || d.Code == CodeBlockOnCircle
+	}
+	if !found {
+		t.Error("no block-pole-on-circle diagnostic")
+	}
+	b := res.Blocks[0]
+	for _, p := range b.Poles {
+		if p.Z != 1 {
+			t.Errorf("block pole %v, want exactly 1", p.Z)
+		}
+	}
+	l := loopNamed(t, res, "t")
+	want := cmplx.Abs(1 + complex(math.Cbrt(0.002), 0)*cmplx.Rect(1, math.Pi/3))
+	if l.Stable || l.Marginal || l.Undecided || math.Abs(l.MaxRadius-want) > l.PoleBounds[0]+1e-12 {
+		t.Errorf("loop radius %.15f ± %.2g (want %.15f), stable %v marginal %v undecided %v", l.MaxRadius, l.PoleBounds[0], want, l.Stable, l.Marginal, l.Undecided)
+	}
 }

@@ -30,7 +30,9 @@ independent ways:
 Cases built with known roots give "exact_radius" and skip the mp step.
 Cases with "margins_of" also get the gain margin and its frequency of the
 given (cancelled) open loop, by a dense grid on the unit circle refined with
-scipy.optimize.brentq on Im L.
+scipy.optimize.brentq on Im L; cases with "gm_blocks" the same for the
+loop's own L, evaluated block by block (each block's 50-digit coefficients
+rounded to float64, L the product of the blocks' values).
 """
 import json
 import sys
@@ -252,18 +254,47 @@ def radius_mp(char, start):
 def gain_margin(num, den, T):
     """Smallest |GM| over the phase crossings of L = num/den (lowest first)."""
     n, d = np.array(num[::-1]), np.array(den[::-1])
-    L = lambda th: np.polyval(n, np.exp(1j * th)) / np.polyval(d, np.exp(1j * th))
+    return gain_margin_of(lambda th: np.polyval(n, np.exp(1j * th)) / np.polyval(d, np.exp(1j * th)), T)
+
+
+def gain_margin_blocks(case):
+    """Smallest |GM| of the loop's L, block by block."""
+    sign = -1.0 if case.get("positive") else 1.0
+    parts = []
+    for name in case["forward"] + (case.get("feedback") or []):
+        bn, bd = block_mp(case["blocks"][name], case["T"])
+        parts.append((np.array([float(x) for x in bn[::-1]]), np.array([float(x) for x in bd[::-1]])))
+
+    def L(th):
+        z = np.exp(1j * th)
+        v = sign
+        for n, d in parts:
+            v = v * np.polyval(n, z) / np.polyval(d, z)
+        return v
+    return gain_margin_of(L, case["T"])
+
+
+def gain_margin_of(L, T):
     th = np.linspace(0, np.pi, 200001)
-    im = np.imag(L(th))
+    with np.errstate(all="ignore"):
+        im = np.imag(L(th))
     best = None
-    for i in range(len(th) - 1):
-        if im[i] == 0 or im[i] * im[i + 1] < 0:
-            x = th[i] if im[i] == 0 else opt.brentq(lambda t: np.imag(L(t)), th[i], th[i + 1], xtol=1e-15)
-            v = L(x)
-            if np.real(v) < 0:
-                gm = -20 * np.log10(abs(v))
-                if best is None or abs(gm) < abs(best[0]):
-                    best = (gm, x / (2 * np.pi * T))
+    for i in range(len(th)):
+        if not np.isfinite(im[i]):
+            continue
+        x = None
+        at_end = i in (0, len(th) - 1)  # L is real at z = ±1 (up to e^{jπ}'s rounding)
+        if im[i] == 0 or at_end and abs(im[i]) <= 1e-12 * abs(L(th[i])):
+            x = th[i]
+        elif i + 1 < len(th) and np.isfinite(im[i + 1]) and im[i] * im[i + 1] < 0:
+            x = opt.brentq(lambda t: np.imag(L(t)), th[i], th[i + 1], xtol=1e-15)
+        if x is None:
+            continue
+        v = L(x)
+        if np.real(v) < 0:
+            gm = -20 * np.log10(abs(v))
+            if best is None or abs(gm) < abs(best[0]):
+                best = (gm, x / (2 * np.pi * T))
     return best
 
 
@@ -278,10 +309,14 @@ def main():
             r, err = radius_mp(char_mp(case), ev)
         res = {"name": case["name"], "radius_mp": r, "radius_mp_err": err,
                "radius_ss": float(max(abs(ev))) if len(ev) else 0.0}
+        gm = None
         if "margins_of" in case:
             m = case["margins_of"]
             gm = gain_margin(m["num"], m["den"], case["T"])
-            res["gm_db"], res["gm_hz"] = (gm if gm else (None, None))
+        elif case.get("gm_blocks"):
+            gm = gain_margin_blocks(case)
+        if gm:
+            res["gm_db"], res["gm_hz"] = gm
         out.append(res)
     json.dump({"numpy": np.__version__, "mpmath": mp.__version__, "cases": out}, open(sys.argv[2], "w"), indent=1)
 
