@@ -86,11 +86,15 @@ const (
 	DegenerateTol = 1e-12
 	// baseGridPerDegree and minBaseGrid set the uniform part of the grid: a
 	// trigonometric polynomial of degree n has at most 2n roots per period,
-	// so 128 points per degree leave every root pair well separated unless
-	// it sits near a pole or zero close to the circle, where the grid is
-	// refined geometrically.
-	baseGridPerDegree = 128
-	minBaseGrid       = 1024
+	// so 32 points per degree put about 16 grid points per root on average;
+	// roots closer than a grid cell sit near a pole or zero close to the
+	// circle, where the grid is refined geometrically, or are caught as a
+	// dip of |f| between two larger neighbours (golden-section refinement).
+	// The scipy cross-check (240 loops) and the structure cross-check find
+	// the same crossings as with 128 points per degree, at a quarter of
+	// the evaluations.
+	baseGridPerDegree = 32
+	minBaseGrid       = 256
 	// nearCircle: roots of N, D and N + D with ||r| − 1| below it get a
 	// geometric cluster of extra grid points around their angle.
 	nearCircle = 0.2
@@ -577,12 +581,21 @@ func roots(f, scale func(float64) float64, grid, fv, sv []float64) []float64 {
 }
 
 // bisect narrows a sign change of f on [a, b] (fa = f(a) ≠ 0) to
-// RootTolRad, or until |f| falls within NoiseTol·scale.
+// RootTolRad, or until |f| falls within NoiseTol·scale, by the Illinois
+// variant of regula falsi (Dowell & Jarratt 1971): superlinear on the
+// smooth functions met here, so a handful of evaluations instead of the
+// forty halvings of a grid cell down to 1e-12; a step that leaves the
+// bracket falls back to halving.
 func bisect(f, scale func(float64) float64, a, b, fa float64) float64 {
-	for i := 0; i < 200 && b-a > RootTolRad; i++ {
-		m := a + (b-a)/2
-		if m <= a || m >= b {
-			break
+	fb := f(b)
+	if fb == 0 || (fb < 0) == (fa < 0) {
+		return b
+	}
+	side := 0
+	for i := 0; i < 100 && b-a > RootTolRad; i++ {
+		m := (a*fb - b*fa) / (fb - fa)
+		if !(m > a && m < b) {
+			m = a + (b-a)/2
 		}
 		fm := f(m)
 		if math.Abs(fm) <= NoiseTol*scale(m) {
@@ -590,8 +603,16 @@ func bisect(f, scale func(float64) float64, a, b, fa float64) float64 {
 		}
 		if (fm < 0) == (fa < 0) {
 			a, fa = m, fm
+			if side == -1 {
+				fb /= 2
+			}
+			side = -1
 		} else {
-			b = m
+			b, fb = m, fm
+			if side == 1 {
+				fa /= 2
+			}
+			side = 1
 		}
 	}
 	return a + (b-a)/2
