@@ -401,6 +401,11 @@ func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*sna
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
 	}
+	if len(src) > analysis.MaxFileSize {
+		// An open buffer may be larger than any file the server reads;
+		// answering for it would cost memory without bound.
+		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "%s is over the %d-byte limit for a .loop file; not served", baseName(path), analysis.MaxFileSize)
+	}
 	return sn, path, m, src, nil
 }
 
@@ -589,11 +594,16 @@ func (s *Server) didSave(params json.RawMessage) error {
 		return err
 	}
 	s.mu.Lock()
+	replaced := false
 	if d, ok := s.ses.docs[path]; ok && p.Text != nil && *p.Text != string(d.text) {
 		s.ses.docs[path] = &document{uri: d.uri, path: path, version: d.version, text: []byte(*p.Text)}
+		replaced = true
 	}
 	s.ses.gen++
 	s.mu.Unlock()
+	if replaced {
+		s.supersede(path)
+	}
 	s.changed(path, saved)
 	return nil
 }
