@@ -162,8 +162,9 @@ type loopEntry struct {
 // spanRef places a span relative to the statement it lies in: the loop
 // (decl "") or the declaration of a path element.
 type spanRef struct {
-	decl string
-	off  syntax.Pos // span.From − statement start
+	decl    string
+	realize bool       // the statement is decl's realize line
+	off     syntax.Pos // span.From − statement start
 }
 
 // keyBuf builds a memo key.
@@ -239,6 +240,7 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 		k.poly(e.tf.Num)
 		k.poly(e.tf.Den)
 		k.factored(e.fac, e.facErr)
+		k.str(c.realizeKey(e))
 		if e.block != nil {
 			for _, g := range sortedKeys(ev.memo[e.name].gains) {
 				k.str(g)
@@ -350,6 +352,10 @@ func (c *checker) record(l *Loop, ls *syntax.LoopStmt) (*loopEntry, bool) {
 					e.refs = append(e.refs, spanRef{decl: name, off: s.From - n.Pos()})
 					return
 				}
+				if n := realizeStmt(d); n != nil && s.From >= n.Pos() && s.To <= n.End() {
+					e.refs = append(e.refs, spanRef{decl: name, realize: true, off: s.From - n.Pos()})
+					return
+				}
 			}
 			ok = false
 		})
@@ -366,16 +372,13 @@ func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
 	if len(old.Items) != len(ls.Items) {
 		return nil, false
 	}
-	l.Requirements = make([]Requirement, len(e.loop.Requirements))
-	for i, q := range e.loop.Requirements {
-		if q.Item != nil {
-			for j, it := range old.Items {
-				if it == q.Item {
-					q.Item = ls.Items[j].(*syntax.RequireItem)
-				}
-			}
-		}
-		l.Requirements[i] = q
+	l.Requirements = placeRequirements(e.loop.Requirements, old, ls)
+	if r := e.loop.Realized; r != nil {
+		fig := *r.Figures
+		fig.Stmt, fig.Requirements = ls, placeRequirements(fig.Requirements, old, ls)
+		rr := *r
+		rr.Figures = &fig
+		l.Realized = &rr
 	}
 	diags := make([]Diagnostic, len(e.diags))
 	n := 0
@@ -389,7 +392,10 @@ func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
 			if ref.decl != "" {
 				d := c.res.Scope[ref.decl]
 				st := syntax.Node(nil)
-				if d != nil {
+				switch {
+				case d != nil && ref.realize:
+					st = realizeStmt(d)
+				case d != nil:
 					st = declStmt(d)
 				}
 				if st == nil {
@@ -413,6 +419,23 @@ func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
 		c.pending = append(c.pending, p)
 	}
 	return &l, true
+}
+
+// placeRequirements points requirements of the loop statement old at the
+// same items of ls.
+func placeRequirements(reqs []Requirement, old, ls *syntax.LoopStmt) []Requirement {
+	out := make([]Requirement, len(reqs))
+	for i, q := range reqs {
+		if q.Item != nil {
+			for j, it := range old.Items {
+				if it == q.Item {
+					q.Item = ls.Items[j].(*syntax.RequireItem)
+				}
+			}
+		}
+		out[i] = q
+	}
+	return out
 }
 
 // gainKey is the key of a gain's limits over loops, or "" when not to be
