@@ -340,10 +340,10 @@ func (m affine) edges(f Family) Result {
 // [lo, hi], with the stable interval around mid; exact is false when
 // gainlimit fell back to bisection.
 func edgeStable(a, b poly.Poly, mid, lo, hi float64, deg int) (ok bool, iv *gainlimit.Interval, exact bool) {
+	if max(a.Degree(), b.Degree()) < deg {
+		return false, nil, true // degree lost along the whole edge: a pole at infinity
+	}
 	if b.Trim().IsZero() {
-		if a.Degree() < deg {
-			return false, nil, true
-		}
 		st, err := gainlimit.SchurStable(a)
 		return err == nil && st, nil, err == nil
 	}
