@@ -480,8 +480,12 @@ func grid(f Family) Result {
 	for i := range dims {
 		dims[i] = fmt.Sprint(k)
 	}
-	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
-		strings.Join(dims, "×"), total, k-1, 1<<compassLevels, maxCompassEvals)
+	shape := fmt.Sprintf("grid of %d points (spacing 1/%d of the range)", total, k-1)
+	if n > 1 {
+		shape = fmt.Sprintf("grid %s = %d points (spacing 1/%d of each range)", strings.Join(dims, "×"), total, k-1)
+	}
+	res.Method = fmt.Sprintf("%s, refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
+		shape, 1<<compassLevels, maxCompassEvals)
 	eval := f.evaluator()
 	for _, x := range corners(f.Lo, f.Hi) {
 		res.add(x)
