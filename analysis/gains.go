@@ -215,8 +215,7 @@ func (c *checker) affineInterval(name string, k0 float64, loops []*Loop) (gainli
 	if len(loops) > 1 && !out.ContainsCurrent {
 		return out, false // nearest intervals of different loops need not overlap
 	}
-	if out.Found && (out.Lo != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1e-3), loops) ||
-		out.Hi != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1-1e-3), loops)) {
+	if out.Found && !c.verifiedEnds(name, out.Lo, out.Hi, loops) {
 		return out, false
 	}
 	return out, true

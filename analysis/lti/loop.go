@@ -275,9 +275,22 @@ func dcGain(g, h Factored, sigma float64) (float64, error) {
 }
 
 // simulate runs x[k+1] = A x[k] + B, y[k] = C x[k] + D from x = 0 for K
-// samples.
+// samples, over A's nonzero entries only (a chain of delays or sections is
+// sparse: the work is the number of links, not n²).
 func simulate(s System, K int) ([]float64, error) {
 	n := s.N
+	type entry struct {
+		j int
+		a float64
+	}
+	rows := make([][]entry, n)
+	for i := 0; i < n; i++ {
+		for j, a := range s.A[i*n : (i+1)*n] {
+			if a != 0 {
+				rows[i] = append(rows[i], entry{j, a})
+			}
+		}
+	}
 	x, nx := make([]float64, n), make([]float64, n)
 	y := make([]float64, K)
 	for k := 0; k < K; k++ {
@@ -289,11 +302,10 @@ func simulate(s System, K int) ([]float64, error) {
 			return nil, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
 		}
 		y[k] = v
-		for i := 0; i < n; i++ {
+		for i, row := range rows {
 			acc := s.B[i]
-			row := s.A[i*n : (i+1)*n]
-			for j, a := range row {
-				acc += a * x[j]
+			for _, e := range row {
+				acc += e.a * x[e.j]
 			}
 			nx[i] = acc
 		}
