@@ -97,10 +97,7 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 	copy(w.a, a[:n*n])
 	balance(w.a, n)
 	copy(w.bal, w.a)
-	norm := 0.0
-	for _, v := range w.bal {
-		norm = math.Hypot(norm, v)
-	}
+	norm := frobenius(w.bal)
 	ga := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.a}
 	vl := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.vl}
 	vr := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.vr}
@@ -132,6 +129,23 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 		radius[j] = float64(n) * condition(xs[j], ys[j]) * eta
 	}
 	return clusters(vals, xs, ys, radius, eta), nil
+}
+
+// frobenius is the Frobenius norm, scaled by the largest entry so that
+// neither the squares overflow nor underflow.
+func frobenius(a []float64) float64 {
+	m := 0.0
+	for _, v := range a {
+		m = math.Max(m, math.Abs(v))
+	}
+	if m == 0 || math.IsInf(m, 0) {
+		return m
+	}
+	s := 0.0
+	for _, v := range a {
+		s += (v / m) * (v / m)
+	}
+	return m * math.Sqrt(s)
 }
 
 // work holds the scratch of one eigenvalue computation.
@@ -175,12 +189,14 @@ func conjV(v []complex128) []complex128 {
 	return out
 }
 
+// normV is the 2-norm of v (sums of squares: eigenvectors and residuals
+// here are of modest size, and an overflow to +Inf only loosens a bound).
 func normV(v []complex128) float64 {
 	s := 0.0
 	for _, c := range v {
-		s = math.Hypot(s, cmplx.Abs(c))
+		s += real(c)*real(c) + imag(c)*imag(c)
 	}
-	return s
+	return math.Sqrt(s)
 }
 
 // residual is ‖A x − λ x‖/‖x‖ for row-major A.
@@ -192,9 +208,9 @@ func residual(a []float64, n int, lam complex128, x []complex128) float64 {
 			r += complex(a[i*n+j], 0) * x[j]
 		}
 		r -= lam * x[i]
-		s = math.Hypot(s, cmplx.Abs(r))
+		s += real(r)*real(r) + imag(r)*imag(r)
 	}
-	return s / normV(x)
+	return math.Sqrt(s) / normV(x)
 }
 
 // condition is ‖x‖‖y‖/|yᴴx| (+Inf when yᴴx vanishes: a defective eigenvalue).
