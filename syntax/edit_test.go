@@ -1,6 +1,8 @@
 package syntax
 
 import (
+	"fmt"
+	"math/rand"
 	"strings"
 	"testing"
 )
@@ -106,6 +108,36 @@ func TestFormatKeepsMarkAndLineBreaks(t *testing.T) {
 	for src, want := range map[string]string{"a\r\nb": "\r\n", "a\rb\n": "\r", "a\nb\r": "\n", "ab": "\n"} {
 		if got := LineBreak([]byte(src)); got != want {
 			t.Errorf("LineBreak(%q) = %q, want %q", src, got, want)
+		}
+	}
+}
+
+// Lines.Edit gives the same index as indexing the edited text afresh,
+// across CR, LF, CRLF joined or split at the edit's edges, and a BOM.
+func TestLinesEdited(t *testing.T) {
+	rng := rand.New(rand.NewSource(7))
+	alphabet := []string{"a", "\r", "\n", "\r\n", "\ufeff", "é"}
+	gen := func(n int) string {
+		var b strings.Builder
+		for range n {
+			b.WriteString(alphabet[rng.Intn(len(alphabet))])
+		}
+		return b.String()
+	}
+	for range 3000 {
+		src := []byte(gen(rng.Intn(12)))
+		l := NewLines(src)
+		for range 5 {
+			a := rng.Intn(len(src) + 1)
+			b := a + rng.Intn(len(src)-a+1)
+			ins := gen(rng.Intn(4))
+			next := append(append(append([]byte(nil), src[:a]...), ins...), src[b:]...)
+			l.Edit(next, Pos(a), Pos(b), len(ins))
+			want := NewLines(next)
+			if fmt.Sprint(l.starts, l.bom) != fmt.Sprint(want.starts, want.bom) {
+				t.Fatalf("%q: [%d,%d) <- %q: starts %v bom %d, want %v bom %d", src, a, b, ins, l.starts, l.bom, want.starts, want.bom)
+			}
+			src = next
 		}
 	}
 }
