@@ -80,6 +80,7 @@ func (c *checker) run(ctx context.Context) {
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev
 	c.blocks(ev)
+	c.realizations(ev)
 	// Every block in scope is evaluated before the loops, which then only
 	// read the shared evaluator and can be analysed side by side.
 	for _, name := range sortedDecls(c.res.Scope) {
@@ -168,7 +169,7 @@ func (c *checker) usedBlocks(ev *evaluator) {
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
-	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags}
+	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags, numbers: c.memo}
 }
 
 // samples reads the sample period: this file's own, else one shared by the

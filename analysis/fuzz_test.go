@@ -95,7 +95,8 @@ func (f *fuzzReader) poly(v string) string {
 // fuzzLoopFile builds a .loop file from fuzz bytes: a sample line, gains,
 // blocks in s (with a method) or z (possibly sharing a factor between
 // numerator and denominator, and using gains), loops over them, and
-// requirements; the rest of the bytes are appended as free text.
+// requirements, and realize lines; the rest of the bytes are appended as
+// free text.
 func fuzzLoopFile(data []byte) []byte {
 	f := &fuzzReader{b: data}
 	var b strings.Builder
@@ -109,6 +110,8 @@ func fuzzLoopFile(data []byte) []byte {
 			fmt.Fprintf(&b, " max %s", f.number())
 		case 2:
 			fmt.Fprintf(&b, " min %s max %s", f.number(), f.number())
+		case 3:
+			fmt.Fprintf(&b, " vary %s to %s", f.number(), f.number())
 		}
 		b.WriteString("\n")
 	}
@@ -160,6 +163,11 @@ func fuzzLoopFile(data []byte) []byte {
 			fmt.Fprintf(&b, "  require %s\n", metrics[f.byte()%8])
 		}
 		b.WriteString("}\n")
+	}
+	structures := []string{"direct", "sections", "delta", "tiers"}
+	formats := []string{"q15", "q1.14", "q3.12", "float32", "float64", "q31.32", "q0.3", "q40.30"}
+	for i, n := 0, int(f.byte()%3); i < n; i++ {
+		fmt.Fprintf(&b, "realize b%d as %s in %s\n", f.byte()%byte(nb), structures[f.byte()%4], formats[f.byte()%8])
 	}
 	b.Write(data[min(f.i, len(data)):])
 	return []byte(b.String())
@@ -225,6 +233,17 @@ func FuzzCheck(f *testing.F) {
 				{"gain crossover", m.GainCrossoverHz}, {"delay margin", m.DelayMarginS}, {"delay margin samples", m.DelayMarginSamples},
 				{"peak sensitivity", m.PeakSensitivityDB}, {"peak sensitivity Hz", m.PeakSensitivityHz}} {
 				bad(l.Name+": "+p.n, p.v)
+			}
+			if d := l.Disk; d != nil {
+				bad(l.Name+": disk margin", &d.Alpha)
+				bad(l.Name+": disk margin phase", &d.PhaseDeg)
+			}
+			if rb := l.Robust; rb != nil && rb.Worst != nil {
+				if math.IsNaN(rb.WorstRadius) {
+					t.Fatalf("%s: worst radius NaN over the range\n%s", l.Name, src)
+				}
+				bad(l.Name+": smallest gain margin over the range", rb.GainMarginDB)
+				bad(l.Name+": smallest phase margin over the range", rb.PhaseMarginDeg)
 			}
 			r, md := l.MaxRadius, l.MinDamping
 			bad(l.Name+": max radius", &r)

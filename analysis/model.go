@@ -156,6 +156,9 @@ type Block struct {
 	// Gains lists the gain names the block depends on (directly or
 	// through the blocks it uses).
 	Gains []string
+	// Realization is how the block runs on the target (its `realize`
+	// line); nil without one.
+	Realization *Realization
 }
 
 // Loop is a feedback loop and everything computed for it.
@@ -201,6 +204,9 @@ type Loop struct {
 	// Disk is the symmetric disk margin; nil unless the loop is stable
 	// (disk.go).
 	Disk *DiskMargin
+	// Realized holds the figures of the loop with every realized block in
+	// its rounded form; nil when no block of the loop is realized.
+	Realized *RealizedLoop
 }
 
 // HiddenMode is a block pole cancelled by a zero in the loop: invisible in

@@ -33,6 +33,13 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err != nil {
 		return nil, err
 	}
+	if rs := realizeAt(res, pos); rs != nil && rs.Block != nil {
+		r, err := m.SpanRange(rs.Span)
+		if err != nil {
+			return nil, err
+		}
+		return protocol.Hover{Contents: protocol.MarkupContent{Kind: "markdown", Value: realizeHover(res, rs)}, Range: &r}, nil
+	}
 	t := resolveAt(res, pos)
 	if t == nil {
 		return nil, nil
@@ -51,7 +58,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 		}
 		switch {
 		case t.loop != nil:
-			md = loopHover(t.loop)
+			md = loopHover(t.loop) + realizedLoopText(t.loop)
 		case t.lstmt != nil:
 			md = fmt.Sprintf("**loop %s**: not analysed", t.name)
 		case t.decl != nil && t.decl.Gain != nil:

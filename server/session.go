@@ -248,6 +248,11 @@ type cached struct {
 // for it instead of computing it again.
 func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysis.Result, error) {
 	s := sn.s
+	if sn.settings.Trigger != "save" {
+		// The live analysis is the full one: a quick one beside it would
+		// be work done twice.
+		full = true
+	}
 	key := cacheKey{path: path, full: full, gen: sn.gen}
 	keys := []cacheKey{key}
 	if !full {

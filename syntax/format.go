@@ -290,6 +290,8 @@ func (p *printer) stmt(i int, s Stmt) {
 				l.rest += " prewarp " + numberText(s.Via.Prewarp)
 			}
 		}
+	case *RealizeStmt:
+		l.code = "realize " + s.Block.Name + " as " + s.Structure.Name + " in " + s.Format.Name
 	default:
 		l.code = string(p.f.Src[s.Pos():s.End()])
 		l.raw = true
