@@ -303,3 +303,19 @@ func BenchmarkManyChanges(b *testing.B) {
 		}
 	}
 }
+
+// Renaming a realized block renames its realize line too, and the file
+// reads back the same with the new name.
+func TestRenameRealizedBlock(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	src := "sample 1 ms\nblock n = 0.5/(z - 0.5)\nrealize n as sections in q1.14\nloop l {\n  forward n\n}\n"
+	uri := c.open("rz.loop", src)
+	var we protocol.WorkspaceEdit
+	if err := c.call(protocol.MethodTextDocumentRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "n =", 0, 0)), NewName: "notch"}, &we); err != nil {
+		t.Fatal(err)
+	}
+	c.applyEdit(&we)
+	if err := syntax.SameTree([]byte(src), []byte(c.text(uri)), map[string]string{"n": "notch"}); err != nil || !strings.Contains(c.text(uri), "realize notch as") {
+		t.Fatalf("%v\n%s", err, c.text(uri))
+	}
+}

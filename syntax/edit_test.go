@@ -38,6 +38,18 @@ func TestSameTreeSeesChanges(t *testing.T) {
 			t.Errorf("%q read as the same tree as %q", b, a)
 		}
 	}
+	for _, c := range [][2]string{
+		{"gain k = 1 vary 0.5 to 2\n", "gain k = 1 vary 0.5 to 3\n"},
+		{"realize n as sections in q1.14\n", "realize n as direct in q1.14\n"},
+		{"realize n as sections in q1.14\n", "realize m as sections in q1.14\n"},
+	} {
+		if SameTree([]byte(c[0]), []byte(c[1]), nil) == nil {
+			t.Errorf("%q read as the same tree as %q", c[1], c[0])
+		}
+	}
+	if err := SameTree([]byte("realize n as sections in q1.14\n"), []byte("realize  m  as sections in q1.14\n"), map[string]string{"n": "m"}); err != nil {
+		t.Errorf("renamed realize line: %v", err)
+	}
 	if err := SameTree(a, []byte("block   b = 2*e3 # note\n"), map[string]string{"k": "e3"}); err != nil {
 		t.Errorf("layout and '*' versus side by side: %v", err)
 	}
