@@ -3,6 +3,7 @@ package realize
 import (
 	"errors"
 	"math"
+	"math/big"
 	"math/cmplx"
 	"math/rand"
 	"testing"
@@ -120,7 +121,7 @@ func checkAgainstExact(t *testing.T, r *Realization, rng *rand.Rand, n int) {
 	t.Helper()
 	h := r.Headroom
 	m := NewMachine(r)
-	exact := newFloat[float64](r)
+	exact := newExact(r)
 	q := r.Format.Quantum()
 	out := h.Nodes[len(h.Nodes)-1-r.Sections[len(r.Sections)-1].Order()]
 	for k := 0; k < n; k++ {
@@ -129,13 +130,17 @@ func checkAgainstExact(t *testing.T, r *Realization, rng *rand.Rand, n int) {
 		if math.Abs(float64(raw)*q) > h.MaxInput {
 			raw = 0
 		}
-		y := float64(m.Step(raw)) * q
-		ye := exact.step(float64(raw) * q)
+		yRaw := m.Step(raw)
+		y := new(big.Float).SetPrec(exactPrec).SetInt64(yRaw)
+		y.Mul(y, bf(q))
+		xe := new(big.Float).SetPrec(exactPrec).SetInt64(raw)
+		ye := exact.step(xe.Mul(xe, bf(q)))
 		if m.Saturations > 0 {
 			t.Fatalf("%v %v: saturated at sample %d with |x| ≤ %g", r.Structure, r.Format, k, h.MaxInput)
 		}
-		if d := math.Abs(y - ye); r.Structure != Delta && d > out.Noise*(1+1e-9)+1e-12 {
-			t.Fatalf("%v %v: sample %d: fixed %g, exact %g, bound %g", r.Structure, r.Format, k, y, ye, out.Noise)
+		d, _ := new(big.Float).Sub(y, ye).Float64()
+		if r.Structure != Delta && math.Abs(d) > out.Noise*(1+1e-9)+1e-12 {
+			t.Fatalf("%v %v: sample %d: fixed %v, exact %v, bound %g", r.Structure, r.Format, k, y, ye, out.Noise)
 		}
 	}
 }
