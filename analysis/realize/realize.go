@@ -26,6 +26,8 @@ type Realization struct {
 	// Poles of the rounded structure (for sections, the union of the
 	// sections' poles), and the ideal poles they are matched with.
 	Poles, IdealPoles []complex128
+	// fac is the rounded transfer function factored (Factored).
+	fac lti.Factored
 	// MaxPoleShift is the largest distance between an ideal pole and its
 	// rounded counterpart (nearest-first matching).
 	MaxPoleShift float64
@@ -85,9 +87,10 @@ func Try(tf poly.Rational, st Structure, f Format, T, tol float64) (*Realization
 		return nil, err
 	}
 	r.TF = r.transfer()
-	if r.Poles, err = r.poles(); err != nil {
-		return nil, err
+	if r.fac, err = r.factor(); err != nil {
+		return nil, fmt.Errorf("rounded structure: %v", err)
 	}
+	r.Poles = r.fac.Poles
 	if tf.Den.Degree() > 0 {
 		rr, err := roots.Find(tf.Den)
 		if err != nil {
@@ -162,33 +165,6 @@ func (r *Realization) transfer() poly.Rational {
 	return tf
 }
 
-// poles of the rounded structure, from each section's own denominator (for
-// the delta form the roots in δ, mapped back by z = 1 + Δδ, which keeps
-// their accuracy near z = 1).
-func (r *Realization) poles() ([]complex128, error) {
-	var out []complex128
-	for _, s := range r.Sections {
-		if s.Order() == 0 {
-			continue
-		}
-		p := make(poly.Poly, len(s.A))
-		for k, v := range s.A {
-			p[len(s.A)-1-k] = v
-		}
-		rr, err := roots.Find(p)
-		if err != nil {
-			return nil, fmt.Errorf("rounded poles: %v", err)
-		}
-		for _, z := range rr.Roots {
-			if r.Structure == Delta {
-				z = 1 + complex(r.Delta(), 0)*z
-			}
-			out = append(out, z)
-		}
-	}
-	return out, nil
-}
-
 // maxShift matches ideal and rounded poles nearest pair first and returns
 // the largest distance of a matched pair.
 func maxShift(ideal, rounded []complex128) float64 {
@@ -247,10 +223,16 @@ func qPoly(c []float64) poly.Poly {
 }
 
 // Factored is the rounded structure's transfer function in z as gain, zeros
-// and poles, each section factored on its own (for the delta form in δ and
-// mapped by z = 1 + Δδ, gain times Δ^(poles − zeros)): the form the loop
-// analysis works on.
-func (r *Realization) Factored() (lti.Factored, error) {
+// and poles (the form the loop analysis works on); its poles are Poles.
+func (r *Realization) Factored() lti.Factored {
+	return r.fac.Mul(lti.Const(1)) // a copy
+}
+
+// factor factors each section on its own — roots of its own polynomials,
+// which keeps poles crowded near z = 1 as accurate as the sections
+// themselves; the delta form in δ, mapped by z = 1 + Δδ (gain times
+// Δ^(poles − zeros)).
+func (r *Realization) factor() (lti.Factored, error) {
 	f := lti.Const(1)
 	d := r.Delta()
 	for _, s := range r.Sections {
