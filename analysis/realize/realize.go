@@ -243,12 +243,45 @@ func (r *Realization) factor() (lti.Factored, error) {
 		if err := g.MulPoly(qPoly(s.A), -1); err != nil {
 			return lti.Factored{}, err
 		}
+		if err := ownRoots(&g, s); err != nil {
+			return lti.Factored{}, err
+		}
 		if r.Structure == Delta {
 			g = toZ(g, d)
 		}
 		f = f.Mul(g)
 	}
 	return f, nil
+}
+
+// ownRoots puts the roots roots.Find returns one by one into g in place of
+// the cluster means the factored form holds, and widens g.Err to cover the
+// distance between the two: a cluster mean is the better value of a true
+// multiple root, but a pair that the clustering took for one (roots at
+// −1 ± j beside a triple root at −1 have that mean) must not move a pole
+// onto the real axis unannounced. Either way the error bound holds both.
+func ownRoots(g *lti.Factored, s Section) error {
+	zs, err := rootsOf(qPoly(s.B))
+	if err != nil {
+		return err
+	}
+	ps, err := rootsOf(qPoly(s.A))
+	if err != nil {
+		return err
+	}
+	g.Err = math.Max(g.Err, math.Max(maxShift(g.Zeros, zs), maxShift(g.Poles, ps)))
+	g.Zeros, g.Poles = zs, ps
+	return nil
+}
+
+// rootsOf is every root of p, repeated by multiplicity (none for a
+// constant or the zero polynomial).
+func rootsOf(p poly.Poly) ([]complex128, error) {
+	if p.Trim().Degree() < 1 {
+		return nil, nil
+	}
+	rr, err := roots.Find(p)
+	return rr.Roots, err
 }
 
 // toZ maps a factored function of δ = (z − 1)/Δ to z.

@@ -139,7 +139,7 @@ func checkAgainstExact(t *testing.T, r *Realization, rng *rand.Rand, n int) {
 			t.Fatalf("%v %v: saturated at sample %d with |x| ≤ %g", r.Structure, r.Format, k, h.MaxInput)
 		}
 		d, _ := new(big.Float).Sub(y, ye).Float64()
-		if r.Structure != Delta && math.Abs(d) > out.Noise*(1+1e-9)+1e-12 {
+		if math.Abs(d) > out.Noise*(1+1e-9)+1e-12 {
 			t.Fatalf("%v %v: sample %d: fixed %v, exact %v, bound %g", r.Structure, r.Format, k, y, ye, out.Noise)
 		}
 	}
