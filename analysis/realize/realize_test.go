@@ -171,3 +171,26 @@ func TestUnstableHasNoHeadroom(t *testing.T) {
 	}
 	_ = cmplx.Abs
 }
+
+// A complex pair whose mean coincides with a triple root, (z + 1)³(z² + 2z
+// + 2): the rounded structure's poles are still −1 ± j and the triple −1
+// (by construction), not a double root at the pair's mean, and the factored
+// form's error bound covers any difference from the cluster means.
+func TestPairBesideTripleRoot(t *testing.T) {
+	den := poly.New(2, 8, 13, 11, 5, 1) // (z+1)^3 (z^2+2z+2), expanded by hand
+	r, err := Try(poly.R(poly.Const(1), den), Direct, Format{Kind: Float64}, 1e-3, 1e-6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []complex128{complex(-1, 1), complex(-1, -1)} {
+		if d := nearestDist(r.Poles, want); d > 1e-6 {
+			t.Errorf("pole %v missing (nearest at %g): %v", want, d, r.Poles)
+		}
+	}
+	f := r.Factored()
+	for _, want := range []complex128{complex(-1, 1), complex(-1, -1), -1} {
+		if d := nearestDist(f.Poles, want); d > 1e-6+f.Err {
+			t.Errorf("factored pole %v missing beyond the error bound %g: %v", want, f.Err, f.Poles)
+		}
+	}
+}
