@@ -386,6 +386,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 	default:
 		fmt.Fprintf(&w, "No value found that makes loops %s stable.\n", strings.Join(lim.Loops, ", "))
 	}
+	if g.Vary != nil { // uncertain: nobody sets it, the loops' hovers give the range verdicts
+		return w.String()
+	}
 	if v, ok := lim.SafeValue(); ok {
 		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %s.\n", g.Name, analysis.FormatNumber(v))
 	} else if lim.SafeMaxNote != "" {
