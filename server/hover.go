@@ -46,7 +46,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	}
 	var md string
 	if t.decl != nil && t.decl.Block != nil {
-		md = blockHover(t.decl.Block, res.SampleT)
+		md = blockHover(t.decl.Block, res.SampleT) + realizedBlockText(t.decl.Block)
 	} else {
 		full, err := sn.check(ctx, path, true)
 		if err != nil {
