@@ -247,6 +247,14 @@ func structureCases() []refCase {
 		c.MarginsOf = &refBlock{Num: []float64{0.025}, Den: poly.New(-0.8, 1).Mul(poly.New(-0.3, 1))}
 		cs = append(cs, c)
 	}
+	// A block whose denominator has a conjugate pair beside a triple real
+	// root: 0.5 ± 0.9j and 0.5 (three times), expanded. Root clustering must
+	// keep the pair apart from the triple root (it once merged them and
+	// called an unstable loop stable).
+	pair := refCase{Name: "pair_beside_triple", T: 1e-3}
+	pair.add("p", zblock([]float64{0.001}, []float64{-0.1325, 0.92, -2.465, 3.31, -2.5, 1}))
+	pair.Forward = []string{"p"}
+	cs = append(cs, pair)
 	return cs
 }
 
