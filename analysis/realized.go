@@ -205,7 +205,7 @@ func swapRealized(es []element, override *Block, with *realize.Realization) ([]e
 			continue
 		}
 		out[i].tf = r.TF
-		out[i].fac, out[i].facErr = r.Factored()
+		out[i].fac, out[i].facErr = r.Factored(), nil
 		names = append(names, e.name)
 		used = append(used, r)
 	}

@@ -359,8 +359,8 @@ func TestStructureCrossCheck(t *testing.T) {
 			want = "marginal"
 		}
 		got := verdictWord(l)
-		t.Logf("%-26s order %3d  radius %.12f ± %.2g  mp %.12f (err %.1g)  numpy ss %.12f  verdict %s  GM %s dB (ref %s)",
-			c.Name, len(l.Poles), l.MaxRadius, l.PoleBounds[0], r.RadiusMP, r.RadiusMPErr, r.RadiusSS, got, ptrStr(l.Margins.GainMarginDB), ptrStr(r.GMDB))
+		t.Logf("%-26s order %3d  radius %.12f ± %.2g  mp %.12f (err %.1g, ours off by %.1g)  numpy ss %.12f  verdict %s  GM %s dB (ref %s)",
+			c.Name, len(l.Poles), l.MaxRadius, l.PoleBounds[0], r.RadiusMP, r.RadiusMPErr, math.Abs(l.MaxRadius-r.RadiusMP), r.RadiusSS, got, ptrStr(l.Margins.GainMarginDB), ptrStr(r.GMDB))
 		if got == "undecided" {
 			// Allowed where the eigenvalues cannot separate a five-fold
 			// pole from its neighbours; elsewhere a decided verdict is due.

@@ -44,6 +44,13 @@ func fileMapper(f *syntax.File, encoding string) *Mapper {
 	return m
 }
 
+// edit updates m, a mapper its caller owns, to src: the text after the
+// bytes of span were replaced by n new ones (see syntax.Lines.Edit).
+func (m *Mapper) edit(src []byte, span syntax.Span, n int) {
+	m.src = src
+	m.lines.Edit(src, span.From, span.To, n)
+}
+
 // OffsetPosition converts a byte offset to a position. An offset inside a
 // multi-byte character maps to the start of that character; an offset
 // outside the text is an error naming the valid range.

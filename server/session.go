@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"time"
 
@@ -565,21 +566,25 @@ func (s *Server) didChange(params json.RawMessage) error {
 
 // applyChanges applies LSP content changes in order to a copy of text.
 func applyChanges(text []byte, changes []lspext.TextDocumentContentChangeEvent, encoding string) ([]byte, error) {
+	// One private copy, edited in place, and its line index kept up to
+	// date change by change: many changes in one notification cost the
+	// lines they move, not a copy and a rescan of the whole text each.
+	text = append([]byte(nil), text...)
+	var m *Mapper
 	for i, c := range changes {
 		if c.Range == nil {
-			text = []byte(c.Text)
+			text, m = []byte(c.Text), nil
 			continue
 		}
-		m := NewMapper(text, encoding)
+		if m == nil {
+			m = NewMapper(text, encoding)
+		}
 		span, err := m.RangeSpan(*c.Range)
 		if err != nil {
 			return nil, fmt.Errorf("change %d: %v", i, err)
 		}
-		next := make([]byte, 0, len(text)-int(span.To-span.From)+len(c.Text))
-		next = append(next, text[:span.From]...)
-		next = append(next, c.Text...)
-		next = append(next, text[span.To:]...)
-		text = next
+		text = slices.Replace(text, int(span.From), int(span.To), []byte(c.Text)...)
+		m.edit(text, span, len(c.Text))
 	}
 	return text, nil
 }

@@ -430,14 +430,24 @@ func (l loop) evalGrid(grid []float64) gridValues {
 	v := gridValues{make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)}
 	for i, th := range grid {
 		N, D := l.eval(th)
-		aN, aD := cmplx.Abs(N), cmplx.Abs(D)
+		nn, dd := sq(N), sq(D)
 		v.g[i] = imag(N * cmplx.Conj(D))
-		v.gScale[i] = aN * aD
-		v.h[i] = sq(N) - sq(D)
-		v.hScale[i] = sq(N) + sq(D)
-		v.sens[i] = aD / cmplx.Abs(N+D)
+		v.gScale[i] = fastAbs(N, nn) * fastAbs(D, dd)
+		v.h[i] = nn - dd
+		v.hScale[i] = nn + dd
+		v.sens[i] = fastAbs(D, dd) / cmplx.Abs(N+D)
 	}
 	return v
+}
+
+// fastAbs is |c| from its square s = |c|² when that neither overflowed nor
+// lost precision to underflow (√ of a normal number: one rounding), and
+// the careful cmplx.Abs otherwise: the grid evaluates it thousands of times.
+func fastAbs(c complex128, s float64) float64 {
+	if s > 0x1p-1000 && s < 0x1p1000 {
+		return math.Sqrt(s)
+	}
+	return cmplx.Abs(c)
 }
 
 // grid also records the roots of N + D, which the peak search needs.
