@@ -38,14 +38,8 @@ func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Ratio
 // loopWith evaluates a loop's characteristic polynomial and open loop with
 // the gains ev sets.
 func (c *checker) loopWith(l *Loop, ev *evaluator) (poly.Poly, poly.Rational, bool) {
-	sh := shapeOf(l.Stmt)
-	fwd, ok1 := c.elements(ev, sh.fwd, false)
-	fb, ok2 := c.elements(ev, sh.fb, false)
-	if !ok1 || !ok2 {
-		return nil, poly.Rational{}, false
-	}
-	open, char, _ := polys(tfs(fwd), tfs(fb), sh.positive)
-	return char, open, true
+	p, ok := c.atPoint(l, ev, false)
+	return p.char, p.open, ok
 }
 
 // affine returns a, b with char(k) = a + k·b when that holds.

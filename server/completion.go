@@ -9,11 +9,12 @@ import (
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
+	"ringside/analysis/realize"
 	"ringside/syntax"
 )
 
 var (
-	topKeywords  = []string{"sample", "use", "gain", "block", "loop"}
+	topKeywords  = []string{"sample", "use", "gain", "block", "loop", "realize"}
 	itemKeywords = []string{"forward", "feedback", "sign", "require"}
 	methods      = []string{"zoh", "foh", "tustin", "matched"}
 	signs        = []string{"negative", "positive"}
@@ -95,6 +96,16 @@ func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *ana
 		add(protocol.CompletionItemKindKeyword, "loop item", itemKeywords...)
 	case len(toks) == 0:
 		add(protocol.CompletionItemKindKeyword, "statement", topKeywords...)
+	case first == "realize" && len(toks) == 1:
+		names()
+	case first == "realize" && len(toks) == 2:
+		add(protocol.CompletionItemKindKeyword, "realize BLOCK as STRUCTURE", "as")
+	case first == "realize" && last == "as":
+		add(protocol.CompletionItemKindEnum, "structure", realize.Structures...)
+	case first == "realize" && len(toks) == 4:
+		add(protocol.CompletionItemKindKeyword, "realize … in FORMAT", "in")
+	case first == "realize" && last == "in":
+		add(protocol.CompletionItemKindEnum, "number format", "float64", "float32", "q15", "q31", "q1.14", "q3.12", "q1.30")
 	case last == "via":
 		add(protocol.CompletionItemKindEnum, "discretization method", methods...)
 	case last == "sign":
