@@ -44,6 +44,8 @@ usage:
   ringside export [--lang c|json] [-o PATH] FILE
 
 check exits 0 when no file has errors, 1 when any has, 2 on usage errors or unreadable input.
+export exits 0 when written, 1 when the file has errors (nothing is written), 2 on usage
+errors, unreadable input or a file without a realize line.
 `
 
 // checkMemoryLimit is the soft heap limit of `check` (GOMEMLIMIT

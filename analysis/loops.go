@@ -13,6 +13,13 @@ import (
 	"ringside/syntax"
 )
 
+// MaxLoopDegree bounds a loop's order (the number of its closed-loop
+// poles). Nothing is solved as one polynomial of that degree: the limit
+// bounds the work of the eigenvalue problem (O(n³)), the frequency grid and
+// the step simulation, and leaves room for long delays (z^-50) around a
+// plant of order 30 or more.
+const MaxLoopDegree = 160
+
 // CancelTolerance: a block pole and a zero in the same loop closer than this
 // (relative to max(1, |pole|)) cancel in L. The mode is then a closed-loop
 // pole whose weight in the output is of the order of the distance: hidden
@@ -212,8 +219,8 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 			fmt.Sprintf("loop %s cannot be analysed: %s; no verdict is given. Rescale the blocks (write the gain separately from the poles)", l.Name, msg))
 		return
 	}
-	if deg := l.Char.Degree(); deg > MaxBlockDegree {
-		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxBlockDegree))
+	if deg := l.Char.Degree(); deg > MaxLoopDegree {
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxLoopDegree))
 		return
 	}
 	if c.env.Options.Quick {

@@ -28,6 +28,10 @@ type Options struct {
 	// Tolerance is how close to the unit circle a pole's radius must be
 	// to count as on it: |r − 1| <= Tolerance.
 	Tolerance float64
+	// NoStepSamples drops the step response's samples from the result
+	// (its figures stay): for a holder of many results that draws no plot,
+	// such as an editor's diagnostics.
+	NoStepSamples bool
 	// Quick skips the loop numerics (closed-loop poles, margins, step
 	// response, gain limits): what an editor runs on every keystroke.
 	Quick bool

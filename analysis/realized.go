@@ -205,7 +205,7 @@ func swapRealized(es []element, override *Block, with *realize.Realization) ([]e
 			continue
 		}
 		out[i].tf = r.TF
-		out[i].fac, out[i].facErr = r.Factored()
+		out[i].fac, out[i].facErr = r.Factored(), nil
 		names = append(names, e.name)
 		used = append(used, r)
 	}
@@ -225,7 +225,7 @@ func (c *checker) analyseRealized(l *Loop, sh loopShape, fwd, fb []element, over
 	lc.diags, lc.pending = &diagList{}, nil
 	rl := &Loop{Name: l.Name, Stmt: l.Stmt, Forward: l.Forward, Feedback: l.Feedback, Positive: l.Positive, Gains: l.Gains}
 	lc.analyse(rl, sh, f2, b2)
-	trimStep(rl)
+	trimStep(rl, c.env.Options.NoStepSamples)
 	return rl, &RealizedLoop{Blocks: names, Elements: append(r1, r2...), Figures: rl}
 }
 

@@ -515,6 +515,16 @@ func TestRealizeHover(t *testing.T) {
 			t.Errorf("hover lacks %q:\n%s", want, h.Contents.Value)
 		}
 	}
+	// The block's own hover carries the pole shift too. In q1.14, a1 = −1.8
+	// rounds to −29491/16384 and a2 = 0.82 to 13435/16384, so the poles
+	// 0.9 ± 0.1j move to a1/−2 ± j·√(a2 − a1²/4) = 0.8999939 ± 0.1000915j:
+	// a shift of 9.17e-5 (quadratic formula).
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(1, 7)), &h); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(h.Contents.Value, "**realized** as direct in q1.14: max pole shift 9.1714e-5, rounded poles inside the unit circle; no overflow for inputs up to |x| = 1.7717") {
+		t.Errorf("block hover:\n%s", h.Contents.Value)
+	}
 }
 
 // The loop hover adds the loop's figures with its realized blocks in place.

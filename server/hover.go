@@ -46,7 +46,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	}
 	var md string
 	if t.decl != nil && t.decl.Block != nil {
-		md = blockHover(t.decl.Block, res.SampleT)
+		md = blockHover(t.decl.Block, res.SampleT) + realizedBlockText(t.decl.Block)
 	} else {
 		full, err := sn.check(ctx, path, true)
 		if err != nil {
@@ -385,6 +385,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 		fmt.Fprintf(&w, "The current value is **unstable**; the nearest stable range is %s < %s < %s (%s), loops %s.\n", lo, g.Name, hi, method, strings.Join(lim.Loops, ", "))
 	default:
 		fmt.Fprintf(&w, "No value found that makes loops %s stable.\n", strings.Join(lim.Loops, ", "))
+	}
+	if g.Vary != nil { // uncertain: nobody sets it, the loops' hovers give the range verdicts
+		return w.String()
 	}
 	if v, ok := lim.SafeValue(); ok {
 		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %s.\n", g.Name, analysis.FormatNumber(v))

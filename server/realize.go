@@ -130,3 +130,22 @@ func headroomText(h *realize.Headroom) string {
 	}
 	return b.String()
 }
+
+// realizedBlockText is the block hover's line on its realization: the pole
+// shift, whether the rounded poles stay inside, and the safe input size.
+func realizedBlockText(blk *analysis.Block) string {
+	r := blk.Realization
+	if r == nil || r.Realization == nil {
+		return ""
+	}
+	s := fmt.Sprintf("\n\n**realized** as %s: max pole shift %s, rounded poles ", r.Label(), analysis.FormatNumber(r.MaxPoleShift))
+	if r.Stable {
+		s += "inside the unit circle"
+	} else {
+		s += "**not all inside the unit circle**"
+	}
+	if h := r.Headroom; h != nil && h.Bounded && !h.Truncated {
+		s += fmt.Sprintf("; no overflow for inputs up to |x| = %s", analysis.FormatNumber(h.MaxInput))
+	}
+	return s + "\n"
+}

@@ -309,7 +309,9 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 	}
 	env := analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(!full)}
 	if full {
-		env.Memo = sn.s.ses.memo
+		// Results held for diagnostics and views keep no step samples
+		// (half their size); the plot command computes what it draws.
+		env.Memo, env.Options.NoStepSamples = sn.s.ses.memo, true
 	}
 	res = analysis.Check(ctx, path, src, env)
 	if ctx.Err() != nil {
@@ -318,11 +320,26 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 	return res, nil
 }
 
+// plotCheck analyses path with the step samples a plot draws (the results
+// the session keeps have none): on a user's request only, never cached.
+func (sn *snapshot) plotCheck(ctx context.Context, path string) (*analysis.Result, error) {
+	src, err := sn.read(path)
+	if err != nil {
+		return nil, err
+	}
+	res := analysis.Check(ctx, path, src, analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(false)})
+	if ctx.Err() != nil {
+		return nil, errCancelled
+	}
+	return res, nil
+}
+
 // cacheLimit bounds the analysis results kept for reuse. A result of a
-// 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
-// results are kept for the few files in use at the moment, not for every
-// open one; published diagnostics do not need them.
-const cacheLimit = 4
+// 200-loop file holds about 1.7 MB (trees, transfer functions, poles; no
+// step samples), so results are kept for the files in use at the moment,
+// not for every open one; published diagnostics do not need them, and the
+// memo keeps what edits reuse.
+const cacheLimit = 2
 
 // remember caches c under key, dropping stale generations and then the
 // oldest entries beyond cacheLimit.

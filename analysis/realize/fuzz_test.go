@@ -46,8 +46,8 @@ func fuzzOne(t *testing.T, data []byte) {
 			return
 		}
 		r.TestVector()
-		if fac, err := r.Factored(); err == nil && len(fac.Poles) != len(r.Poles) {
-			t.Fatalf("factored form has %d poles, the structure %d", len(fac.Poles), len(r.Poles))
+		if fac := r.Factored(); len(fac.Poles) != len(r.Poles) || len(fac.Zeros) > len(fac.Poles) {
+			t.Fatalf("factored form has %d poles and %d zeros, the structure %d poles", len(fac.Poles), len(fac.Zeros), len(r.Poles))
 		}
 		if fm.Kind != Fixed {
 			return

@@ -12,9 +12,9 @@ import (
 // Processing", l1 scaling; Oppenheim and Schafer, "Discrete-Time Signal
 // Processing", scaling of fixed-point filters — from memory). The rounding of
 // each section's output adds at most 2^-(N+1) per sample, carried to every
-// later signal by its own l1 norm; that is added as Noise. (The delta
-// form's rounded shifts by Δ add at most 2^-(2N+1) per state and sample on
-// top; Noise does not count them.)
+// later signal by its own l1 norm, and so does each rounded shift by Δ of
+// the delta form (at most 2^-(2N+1) per state and sample); that is added
+// as Noise.
 type Headroom struct {
 	Nodes []Node
 	// Bounded is false when a rounded pole lies on or outside the unit
@@ -70,19 +70,19 @@ func headroom(r *Realization, tol float64) *Headroom {
 	if r.MaxRadius > 0 {
 		need = int(math.Min(MaxImpulse, math.Ceil(math.Log(1e-14)/math.Log(r.MaxRadius))+float64(4*len(names))))
 	}
-	// One run per noise source (each section) plus the input, over every
-	// node: cap the work so that a long, slow block stays within an
-	// editor's keystroke budget.
-	length := min(need, MaxHeadroomWork/((len(r.Sections)+1)*len(names)))
+	// One run per noise source plus the input, over every node: cap the
+	// work so that a long, slow block stays within an editor's keystroke
+	// budget.
+	sources := noiseSources(r)
+	length := min(need, MaxHeadroomWork/((len(sources)+1)*len(names)))
 	if length < need || need >= MaxImpulse {
 		h.Truncated = true
 	}
-	l1 := impulseNorms(r, -1, length)
+	l1 := impulseNorms(r, source{section: -1}, length)
 	noise := make([]float64, len(l1))
-	q := r.Format.Quantum() / 2
-	for j := range r.Sections {
-		for i, v := range impulseNorms(r, j, length) {
-			noise[i] += v * q
+	for _, src := range sources {
+		for i, v := range impulseNorms(r, src, length) {
+			noise[i] += v * src.size
 		}
 	}
 	fullScale := r.Format.MaxValue()
@@ -181,10 +181,35 @@ func nodeNames(r *Realization) []nodeName {
 	return out
 }
 
+// source is where a unit impulse enters: the block input (section < 0), a
+// section's output (state 0) or one of its states (state i ≥ 1, after its
+// update); size is the largest rounding error made there per sample.
+type source struct {
+	section, state int
+	size           float64
+}
+
+// noiseSources are the rounding points of the fixed-point arithmetic: each
+// section's output (at most half a quantum, 2^-(N+1)) and, in the delta
+// form with Δ < 1, each state's shift by Δ (half a unit of the
+// accumulator, 2^-(2N+1)).
+func noiseSources(r *Realization) []source {
+	var out []source
+	for j, s := range r.Sections {
+		out = append(out, source{section: j, size: math.Ldexp(1, -r.Format.N-1)})
+		if r.Structure == Delta && r.DeltaExp < 0 {
+			for i := 1; i <= s.Order(); i++ {
+				out = append(out, source{section: j, state: i, size: math.Ldexp(1, -2*r.Format.N-1)})
+			}
+		}
+	}
+	return out
+}
+
 // impulseNorms runs the rounded structure in exact (float64) arithmetic on
-// a unit impulse — at the block input (src < 0) or added to section src's
-// output — and returns the l1 norm of every node, in nodeNames order.
-func impulseNorms(r *Realization, src, length int) []float64 {
+// a unit impulse entering at src and returns the l1 norm of every node, in
+// nodeNames order.
+func impulseNorms(r *Realization, src source, length int) []float64 {
 	states := make([][]float64, len(r.Sections))
 	for i, s := range r.Sections {
 		states[i] = make([]float64, s.Order())
@@ -193,7 +218,7 @@ func impulseNorms(r *Realization, src, length int) []float64 {
 	d := r.Delta()
 	for k := 0; k < length; k++ {
 		x := 0.0
-		if k == 0 && src < 0 {
+		if k == 0 && src.section < 0 {
 			x = 1
 		}
 		node := 0
@@ -204,7 +229,7 @@ func impulseNorms(r *Realization, src, length int) []float64 {
 			if n > 0 {
 				y += st[0]
 			}
-			if k == 0 && si == src {
+			if k == 0 && si == src.section && src.state == 0 {
 				y++
 			}
 			for i := 1; i <= n; i++ {
@@ -216,6 +241,9 @@ func impulseNorms(r *Realization, src, length int) []float64 {
 					v = st[i-1] + d*v
 				}
 				st[i-1] = v
+			}
+			if k == 0 && si == src.section && src.state > 0 {
+				st[src.state-1]++
 			}
 			if k == 0 {
 				norms = append(norms, make([]float64, n+1)...)

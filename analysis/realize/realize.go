@@ -26,6 +26,8 @@ type Realization struct {
 	// Poles of the rounded structure (for sections, the union of the
 	// sections' poles), and the ideal poles they are matched with.
 	Poles, IdealPoles []complex128
+	// fac is the rounded transfer function factored (Factored).
+	fac lti.Factored
 	// MaxPoleShift is the largest distance between an ideal pole and its
 	// rounded counterpart (nearest-first matching).
 	MaxPoleShift float64
@@ -85,9 +87,10 @@ func Try(tf poly.Rational, st Structure, f Format, T, tol float64) (*Realization
 		return nil, err
 	}
 	r.TF = r.transfer()
-	if r.Poles, err = r.poles(); err != nil {
-		return nil, err
+	if r.fac, err = r.factor(); err != nil {
+		return nil, fmt.Errorf("rounded structure: %v", err)
 	}
+	r.Poles = r.fac.Poles
 	if tf.Den.Degree() > 0 {
 		rr, err := roots.Find(tf.Den)
 		if err != nil {
@@ -162,33 +165,6 @@ func (r *Realization) transfer() poly.Rational {
 	return tf
 }
 
-// poles of the rounded structure, from each section's own denominator (for
-// the delta form the roots in δ, mapped back by z = 1 + Δδ, which keeps
-// their accuracy near z = 1).
-func (r *Realization) poles() ([]complex128, error) {
-	var out []complex128
-	for _, s := range r.Sections {
-		if s.Order() == 0 {
-			continue
-		}
-		p := make(poly.Poly, len(s.A))
-		for k, v := range s.A {
-			p[len(s.A)-1-k] = v
-		}
-		rr, err := roots.Find(p)
-		if err != nil {
-			return nil, fmt.Errorf("rounded poles: %v", err)
-		}
-		for _, z := range rr.Roots {
-			if r.Structure == Delta {
-				z = 1 + complex(r.Delta(), 0)*z
-			}
-			out = append(out, z)
-		}
-	}
-	return out, nil
-}
-
 // maxShift matches ideal and rounded poles nearest pair first and returns
 // the largest distance of a matched pair.
 func maxShift(ideal, rounded []complex128) float64 {
@@ -247,10 +223,16 @@ func qPoly(c []float64) poly.Poly {
 }
 
 // Factored is the rounded structure's transfer function in z as gain, zeros
-// and poles, each section factored on its own (for the delta form in δ and
-// mapped by z = 1 + Δδ, gain times Δ^(poles − zeros)): the form the loop
-// analysis works on.
-func (r *Realization) Factored() (lti.Factored, error) {
+// and poles (the form the loop analysis works on); its poles are Poles.
+func (r *Realization) Factored() lti.Factored {
+	return r.fac.Mul(lti.Const(1)) // a copy
+}
+
+// factor factors each section on its own — roots of its own polynomials,
+// which keeps poles crowded near z = 1 as accurate as the sections
+// themselves; the delta form in δ, mapped by z = 1 + Δδ (gain times
+// Δ^(poles − zeros)).
+func (r *Realization) factor() (lti.Factored, error) {
 	f := lti.Const(1)
 	d := r.Delta()
 	for _, s := range r.Sections {
@@ -261,12 +243,45 @@ func (r *Realization) Factored() (lti.Factored, error) {
 		if err := g.MulPoly(qPoly(s.A), -1); err != nil {
 			return lti.Factored{}, err
 		}
+		if err := ownRoots(&g, s); err != nil {
+			return lti.Factored{}, err
+		}
 		if r.Structure == Delta {
 			g = toZ(g, d)
 		}
 		f = f.Mul(g)
 	}
 	return f, nil
+}
+
+// ownRoots puts the roots roots.Find returns one by one into g in place of
+// the cluster means the factored form holds, and widens g.Err to cover the
+// distance between the two: a cluster mean is the better value of a true
+// multiple root, but a pair that the clustering took for one (roots at
+// −1 ± j beside a triple root at −1 have that mean) must not move a pole
+// onto the real axis unannounced. Either way the error bound holds both.
+func ownRoots(g *lti.Factored, s Section) error {
+	zs, err := rootsOf(qPoly(s.B))
+	if err != nil {
+		return err
+	}
+	ps, err := rootsOf(qPoly(s.A))
+	if err != nil {
+		return err
+	}
+	g.Err = math.Max(g.Err, math.Max(maxShift(g.Zeros, zs), maxShift(g.Poles, ps)))
+	g.Zeros, g.Poles = zs, ps
+	return nil
+}
+
+// rootsOf is every root of p, repeated by multiplicity (none for a
+// constant or the zero polynomial).
+func rootsOf(p poly.Poly) ([]complex128, error) {
+	if p.Trim().Degree() < 1 {
+		return nil, nil
+	}
+	rr, err := roots.Find(p)
+	return rr.Roots, err
 }
 
 // toZ maps a factored function of δ = (z − 1)/Δ to z.
