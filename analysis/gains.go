@@ -174,13 +174,18 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 // by D-decomposition on the frequency response when the gain scales L
 // (scalingInterval); by the exact affine method on the characteristic
 // polynomials when they are affine in the gain and of low order
-// (MaxAffineDegree), each end then verified by an eigenvalue check; and
-// otherwise by a march with eigenvalue checks (numericInterval).
+// (MaxAffineDegree), each end then verified by an eigenvalue check; by the
+// D-decomposition of the gain axis when they are polynomial of low degree
+// in the gain (polyInterval); and otherwise by a march with eigenvalue
+// checks (numericInterval).
 func (c *checker) interval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, error) {
 	if iv, ok := c.scalingInterval(name, k0, loops); ok {
 		return iv, nil
 	}
 	if iv, ok := c.affineInterval(name, k0, loops); ok {
+		return iv, nil
+	}
+	if iv, ok := c.polyInterval(name, k0, loops); ok {
 		return iv, nil
 	}
 	return c.numericInterval(name, k0, loops)
