@@ -9,10 +9,12 @@ import (
 )
 
 // MaxDDecompDegree is the highest characteristic-polynomial degree in z
-// for which polyInterval evaluates the expanded polynomial on the circle:
-// its candidates are then accurate to well inside the end verification's
-// thousandth of the span. Beyond it, the march with eigenvalue checks.
-const MaxDDecompDegree = 24
+// for which polyInterval evaluates the expanded polynomial on the circle
+// (gainlimit.DBoundary widens its test for a real root by the rounding
+// bound of that evaluation, and gives up where rounding swamps it); it
+// keeps the ω grid, 48 points per degree, to a few thousand points.
+// Beyond it, the march with eigenvalue checks.
+const MaxDDecompDegree = 40
 
 // gainNodes are the points s = (k − k0)/h at which a loop's characteristic
 // polynomial is evaluated to fit it as a polynomial in s: distinct, spread

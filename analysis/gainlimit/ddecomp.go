@@ -40,6 +40,15 @@ const (
 // coefficients rounded to ε ≈ 1e-16, with room for a double root (√ε).
 const ddRealTol = 1e-7
 
+// ddMaxCandidates bounds the candidates DBoundary returns: more mean the
+// polynomial's values on the circle are lost to rounding over a range of ω
+// (roots clustered near the circle), and it gives up.
+const ddMaxCandidates = 256
+
+// ErrIllConditioned is returned when rounding hides where roots cross the
+// circle.
+var ErrIllConditioned = errors.New("gainlimit: characteristic polynomial too ill-conditioned on the circle for the D-decomposition")
+
 // ErrGainDegree is returned when p is of too high a degree in the gain.
 var ErrGainDegree = errors.New("gainlimit: characteristic polynomial of too high a degree in the gain")
 
@@ -78,16 +87,52 @@ func DBoundary(q []poly.Poly) ([]float64, error) {
 		}
 	}
 	out = append(out, realRoots(complexCoeffs(lead))...)
+	norms := make([]float64, len(q))
+	for j, p := range q {
+		for _, v := range p {
+			norms[j] += math.Abs(v)
+		}
+	}
+	gamma := 4 * float64(n+len(q)) * 0x1p-53
 	at := func(w float64) []complex128 { return rootsInS(q, cmplx.Exp(complex(0, w))) }
-	out = append(out, realOf(at(0))...)
-	out = append(out, realOf(at(math.Pi))...)
+	// onAxis keeps the roots that are real within ddRealTol or within the
+	// first-order error bound of a root of the evaluated polynomial:
+	// γ·Σ_j |s|^j ‖q_j‖₁ / |∂p/∂s| (Horner's rounding bound over the
+	// derivative), so that rounding cannot hide a crossing.
+	onAxis := func(w float64, rs []complex128) []float64 {
+		z := cmplx.Exp(complex(0, w))
+		var out []float64
+		for _, r := range rs {
+			e, d, pow := 0.0, complex(0, 0), complex(1, 0)
+			for j := range q {
+				e += norms[j] * math.Pow(cmplx.Abs(r), float64(j))
+				if j > 0 {
+					d += complex(float64(j), 0) * pow * evalC(q[j], z)
+					pow *= r
+				}
+			}
+			tol := ddRealTol * (1 + cmplx.Abs(r))
+			if a := cmplx.Abs(d); a > 0 {
+				tol = math.Max(tol, gamma*e/a)
+			}
+			if math.Abs(imag(r)) <= tol {
+				out = append(out, real(r))
+			}
+		}
+		return out
+	}
+	out = append(out, onAxis(0, at(0))...)
+	out = append(out, onAxis(math.Pi, at(math.Pi))...)
 	m := min(max(ddGridMin, ddGridPerDegree*(n+1)), ddGridMax)
 	prevW := 0.0
 	var prevCount int
 	for i := 0; i < m; i++ {
 		w := math.Pi * (float64(i) + 0.5) / float64(m)
 		rs := at(w)
-		out = append(out, realOf(rs)...)
+		out = append(out, onAxis(w, rs)...)
+		if len(out) > ddMaxCandidates {
+			return nil, ErrIllConditioned
+		}
 		cnt := upper(rs)
 		if i > 0 && cnt != prevCount {
 			if s, ok := crossing(at, prevW, w, prevCount); ok {
