@@ -12,7 +12,6 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"io/fs"
@@ -23,7 +22,7 @@ import (
 
 	"ringside/analysis"
 	"ringside/analysis/plot"
-	"ringside/analysis/report"
+	"ringside/cliflag"
 	"ringside/server"
 	"ringside/syntax"
 )
@@ -74,49 +73,27 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return exitUsage
 }
 
-// parseInterleaved parses flags that may come before or after the
-// positional arguments.
-func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
-	var pos []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			return nil, err
-		}
-		args = fs.Args()
-		if len(args) == 0 {
-			return pos, nil
-		}
-		pos = append(pos, args[0])
-		args = args[1:]
+// parseFlags parses a command's flags (before or after the positional
+// arguments); status is -1 to go on, else the exit status (help printed,
+// or a usage error explained on stderr).
+func parseFlags(fs *cliflag.Set, args []string, stdout, stderr io.Writer) ([]string, int) {
+	pos, err := fs.Parse(args, stdout)
+	if errors.Is(err, cliflag.ErrHelp) {
+		return nil, 0
 	}
+	if err != nil {
+		fmt.Fprintf(stderr, "%s: %v\n", fs.Name(), err)
+		return nil, exitUsage
+	}
+	return pos, -1
 }
 
 func runCheck(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("check", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	format := fset.String("format", "text", "output format: text, json or sarif")
-	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
-	opts := analysis.DefaultOptions()
-	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
-	fset.Float64Var(&opts.PhaseMarginDeg, "phase-margin", opts.PhaseMarginDeg, "default required phase margin in degrees")
-	fset.Float64Var(&opts.Tolerance, "tolerance", opts.Tolerance, "how close to the unit circle a pole radius counts as on it")
-	fset.DurationVar(&opts.Budget, "budget", 0, "time limit per file (e.g. 30s); loops not reached are reported, not guessed")
-	paths, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	cf, status := parseCheckFlags(args, stdout, stderr)
+	if status >= 0 {
+		return status
 	}
-	if *format != "text" && *format != "json" && *format != "sarif" {
-		fmt.Fprintf(stderr, "ringside check: unknown --format %q (want text, json or sarif)\n", *format)
-		return exitUsage
-	}
-	if len(paths) == 0 {
-		fmt.Fprint(stderr, "ringside check: name at least one .loop file or folder\n")
-		return exitUsage
-	}
-	if !(opts.Tolerance > 0 && opts.Tolerance < 0.1) {
-		fmt.Fprintf(stderr, "ringside check: --tolerance %g must be between 0 and 0.1\n", opts.Tolerance)
-		return exitUsage
-	}
+	opts, root, paths := cf.opts, &cf.root, cf.paths
 	cwd, _ := os.Getwd()
 	rootDir := cwd
 	if *root != "" {
@@ -144,20 +121,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		}
 		return p
 	}
-	switch *format {
-	case "json":
-		writeJSON(stdout, report.Build(results, display))
-	case "sarif":
-		writeJSON(stdout, report.SARIF(results, display, version))
-	default:
-		report.Text(stdout, results, display)
-	}
-	for _, r := range results {
-		if r.HasErrors() {
-			return 1
-		}
-	}
-	return 0
+	return writeCheck(stdout, stderr, results, display, cf)
 }
 
 func writeJSON(w io.Writer, v any) {
@@ -205,12 +169,12 @@ func collect(paths []string) ([]string, error) {
 }
 
 func runFmt(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("fmt", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	write := fset.Bool("w", false, "write the result back to each file instead of printing it")
-	files, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	fset := cliflag.New("ringside fmt", "FILE...", "Prints each .loop file in the canonical layout, or rewrites it with -w.")
+	write := new(bool)
+	fset.Bool(write, "w", "write the result back to each file instead of printing it")
+	files, st := parseFlags(fset, args, stdout, stderr)
+	if st >= 0 {
+		return st
 	}
 	if len(files) == 0 {
 		fmt.Fprint(stderr, "ringside fmt: name at least one .loop file\n")
@@ -246,14 +210,14 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 }
 
 func runPlot(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("plot", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	loopName := fset.String("loop", "", "plot only this loop (default: every loop of the file)")
-	out := fset.String("o", "", "output file: .svg (default), .png, or .html for one page with every loop")
-	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
-	files, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	fset := cliflag.New("ringside plot", "FILE", "Draws each loop's z-plane, Bode and step response: SVG, PNG, or one HTML page.")
+	loopName, out, root := new(string), new(string), new(string)
+	fset.String(loopName, "loop", "plot only the loop `NAME` (default: every loop of the file)")
+	fset.String(out, "o", "output `FILE`: .svg (default: SVG on stdout), .png, or .html for one page with every loop")
+	fset.String(root, "root", "workspace folder `DIR` that use lines may not leave (default: the current folder)")
+	files, status := parseFlags(fset, args, stdout, stderr)
+	if status >= 0 {
+		return status
 	}
 	if len(files) != 1 {
 		fmt.Fprint(stderr, "ringside plot: name exactly one .loop file\n")

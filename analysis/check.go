@@ -118,6 +118,7 @@ func (c *checker) run(ctx context.Context) {
 		}
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
+	c.quietIntegrators()
 	c.gainLimits(ctx)
 	c.summaries()
 }

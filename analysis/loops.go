@@ -364,6 +364,9 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 	}
 	worst := l.Poles[0]
 	where := fmt.Sprintf("z = %s (radius %s)", fmtComplex(worst.Z), FormatRadius(worst.Radius))
+	if d := CircleDistance(worst.Radius, c.env.Options.Tolerance); d != "" {
+		where = fmt.Sprintf("z = %s (radius %s, %s)", fmtComplex(worst.Z), FormatRadius(worst.Radius), d)
+	}
 	var x *Diagnostic
 	if l.Marginal {
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,

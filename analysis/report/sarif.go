@@ -46,6 +46,9 @@ type sarifResult struct {
 	Message          sarifMessage    `json:"message"`
 	Locations        []sarifLocation `json:"locations"`
 	RelatedLocations []sarifLocation `json:"relatedLocations,omitempty"`
+	// BaselineState (new, unchanged, updated, absent) is set when the run
+	// is compared with a baseline (`check --baseline`).
+	BaselineState string `json:"baselineState,omitempty"`
 }
 
 type sarifLocation struct {
@@ -72,6 +75,27 @@ type sarifRegion struct {
 // SARIF builds the SARIF log of the results. uri maps a path to the
 // artifact URI (relative to the repository root, with forward slashes).
 func SARIF(results []*analysis.Result, uri func(string) string, version string) any {
+	return SARIFAgainst(results, uri, version, nil)
+}
+
+// Baseline tells each result's SARIF baselineState against an earlier
+// run, and lists that run's results that are gone.
+type Baseline interface {
+	// State is "new", "unchanged" or "updated" for a result of this run.
+	State(uri, code, message string) string
+	// Absent lists the earlier run's results with no counterpart now.
+	Absent() []AbsentResult
+}
+
+// AbsentResult is a result of the earlier run that this run no longer has.
+type AbsentResult struct {
+	URI string
+	Diagnostic
+}
+
+// SARIFAgainst is SARIF with each result's baselineState set from base
+// (nil: no baseline, no states), absent results included.
+func SARIFAgainst(results []*analysis.Result, uri func(string) string, version string, base Baseline) any {
 	run := sarifRun{Tool: sarifTool{Driver: sarifDriver{Name: "ringside", Version: version}}, ColumnKind: "unicodeCodePoints", Results: []sarifResult{}}
 	rules := map[string]bool{}
 	for _, r := range results {
@@ -82,7 +106,18 @@ func SARIF(results []*analysis.Result, uri func(string) string, version string) 
 			for _, rel := range d.Related {
 				res.RelatedLocations = append(res.RelatedLocations, location(r, rel.Path, rel.Span.From, rel.Span.To, uri, rel.Message))
 			}
+			if base != nil {
+				res.BaselineState = base.State(uri(d.Path), d.Code, d.Message)
+			}
 			run.Results = append(run.Results, res)
+		}
+	}
+	if base != nil {
+		for _, a := range base.Absent() {
+			rules[a.Code] = true
+			run.Results = append(run.Results, sarifResult{RuleID: a.Code, Level: levelName(a.Severity), Message: sarifMessage{a.Message},
+				Locations:     []sarifLocation{{PhysicalLocation: sarifPhysical{ArtifactLocation: sarifArtifact{URI: a.URI}, Region: sarifRegion{a.Line, a.Column, a.EndLine, a.EndColumn}}}},
+				BaselineState: "absent"})
 		}
 	}
 	ids := make([]string, 0, len(rules))
@@ -115,6 +150,15 @@ func level(s analysis.Severity) string {
 		return "error"
 	case analysis.Warning:
 		return "warning"
+	}
+	return "note"
+}
+
+// levelName maps a severity word of the JSON document to a SARIF level.
+func levelName(sev string) string {
+	switch sev {
+	case "error", "warning":
+		return sev
 	}
 	return "note"
 }

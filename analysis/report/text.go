@@ -12,10 +12,11 @@ import (
 const Caution = "ringside assumes linear, time-invariant models at one sample period; it cannot see saturation, quantisation, " +
 	"timing jitter or unmodelled dynamics. Validate on the real system and follow your local safety practice."
 
-// Text writes `file:line:col: severity: message [code]` lines, then a
-// count and the caution.
+// Text writes `file:line:col: severity: message [code]` lines, then the
+// overview table of every loop, the summary naming failing loops, and the
+// caution.
 func Text(w io.Writer, results []*analysis.Result, display func(string) string) {
-	var errs, warns int
+	var o Overview
 	for _, r := range results {
 		for _, d := range r.Diagnostics {
 			line, col := Position(r, d.Path, int(d.Span.From))
@@ -24,13 +25,9 @@ func Text(w io.Writer, results []*analysis.Result, display func(string) string) 
 				l2, c2 := Position(r, rel.Path, int(rel.Span.From))
 				fmt.Fprintf(w, "\t%s:%d:%d: %s\n", display(rel.Path), l2, c2, rel.Message)
 			}
-			switch d.Severity {
-			case analysis.Error:
-				errs++
-			case analysis.Warning:
-				warns++
-			}
 		}
+		o.Add(r, display)
 	}
-	fmt.Fprintf(w, "%d file(s) checked: %d error(s), %d warning(s).\n%s\n", len(results), errs, warns, Caution)
+	o.Write(w)
+	fmt.Fprintln(w, Caution)
 }
