@@ -65,6 +65,9 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
+	// noStep skips the step response (trial loops of a fix search whose
+	// requirements need no step figure).
+	noStep bool
 }
 
 func (c *checker) run(ctx context.Context) {

@@ -168,7 +168,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 		if e.block == nil {
 			gains[e.name] = true
 		} else {
-			for g := range ev.memo[e.name].gains {
+			for g := range ev.block(e.decl).gains {
 				gains[g] = true
 			}
 		}
@@ -200,7 +200,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 		c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
 	l.Margins = m
-	if l.Stable {
+	if l.Stable && !c.noStep {
 		st, err := step.Simulate(l.Closed, c.res.SampleT, l.MaxRadius)
 		if err != nil {
 			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))

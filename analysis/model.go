@@ -108,6 +108,10 @@ type Gain struct {
 	Value    float64
 	Min, Max *float64
 	Limits   *GainLimits // nil when no loop of this file uses it
+	// Fit is the value the quick-fix offers, keeping every requirement it
+	// can (fixsearch.go); nil until a failing loop asks for a fix.
+	Fit     *GainFit
+	fitDone bool
 }
 
 // GainLimits are the values of a gain that keep every loop using it stable

@@ -54,8 +54,14 @@ func (l *Loop) WorstMissed() *Requirement {
 	return worst
 }
 
+// shortfall is how far a requirement is missed, relative to it; a figure
+// that cannot be had (step figures of an unstable loop) ranks last, since
+// the verdict already says why.
 func shortfall(q *Requirement) float64 {
-	if q.Got == nil || math.IsInf(*q.Got, 0) {
+	if q.Got == nil {
+		return -1
+	}
+	if math.IsInf(*q.Got, 0) {
 		return math.Inf(1)
 	}
 	d := *q.Got - q.Want

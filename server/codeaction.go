@@ -33,6 +33,9 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 	if err != nil {
 		return nil, err
 	}
+	// One fix offered for several diagnostics (a gain fix on both the
+	// unstable verdict and the missed margin) is one action listing them.
+	seen := map[string]int{}
 	for _, cd := range p.Context.Diagnostics {
 		for _, d := range res.Diagnostics {
 			if d.Path != path || d.Code != cd.Code || len(d.Fixes) == 0 {
@@ -47,6 +50,15 @@ func (s *Server) codeAction(ctx context.Context, params json.RawMessage) (any, e
 				if !ok {
 					continue
 				}
+				key, _ := json.Marshal(struct {
+					T string
+					E protocol.WorkspaceEdit
+				}{f.Title, we})
+				if j, dup := seen[string(key)]; dup {
+					actions[j].Diagnostics = append(actions[j].Diagnostics, cd)
+					continue
+				}
+				seen[string(key)] = len(actions)
 				actions = append(actions, protocol.CodeAction{Title: f.Title, Kind: protocol.QuickFix,
 					Diagnostics: []protocol.Diagnostic{cd}, IsPreferred: i == 0, Edit: &we})
 			}
