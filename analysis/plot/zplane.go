@@ -39,6 +39,8 @@ type zPlane struct {
 	zeros     []complex128 // zeros of L
 	violating []complex128 // closed-loop poles that break a requirement
 	halfSpan  float64      // half-width of the square data region to show
+	center    complex128   // centre of that region (0 but in a zoomed view)
+	checks    poleChecks
 }
 
 // legendItem is one legend entry, drawn below the z-plane.
@@ -169,8 +171,8 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 	if err != nil {
 		return nil, err
 	}
-	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan}
-	checks := checksOf(l)
+	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan, checks: checksOf(l)}
+	checks := zp.checks
 	for _, p := range l.Poles {
 		if cmplx.IsNaN(p.Z) || cmplx.IsInf(p.Z) {
 			return nil, fmt.Errorf("plot: loop %s has a non-finite closed-loop pole", l.Name)
@@ -185,36 +187,47 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 			zp.halfSpan = math.Max(zp.halfSpan, zMargin*math.Max(math.Abs(real(z)), math.Abs(imag(z))))
 		}
 	}
+	if err := zp.build("z-plane (closed-loop and open-loop)", circleXYs); err != nil {
+		return nil, err
+	}
+	zp.setView(1, 1)
+	return zp, nil
+}
 
+// build draws the panel: axes, unit circle and requirement limits (curves
+// from circle), and the markers.
+func (zp *zPlane) build(title string, circle func(r float64) plotter.XYs) error {
+	checks := zp.checks
 	p := newPlot()
-	p.Title.Text = "z-plane (closed-loop and open-loop)"
+	p.Title.Text = title
 	p.X.Label.Text = "Re z"
 	p.Y.Label.Text = "Im z"
 	p.Add(plotter.NewGrid())
 
 	axisStyle := draw.LineStyle{Color: colGrid, Width: vg.Points(refWidth)}
 	h := zp.halfSpan * 4 // the axes run past any view
-	for _, seg := range []plotter.XYs{{{X: -h, Y: 0}, {X: h, Y: 0}}, {{X: 0, Y: -h}, {X: 0, Y: h}}} {
+	cx, cy := real(zp.center), imag(zp.center)
+	for _, seg := range []plotter.XYs{{{X: cx - h, Y: 0}, {X: cx + h, Y: 0}}, {{X: 0, Y: cy - h}, {X: 0, Y: cy + h}}} {
 		ln, err := plotter.NewLine(seg)
 		if err != nil {
-			return nil, err
+			return err
 		}
 		ln.LineStyle = axisStyle
 		p.Add(ln)
 	}
 
-	circ, err := plotter.NewLine(circleXYs(1))
+	circ, err := plotter.NewLine(circle(1))
 	if err != nil {
-		return nil, err
+		return err
 	}
 	circ.LineStyle = draw.LineStyle{Color: colCircle, Width: vg.Points(refWidth * 1.5)}
 	p.Add(circ)
 	zp.legend = append(zp.legend, legendItem{"unit circle", circ})
 
 	if r := checks.maxRadius; r != nil && *r > 0 && !math.IsInf(*r, 0) {
-		lim, err := plotter.NewLine(circleXYs(*r))
+		lim, err := plotter.NewLine(circle(*r))
 		if err != nil {
-			return nil, err
+			return err
 		}
 		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dashed()}
 		p.Add(lim)
@@ -223,7 +236,7 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 	if z := checks.minDamping; z != nil && *z > 0 && *z < 1 {
 		lim, err := plotter.NewLine(dampingCurve(*z))
 		if err != nil {
-			return nil, err
+			return err
 		}
 		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dotted()}
 		p.Add(lim)
@@ -244,20 +257,19 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 		return nil
 	}
 	if err := scatter(zp.open, crossGlyph{vg.Points(glyphStroke)}, colOpenPole, markerSize+0.5, "open-loop pole (of L)"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.zeros, ringGlyph{vg.Points(glyphStroke)}, colOpenZero, markerSize+0.5, "open-loop zero (of L)"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.closed, draw.CircleGlyph{}, colClosedPole, markerSize, "closed-loop pole"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.violating, ringGlyph{vg.Points(glyphStroke + 0.4)}, colViolation, violationSize, "breaks a requirement"); err != nil {
-		return nil, err
+		return err
 	}
 	zp.plot = p
-	zp.setView(1, 1)
-	return zp, nil
+	return nil
 }
 
 // setView sets the axis ranges so that one data unit has the same length
@@ -270,8 +282,9 @@ func (zp *zPlane) setView(w, h float64) {
 	} else {
 		hy *= h / w
 	}
-	zp.plot.X.Min, zp.plot.X.Max = -hx, hx
-	zp.plot.Y.Min, zp.plot.Y.Max = -hy, hy
+	cx, cy := real(zp.center), imag(zp.center)
+	zp.plot.X.Min, zp.plot.X.Max = cx-hx, cx+hx
+	zp.plot.Y.Min, zp.plot.Y.Max = cy-hy, cy+hy
 }
 
 // equalScale fixes the ranges for the tile c. The data area depends on the
@@ -287,7 +300,7 @@ func (zp *zPlane) equalScale(c draw.Canvas) draw.Canvas {
 		}
 		before := [2]float64{zp.plot.X.Max, zp.plot.Y.Max}
 		zp.setView(w, h)
-		if math.Abs(before[0]-zp.plot.X.Max) < 1e-12 && math.Abs(before[1]-zp.plot.Y.Max) < 1e-12 {
+		if math.Abs(before[0]-zp.plot.X.Max) < 1e-12*zp.halfSpan && math.Abs(before[1]-zp.plot.Y.Max) < 1e-12*zp.halfSpan {
 			break
 		}
 	}
