@@ -79,7 +79,18 @@ func TestNeovimEndToEnd(t *testing.T) {
 	initAbs, _ := filepath.Abs(init)
 	cmd := exec.Command(nvim, "--headless", "--clean", "-u", initAbs, "-c", "luafile "+script)
 	cmd.Dir = ws
-	cmd.Env = append(os.Environ(), "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file, "RINGSIDE_RESULT="+resultPath, "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
+	// The system's opener, as the plugin finds it on PATH, is a stand-in
+	// that keeps a copy of the page it was asked to open (Neovim removes
+	// its temporary files when it quits).
+	opened := filepath.Join(dir, "opened.txt")
+	binDir := filepath.Join(dir, "bin")
+	os.Mkdir(binDir, 0o755)
+	opener := "#!/bin/sh\ncase \"$1\" in *.html) ;; *) exit 1 ;; esac\ncp \"$1\" \"$RINGSIDE_OPENED.tmp\" && mv \"$RINGSIDE_OPENED.tmp\" \"$RINGSIDE_OPENED\"\n"
+	if err := os.WriteFile(filepath.Join(binDir, "xdg-open"), []byte(opener), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	cmd.Env = append(os.Environ(), "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file, "RINGSIDE_RESULT="+resultPath, "RINGSIDE_OPENED="+opened,
+		"PATH="+binDir+string(os.PathListSeparator)+os.Getenv("PATH"), "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
 	var out bytes.Buffer
 	cmd.Stdout, cmd.Stderr = &out, &out
 	if err := cmd.Start(); err != nil {
@@ -98,12 +109,14 @@ func TestNeovimEndToEnd(t *testing.T) {
 		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
 	}
 	var res struct {
-		OK    bool     `json:"ok"`
-		Error string   `json:"error"`
-		Steps []string `json:"steps"`
-		Hover string   `json:"hover"`
-		Title string   `json:"title"`
-		Line  string   `json:"line"`
+		OK         bool     `json:"ok"`
+		Error      string   `json:"error"`
+		Steps      []string `json:"steps"`
+		Hover      string   `json:"hover"`
+		Title      string   `json:"title"`
+		Line       string   `json:"line"`
+		LensBefore string   `json:"lens_before"`
+		LensAfter  string   `json:"lens_after"`
 	}
 	if err := json.Unmarshal(b, &res); err != nil {
 		t.Fatalf("result %s: %v", b, err)
@@ -113,6 +126,16 @@ func TestNeovimEndToEnd(t *testing.T) {
 	}
 	if !strings.Contains(res.Hover, "UNSTABLE") || !strings.HasPrefix(res.Title, "Set ki to 11.4") || res.Line != "gain ki = 11.4" {
 		t.Errorf("hover %q, fix %q, line %q", res.Hover, res.Title, res.Line)
+	}
+	// The hover reads as plain text: aligned columns, no Markdown table rows.
+	if strings.Contains(res.Hover, "|---") || !strings.Contains(res.Hover, "closed-loop pole") {
+		t.Errorf("hover as shown by K:\n%s", res.Hover)
+	}
+	if !strings.HasPrefix(res.LensBefore, "UNSTABLE") || !strings.HasPrefix(res.LensAfter, "stable") {
+		t.Errorf("lenses before %q and after %q the fix", res.LensBefore, res.LensAfter)
+	}
+	if html, err := os.ReadFile(opened); err != nil || !strings.Contains(string(html), "<svg") {
+		t.Errorf(":RingsidePlot opened no page with the plots (%v)", err)
 	}
 	disk, _ := os.ReadFile(file)
 	if !strings.Contains(string(disk), "gain ki = 11.4\n") {
