@@ -162,8 +162,11 @@ that loop.  The page goes to a temporary file, opened by
     (unless (and (stringp html) (> (length html) 0))
       (user-error "The server returned no plot page"))
     (let ((file (make-temp-file "ringside-" nil ".html" html)))
-      (message "ringside: loop plots written to %s" file)
-      (funcall ringside-open-function file)
+      (condition-case err
+          (progn (funcall ringside-open-function file)
+                 (message "ringside: loop plots written to %s" file))
+        (error (message "ringside: loop plots written to %s (not opened: %s)"
+                        file (error-message-string err))))
       file)))
 
 (defun ringside-hover ()

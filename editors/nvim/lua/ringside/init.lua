@@ -247,8 +247,8 @@ local function request(client, method, params, handler, bufnr)
 end
 
 -- Shows a written plot page: opts.open, else the system's opener
--- (vim.ui.open on 0.10+, else xdg-open or macOS open), else only the path
--- is printed (a terminal without a desktop).
+-- (vim.ui.open on 0.10+; before that xdg-open, or open on macOS only: on
+-- Linux `open` is openvt), else only the path is printed.
 function M.open_page(path)
   if M.config.open then
     return M.config.open(path)
@@ -259,13 +259,12 @@ function M.open_page(path)
       return
     end
   end
-  for _, opener in ipairs({ 'xdg-open', 'open' }) do
-    if vim.fn.executable(opener) == 1 then
-      vim.fn.jobstart({ opener, path }, { detach = true })
-      return
-    end
+  local opener = vim.fn.has('mac') == 1 and 'open' or 'xdg-open'
+  if vim.fn.executable(opener) == 1 then
+    vim.fn.jobstart({ opener, path }, { detach = true })
+    return
   end
-  notify('no program to open ' .. path .. ' found; open it in a browser', vim.log.levels.WARN)
+  notify('no ' .. opener .. ' to open ' .. path .. '; open it in a browser', vim.log.levels.WARN)
 end
 
 -- Writes the html of a plot result to a temp file; returns its path or nil, err.
