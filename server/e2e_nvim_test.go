@@ -51,17 +51,45 @@ func serverBinary(t *testing.T, dir string) string {
 	return wrapper
 }
 
+// editorOrSkip finds an editor on PATH, or skips the test (fails it when
+// the environment variable require is 1, as in CI).
+func editorOrSkip(t *testing.T, name, require string) string {
+	path, err := exec.LookPath(name)
+	if err != nil {
+		if os.Getenv(require) == "1" {
+			t.Fatalf("%s not found and %s=1", name, require)
+		}
+		t.Skipf("%s not installed", name)
+	}
+	return path
+}
+
+// runEditor runs an editor to its end, or kills it after limit; it returns
+// the combined output and the exit error.
+func runEditor(t *testing.T, cmd *exec.Cmd, limit time.Duration) (string, error) {
+	var out bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+	select {
+	case err := <-done:
+		return out.String(), err
+	case <-time.After(limit):
+		cmd.Process.Kill()
+		<-done
+		t.Fatalf("%s did not finish within %v; output:\n%s", filepath.Base(cmd.Path), limit, out.String())
+	}
+	return "", nil
+}
+
 func TestNeovimEndToEnd(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the command and starts an editor")
 	}
-	nvim, err := exec.LookPath("nvim")
-	if err != nil {
-		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
-			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
-		}
-		t.Skip("nvim not installed")
-	}
+	nvim := editorOrSkip(t, "nvim", "RINGSIDE_REQUIRE_NVIM")
 	init := "../editors/nvim/minimal_init.lua"
 	if _, err := os.Stat(init); err != nil {
 		t.Fatalf("missing %s: %v", init, err)
@@ -91,22 +119,10 @@ func TestNeovimEndToEnd(t *testing.T) {
 	}
 	cmd.Env = append(os.Environ(), "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file, "RINGSIDE_RESULT="+resultPath, "RINGSIDE_OPENED="+opened,
 		"PATH="+binDir+string(os.PathListSeparator)+os.Getenv("PATH"), "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
-	var out bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &out
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	done := make(chan error, 1)
-	go func() { done <- cmd.Wait() }()
-	select {
-	case <-done:
-	case <-time.After(90 * time.Second):
-		cmd.Process.Kill()
-		t.Fatalf("nvim did not finish; output:\n%s", out.String())
-	}
+	out, _ := runEditor(t, cmd, 90*time.Second)
 	b, err := os.ReadFile(resultPath)
 	if err != nil {
-		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
+		t.Fatalf("no result file (%v); nvim output:\n%s", err, out)
 	}
 	var res struct {
 		OK         bool     `json:"ok"`
@@ -122,7 +138,7 @@ func TestNeovimEndToEnd(t *testing.T) {
 		t.Fatalf("result %s: %v", b, err)
 	}
 	if !res.OK {
-		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out.String())
+		t.Fatalf("editor test failed after %v: %s\nnvim output:\n%s", res.Steps, res.Error, out)
 	}
 	if !strings.Contains(res.Hover, "UNSTABLE") || !strings.HasPrefix(res.Title, "Set ki to 11.4") || res.Line != "gain ki = 11.4" {
 		t.Errorf("hover %q, fix %q, line %q", res.Hover, res.Title, res.Line)

@@ -52,9 +52,7 @@ func (c *Comparison) States() report.Baseline {
 		}
 	}
 	for k, olds := range s.old {
-		for _, o := range olds[min(used[k], len(olds)):] {
-			s.absent = append(s.absent, o)
-		}
+		s.absent = append(s.absent, olds[min(used[k], len(olds)):]...)
 	}
 	sortAbsent(s.absent)
 	return s

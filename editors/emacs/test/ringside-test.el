@@ -78,32 +78,6 @@
   (skip-unless (require 'eglot nil t))
   (should (member '(loop-mode "ringside" "serve") eglot-server-programs)))
 
-(ert-deftest ringside-eglot-plot ()
-  "Starts $RINGSIDE_BIN through eglot and runs ringside.plot."
-  (skip-unless (and (getenv "RINGSIDE_BIN") (require 'eglot nil t)))
-  (let* ((eglot-server-programs
-          `((loop-mode ,(getenv "RINGSIDE_BIN") "serve")))
-         (buf (find-file-noselect ringside-test-sample)))
-    (unwind-protect
-        (with-current-buffer buf
-          (should (eq major-mode 'loop-mode))
-          ;; `eglot-ensure' waits for the command loop, which batch mode
-          ;; lacks; start the server the way M-x eglot would.
-          (apply #'eglot (eglot--guess-contact))
-          (let ((deadline (+ (float-time) 10)) server)
-            (while (and (not (setq server (eglot-current-server)))
-                        (< (float-time) deadline))
-              (accept-process-output nil 0.1))
-            (should server)
-            (let ((result (jsonrpc-request
-                           server :workspace/executeCommand
-                           `(:command "ringside.plot"
-                             :arguments [(:uri ,(eglot--path-to-uri buffer-file-name)
-                                          :write :json-false)]))))
-              (should (string-match-p "<svg" (plist-get result :html))))
-            (eglot-shutdown server)))
-      (kill-buffer buf))))
-
 (defconst ringside-test-readme
   (expand-file-name "../../README.md"
                     (file-name-directory (or load-file-name buffer-file-name)))
@@ -153,7 +127,9 @@
 
 (defmacro ringside-test-with-server (text &rest body)
   "Run BODY in a buffer visiting a temporary .loop file holding TEXT, with
-$RINGSIDE_BIN started through eglot; `server' is bound to it."
+$RINGSIDE_BIN started through eglot; `server' is bound to it.
+`eglot-ensure' waits for the command loop, which batch mode lacks; the
+server is started the way M-x eglot would."
   (declare (indent 1))
   `(let* ((dir (make-temp-file "ringside-ws" t))
           (file (expand-file-name "loop.loop" dir))
@@ -173,6 +149,20 @@ $RINGSIDE_BIN started through eglot; `server' is bound to it."
                (eglot-shutdown server))))
        (kill-buffer buf)
        (delete-directory dir t))))
+
+(ert-deftest ringside-eglot-plot ()
+  "Starts $RINGSIDE_BIN through eglot on the fixture and runs ringside.plot."
+  (skip-unless (and (getenv "RINGSIDE_BIN") (require 'eglot nil t)))
+  (ringside-test-with-server (with-temp-buffer
+                               (insert-file-contents ringside-test-sample)
+                               (buffer-string))
+    (should (eq major-mode 'loop-mode))
+    (let ((result (jsonrpc-request
+                   server :workspace/executeCommand
+                   `(:command "ringside.plot"
+                     :arguments [(:uri ,(ringside--uri buffer-file-name)
+                                  :write :json-false)]))))
+      (should (string-match-p "<svg" (plist-get result :html))))))
 
 (defconst ringside-test-pan
   "sample 2 ms\ngain krate = 1.5\nblock pan_stage = 1 / (z - 0.5)\nloop pan_rate {\n  forward krate pan_stage\n}\n"
