@@ -15,6 +15,7 @@ import (
 // checkFlags are the flags of `ringside check`.
 type checkFlags struct {
 	format, root, baseline string
+	indent                 bool
 	opts                   analysis.Options
 	th                     baseline.Thresholds
 	paths                  []string
@@ -31,6 +32,7 @@ func parseCheckFlags(args []string, stdout, stderr io.Writer) (cf *checkFlags, s
 	cf = &checkFlags{opts: analysis.DefaultOptions(), th: baseline.DefaultThresholds()}
 	fs := cliflag.New("ringside check", "PATH...", checkAbout)
 	fs.Choice(&cf.format, "format", "text", []string{"text", "json", "sarif", "markdown"}, "output `FORMAT`: text, json, sarif, or markdown (the loop table, for a review comment)")
+	fs.Bool(&cf.indent, "indent", "lay JSON and SARIF out for people (compact by default)")
 	fs.String(&cf.root, "root", "workspace folder `DIR` that use lines may not leave (default: the current folder)")
 	fs.Number(&cf.opts.GainMarginDB, "gain-margin", analysis.DefaultGainMarginDB, "a number of dB", "6", 0, 100, "gain margin in `DB` required of loops without require lines")
 	fs.Number(&cf.opts.PhaseMarginDeg, "phase-margin", analysis.DefaultPhaseMarginDeg, "a number of degrees", "30", 0, 180, "phase margin in `DEG` required of loops without require lines")
@@ -53,52 +55,20 @@ func parseCheckFlags(args []string, stdout, stderr io.Writer) (cf *checkFlags, s
 	return cf, -1
 }
 
-// writeCheck prints the results in the chosen format, compared with the
-// baseline when one is given, and returns the exit status.
-func writeCheck(stdout, stderr io.Writer, results []*analysis.Result, display func(string) string, cf *checkFlags) int {
-	doc := report.Build(results, display)
-	var cmp *baseline.Comparison
-	if cf.baseline != "" {
-		var err error
-		if cmp, err = compareWith(cf.baseline, doc, cf.th); err != nil {
-			fmt.Fprintf(stderr, "ringside check: --baseline %s: %v\n", cf.baseline, err)
-			return exitUsage
-		}
-	}
-	switch cf.format {
-	case "json":
-		writeJSON(stdout, doc)
-	case "sarif":
-		var states report.Baseline
-		if cmp != nil {
-			states = cmp.States()
-		}
-		writeJSON(stdout, report.SARIFAgainst(results, display, version, states))
-	case "markdown":
-		report.Markdown(stdout, results, display)
-		if cmp != nil {
-			fmt.Fprintln(stdout)
-			cmp.WriteMarkdown(stdout)
-		}
-	default:
-		report.Text(stdout, results, display)
-		if cmp != nil {
-			cmp.WriteText(stdout)
-		}
-	}
-	if cmp != nil && cmp.Regressions > 0 {
-		return 1
-	}
-	for _, r := range results {
-		if r.HasErrors() {
-			return 1
-		}
-	}
-	return 0
+// runBaseline is a check run's comparison with --baseline: the baseline
+// read once, this run's figures gathered file by file (a few per loop),
+// and the SARIF pairing. A nil *runBaseline is a run without baseline.
+type runBaseline struct {
+	old, cur baseline.Doc
+	states   *baseline.States
+	th       baseline.Thresholds
 }
 
-func compareWith(path string, doc report.Doc, th baseline.Thresholds) (*baseline.Comparison, error) {
-	f, err := os.Open(path)
+func openBaseline(cf *checkFlags) (*runBaseline, error) {
+	if cf.baseline == "" {
+		return nil, nil
+	}
+	f, err := os.Open(cf.baseline)
 	if err != nil {
 		return nil, errors.Unwrap(err)
 	}
@@ -107,9 +77,39 @@ func compareWith(path string, doc report.Doc, th baseline.Thresholds) (*baseline
 	if err != nil {
 		return nil, err
 	}
-	cur, err := baseline.FromReport(doc)
-	if err != nil {
-		return nil, err
+	return &runBaseline{old: *old, states: baseline.NewStates(old), th: cf.th}, nil
+}
+
+// sarifStates is the SARIF baseline, or nil (an untyped nil: no states).
+func (b *runBaseline) sarifStates() report.Baseline {
+	if b == nil {
+		return nil
 	}
-	return baseline.Compare(old, cur, th), nil
+	return b.states
+}
+
+func (b *runBaseline) add(r *analysis.Result, display func(string) string) {
+	if b != nil {
+		_ = b.cur.Add(report.BuildFile(r, display)) // a document of our own: it encodes
+	}
+}
+
+// finish prints the comparison after a text or Markdown report and
+// returns the exit status: 1 on a regression, else the run's.
+func (b *runBaseline) finish(w io.Writer, format string, status int) int {
+	if b == nil {
+		return status
+	}
+	cmp := baseline.Compare(&b.old, &b.cur, b.th)
+	switch format {
+	case "text":
+		cmp.WriteText(w)
+	case "markdown":
+		fmt.Fprintln(w)
+		cmp.WriteMarkdown(w)
+	}
+	if cmp.Regressions > 0 {
+		return 1
+	}
+	return status
 }

@@ -10,7 +10,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -22,7 +21,9 @@ import (
 
 	"ringside/analysis"
 	"ringside/analysis/plot"
+	"ringside/analysis/report"
 	"ringside/cliflag"
+	"ringside/internal/fileio"
 	"ringside/server"
 	"ringside/syntax"
 )
@@ -93,27 +94,15 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if status >= 0 {
 		return status
 	}
-	opts, root, paths := cf.opts, &cf.root, cf.paths
 	cwd, _ := os.Getwd()
 	rootDir := cwd
-	if *root != "" {
-		rootDir, _ = filepath.Abs(*root)
+	if cf.root != "" {
+		rootDir, _ = filepath.Abs(cf.root)
 	}
-	files, err := collect(paths)
+	files, err := collect(cf.paths, stderr)
 	if err != nil {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
-	}
-	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
-	var results []*analysis.Result
-	for _, f := range files {
-		abs, _ := filepath.Abs(f)
-		src, err := os.ReadFile(abs)
-		if err != nil {
-			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, errors.Unwrap(err))
-			return exitUsage
-		}
-		results = append(results, analysis.Check(context.Background(), abs, src, env))
 	}
 	display := func(p string) string {
 		if rel, err := filepath.Rel(cwd, p); err == nil && !strings.HasPrefix(rel, "..") {
@@ -121,18 +110,53 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		}
 		return p
 	}
-	return writeCheck(stdout, stderr, results, display, cf)
+	base, err := openBaseline(cf)
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside check: --baseline %s: %v\n", cf.baseline, err)
+		return exitUsage
+	}
+	// One file at a time, written as soon as it is checked: memory is
+	// bounded by the largest file.
+	env := analysis.Env{Roots: []string{rootDir}, Options: cf.opts}
+	out := report.NewStreamAgainst(cf.format, stdout, display, version, cf.indent, base.sarifStates())
+	status = 0
+	for _, f := range files {
+		abs, _ := filepath.Abs(f)
+		src, err := readInput(abs)
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside check: cannot read %s: %v\n", f, err)
+			_ = out.Close() // what was written stays a whole document
+			return exitUsage
+		}
+		r := analysis.Check(context.Background(), abs, src, env)
+		out.Add(r)
+		base.add(r, display)
+		if r.HasErrors() {
+			status = 1
+		}
+	}
+	if err := out.Close(); err != nil {
+		fmt.Fprintf(stderr, "ringside check: writing the report: %v\n", err)
+		return exitUsage
+	}
+	return base.finish(stdout, cf.format, status)
 }
 
-func writeJSON(w io.Writer, v any) {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	enc.SetEscapeHTML(false)
-	_ = enc.Encode(v)
+// readInput reads a .loop file named on the command line: a regular file
+// of at most analysis.MaxFileSize bytes, never blocking on a FIFO.
+func readInput(path string) ([]byte, error) {
+	src, err := fileio.ReadRegular(path, analysis.MaxFileSize)
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return nil, pe.Err
+	}
+	return src, err
 }
 
-// collect expands folders into the .loop files inside them, sorted.
-func collect(paths []string) ([]string, error) {
+// collect expands folders into the .loop files inside them, sorted. A
+// .loop entry that is not a regular file (a FIFO, a device, a link to
+// neither) is skipped with a note on stderr: it would block or never end.
+func collect(paths []string, stderr io.Writer) ([]string, error) {
 	var out []string
 	for _, p := range paths {
 		info, err := os.Stat(p)
@@ -151,9 +175,18 @@ func collect(paths []string) ([]string, error) {
 			if d.IsDir() && path != p && strings.HasPrefix(d.Name(), ".") {
 				return filepath.SkipDir
 			}
-			if !d.IsDir() && strings.HasSuffix(path, ".loop") {
-				found = append(found, path)
+			if d.IsDir() || !strings.HasSuffix(path, ".loop") {
+				return nil
 			}
+			if info, err := os.Stat(path); err != nil || !info.Mode().IsRegular() {
+				why := "cannot be read"
+				if err == nil {
+					why = fileio.NotRegularError(info.Mode()).Error()
+				}
+				fmt.Fprintf(stderr, "ringside check: skipped %s: %s\n", path, why)
+				return nil
+			}
+			found = append(found, path)
 			return nil
 		})
 		if err != nil {
@@ -182,28 +215,35 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 	}
 	status := 0
 	for _, f := range files {
-		src, err := os.ReadFile(f)
+		src, err := readInput(f)
 		if err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, errors.Unwrap(err))
+			fmt.Fprintf(stderr, "ringside fmt: cannot read %s: %v\n", f, err)
 			return exitUsage
 		}
 		out, err := syntax.Format(src)
-		if err != nil {
+		if errors.Is(err, syntax.ErrSyntax) {
 			fmt.Fprintf(stderr, "ringside fmt: %s: not formatted, fix its syntax first: %v\n", f, err)
 			status = 1
 			continue
 		}
+		if err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: %s: %v\n", f, err)
+			status = 1
+			continue
+		}
 		if !*write {
-			stdout.Write(out)
+			if _, err := stdout.Write(out); err != nil {
+				fmt.Fprintf(stderr, "ringside fmt: cannot write the output: %v\n", err)
+				return exitUsage
+			}
 			continue
 		}
 		if bytes.Equal(out, src) {
 			continue
 		}
-		info, _ := os.Stat(f)
-		if err := os.WriteFile(f, out, info.Mode().Perm()); err != nil {
-			fmt.Fprintf(stderr, "ringside fmt: cannot write %s: %v\n", f, err)
-			status = 1
+		if err := fileio.WriteAtomic(f, out, 0o644); err != nil {
+			fmt.Fprintf(stderr, "ringside fmt: cannot write %s (left as it was): %v\n", f, err)
+			return exitUsage
 		}
 	}
 	return status
@@ -224,9 +264,9 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	abs, _ := filepath.Abs(files[0])
-	src, err := os.ReadFile(abs)
+	src, err := readInput(abs)
 	if err != nil {
-		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], errors.Unwrap(err))
+		fmt.Fprintf(stderr, "ringside plot: cannot read %s: %v\n", files[0], err)
 		return exitUsage
 	}
 	rootDir, _ := os.Getwd()
@@ -278,10 +318,13 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *out == "" {
-		stdout.Write(data)
+		if _, err := stdout.Write(data); err != nil {
+			fmt.Fprintf(stderr, "ringside plot: cannot write the output: %v\n", err)
+			return exitUsage
+		}
 		return 0
 	}
-	if err := os.WriteFile(*out, data, 0o644); err != nil {
+	if err := fileio.WriteAtomic(*out, data, 0o644); err != nil {
 		fmt.Fprintf(stderr, "ringside plot: cannot write %s: %v\n", *out, err)
 		return exitUsage
 	}

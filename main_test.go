@@ -20,7 +20,7 @@ var update = flag.Bool("update", false, "rewrite the golden check outputs of tes
 func TestDemoGolden(t *testing.T) {
 	for _, format := range []string{"text", "json", "sarif"} {
 		var out, errb bytes.Buffer
-		code := run([]string{"check", "--format", format, "testdata/demo"}, nil, &out, &errb)
+		code := run([]string{"check", "--format", format, "--indent", "testdata/demo"}, nil, &out, &errb)
 		if code != 1 {
 			t.Fatalf("%s: exit %d, want 1 (the demo has unstable loops); stderr: %s", format, code, errb.String())
 		}

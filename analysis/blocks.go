@@ -28,15 +28,8 @@ func (c *checker) blocks(ev *evaluator) {
 			continue
 		}
 		bv := ev.block(d)
-		b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
-		b.Gains = sortedKeys(bv.gains)
+		fillBlock(b, bv)
 		if b.Var == 's' {
-			if b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
-				b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
-				if p := b.Stmt.Via.Prewarp; p != nil {
-					b.PrewarpHz, _ = prewarpHz(p)
-				}
-			}
 			if c.res.SampleT == 0 {
 				needSample = true
 			}
@@ -51,6 +44,19 @@ func (c *checker) blocks(ev *evaluator) {
 	}
 	if needSample || (c.res.SampleT == 0 && len(c.loopStmts()) > 0) {
 		c.noSample()
+	}
+}
+
+// fillBlock copies an evaluation into the block.
+func fillBlock(b *Block, bv *blockValue) {
+	b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
+	b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
+	b.Gains = sortedKeys(bv.gains)
+	if b.Var == 's' && b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
+		b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
+		if p := b.Stmt.Via.Prewarp; p != nil {
+			b.PrewarpHz, _ = prewarpHz(p)
+		}
 	}
 }
 
@@ -78,9 +84,13 @@ func (c *checker) noSample() {
 			span.To = l.LineEnd(0)
 		}
 	}
+	// The new line goes after a byte order mark, which is part of nothing,
+	// and uses the file's own line break.
+	src := c.root.file.Src
+	bom := syntax.Pos(syntax.BOMLen(src))
 	x := c.diags.add(c.res.Path, span, Error, CodeNoSample,
 		"no sample line: s blocks cannot be discretized and frequencies cannot be given in Hz without the sample period; add one, e.g. `sample 1 ms`")
-	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: 0, To: 0}, NewText: "sample 1 ms\n"}}})
+	x.Fixes = append(x.Fixes, Fix{Title: "Add `sample 1 ms` (then set your controller's real period)", Edits: []Edit{{Path: c.res.Path, Span: syntax.Span{From: bom, To: bom}, NewText: "sample 1 ms" + syntax.LineBreak(src)}}})
 }
 
 // continuousChecks warns of continuous poles beyond Nyquist and shared
@@ -142,20 +152,20 @@ func (c *checker) blockPoles(b *Block) {
 		t = 1 // pole radius and angle do not need it; times are then per sample
 	}
 	tol := c.env.Options.Tolerance
-	pr, perr := roots.Find(b.TF.Den)
-	zr, zerr := roots.Find(b.TF.Num)
-	if perr == nil {
-		for _, p := range pr.Roots {
-			b.Poles = append(b.Poles, pole.Describe(p, t, tol))
-		}
+	if !b.FactoredOK {
+		return
 	}
-	if zerr == nil {
-		for _, z := range zr.Roots {
+	f := b.Factored
+	for _, p := range f.Poles {
+		b.Poles = append(b.Poles, pole.Describe(p, t, tol))
+	}
+	if !f.IsZero() {
+		for _, z := range f.Zeros {
 			b.Zeros = append(b.Zeros, pole.Describe(z, t, tol))
 		}
-	}
-	if b.Var == 'z' && perr == nil && zerr == nil {
-		c.sharedRoot(b, zr.Clusters, pr.Clusters, 'z', exprSpan(b.Stmt.Expr))
+		if b.Var == 'z' {
+			c.sharedRoot(b, clustersOf(f.Zeros), clustersOf(f.Poles), 'z', exprSpan(b.Stmt.Expr))
+		}
 	}
 	sortPoles(b.Poles)
 	sortPoles(b.Zeros)
@@ -172,6 +182,23 @@ func (c *checker) blockPoles(b *Block) {
 		c.diags.add(b.Path, span, Warning, CodeBlockOnCircle,
 			fmt.Sprintf("block %s has a pole on the unit circle at z = %s: alone it is not BIBO stable (an integrator or oscillator); a loop around it must stabilise it", b.Name, fmtComplex(worst.Z)))
 	}
+}
+
+// clustersOf groups identical roots (a factored form repeats a multiple
+// root's value exactly).
+func clustersOf(zs []complex128) []roots.Cluster {
+	var out []roots.Cluster
+next:
+	for _, z := range zs {
+		for i := range out {
+			if out[i].Value == z {
+				out[i].Multiplicity++
+				continue next
+			}
+		}
+		out = append(out, roots.Cluster{Value: z, Multiplicity: 1})
+	}
+	return out
 }
 
 func dcGain(r poly.Rational) float64 {

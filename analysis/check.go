@@ -43,9 +43,13 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	for _, e := range root.errs {
 		diags.add(path, e.Span, Error, CodeSyntax, e.Msg)
 	}
-	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}}
+	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}, memo: env.Memo.begin(path)}
 	c.run(ctx)
-	res.Diagnostics = diags.sorted(path)
+	if ctx.Err() == nil {
+		c.memo.commit()
+	}
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics)
 	return res
 }
 
@@ -65,9 +69,13 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
-	// noStep skips the step response (trial loops of a fix search whose
-	// requirements need no step figure).
-	noStep bool
+	// trial marks the loop analyses of a fix search: figures that no
+	// requirement of the loop needs are skipped (see wants).
+	trial bool
+	// fitSearches counts the gain fix searches run (MaxFitSearches).
+	fitSearches int
+	// memo is this check's view of Env.Memo (nil: none).
+	memo *memoRun
 }
 
 func (c *checker) run(ctx context.Context) {
@@ -84,6 +92,7 @@ func (c *checker) run(ctx context.Context) {
 			ev.block(d)
 		}
 	}
+	c.usedBlocks(ev)
 	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
 		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
@@ -106,11 +115,13 @@ func (c *checker) run(ctx context.Context) {
 		lc.diags, lc.pending = &diagList{}, nil
 		own[i] = &lc
 		if ctx.Err() != nil {
-			lc.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again")
-			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls}
+			// An error, so that a check that did not decide every loop
+			// never passes (exit status 1).
+			lc.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, "analysis stopped (cancelled or out of its time budget) before this loop: it has no figures and no verdict; check it again with a larger --budget")
+			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
-		loops[i] = lc.loop(ev, ls)
+		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.loop(ev, ls) })
 	})
 	for i, lc := range own {
 		base := len(c.diags.list)
@@ -121,9 +132,29 @@ func (c *checker) run(ctx context.Context) {
 		}
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
+	c.robustLoops(ctx)
 	c.quietIntegrators()
 	c.gainLimits(ctx)
 	c.summaries()
+}
+
+// usedBlocks fills in the blocks of used files (transfer function, poles,
+// zeros) in the same pass, so that every view of such a block reads this
+// result. Their findings belong to the check of their own file.
+func (c *checker) usedBlocks(ev *evaluator) {
+	own := c.diags
+	c.diags = &diagList{}
+	defer func() { c.diags = own }()
+	for _, name := range sortedDecls(c.res.Scope) {
+		d := c.res.Scope[name]
+		if d.Block == nil || d.Path == c.res.Path {
+			continue
+		}
+		fillBlock(d.Block, ev.block(d))
+		if d.Block.OK {
+			c.blockPoles(d.Block)
+		}
+	}
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
@@ -298,6 +329,7 @@ func (c *checker) gainValues() {
 			g.Max = &v
 		}
 		c.gains[name] = g.Value
+		c.varyRange(g, g.Path == c.res.Path && s.Value != nil)
 		if g.Path != c.res.Path || s.Value == nil {
 			continue
 		}

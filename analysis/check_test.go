@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"ringside/syntax"
 )
 
 // checkSrc analyses src as the file main.loop in a temporary workspace,
@@ -222,6 +224,8 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 		{"margin", "sample 10 ms\ngain k = 150\nblock integ = 0.01 / (z - 1)\nloop l {\n  forward k integ\n  require gain_margin >= 6 dB\n}\n", CodeGainMarginLow},
 		{"via", "sample 1 ms\nblock p = 5 / (s + 5)\nloop l {\n  forward p\n  feedback d\n}\nblock d = z^-1\n", CodeNoVia},
 		{"sample", "block p = 5 / (s + 5) via zoh\n", CodeNoSample},
+		{"sample after BOM", "\ufeffblock p = 5 / (s + 5) via zoh\n", CodeNoSample},
+		{"sample in a CR file", "block p = 5 / (s + 5) via zoh\rloop l {\r  forward p\r}\r", CodeNoSample},
 		{"flip sign", "sample 1 ms\nblock p = 0.8 / (z - 0.5)\nloop l {\n  forward p\n  sign positive\n}\n", CodePoleOutside},
 		{"sign", "sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n  sign negtive\n}\n", CodeBadSign},
 	}
@@ -237,6 +241,9 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 			}
 			for _, fx := range d.Fixes {
 				out := applyEdits(c.src, fx.Edits)
+				if _, errs := syntax.Parse("", []byte(out)); len(errs) > 0 {
+					t.Errorf("fix %q gave text that does not parse: %v\n%q", fx.Title, errs, out)
+				}
 				r2 := checkSrc(t, out, nil)
 				if d2 := findDiag(r2, c.code); d2 != nil {
 					t.Errorf("fix %q gave\n%s\nand %s remains: %s", fx.Title, out, c.code, d2.Message)
@@ -428,6 +435,16 @@ func TestBudget(t *testing.T) {
 	}
 	if analysed+stopped != 200 || len(r.Loops) != 200 {
 		t.Errorf("%d analysed + %d stopped != 200 loops", analysed, stopped)
+	}
+	// A loop not reached is an error (the check must not pass) and its
+	// verdict names the cause, not errors that do not exist.
+	if !r.HasErrors() {
+		t.Error("loops left without a verdict, yet the result has no error")
+	}
+	for _, l := range r.Loops {
+		if !l.OK && !strings.Contains(l.Verdict(), "out of time") {
+			t.Errorf("loop %s not reached: verdict %q", l.Name, l.Verdict())
+		}
 	}
 }
 

@@ -21,6 +21,7 @@ const (
 	CodeNonCausal       = "non-causal"          // numerator degree above denominator degree
 	CodeBadExpression   = "bad-expression"      // division by zero, overflow, and the like
 	CodeTooComplex      = "too-complex"         // degree beyond what the numerics support
+	CodeTooMany         = "too-many"            // diagnostics past the per-file cap
 	CodeCommonRoot      = "common-root"         // a block's numerator and denominator share a root
 	CodeAliasing        = "aliasing"            // a continuous pole beyond the Nyquist frequency
 	CodeBlockOnCircle   = "block-pole-on-circle"
@@ -47,8 +48,11 @@ const (
 	CodeSensitivityHigh = "sensitivity-high"
 	CodeOvershootHigh   = "overshoot-high"
 	CodeSettlingSlow    = "settling-slow"
-	CodeLoopVerdict     = "loop-verdict" // info: one line of figures per loop
-	CodeGainLimits      = "gain-limits"  // info: stable interval of a gain
+	CodeDiskMarginLow   = "disk-margin-low"
+	CodeRangeUnstable   = "range-unstable"  // a loop not stable over the range of its varying gains
+	CodeRangeUndecided  = "range-undecided" // stability over the range could not be established
+	CodeLoopVerdict     = "loop-verdict"    // info: one line of figures per loop
+	CodeGainLimits      = "gain-limits"     // info: stable interval of a gain
 )
 
 // metricCode is the diagnostic code for a missed requirement on a metric.
@@ -61,6 +65,7 @@ var metricCode = map[string]string{
 	"peak_sensitivity": CodeSensitivityHigh,
 	"overshoot":        CodeOvershootHigh,
 	"settling":         CodeSettlingSlow,
+	"disk_margin":      CodeDiskMarginLow,
 }
 
 // SummaryCode reports whether code is an informational summary (shown by
@@ -84,6 +89,7 @@ var codeDescriptions = map[string]string{
 	CodeNonCausal:       "A non-causal or improper block.",
 	CodeBadExpression:   "An expression that cannot be evaluated (division by zero, overflow).",
 	CodeTooComplex:      "A degree or size beyond the supported limits.",
+	CodeTooMany:         "More diagnostics than one file lists; the rest are counted.",
 	CodeCommonRoot:      "A block whose numerator and denominator share a root.",
 	CodeAliasing:        "A continuous pole above the Nyquist frequency.",
 	CodeBlockOnCircle:   "A block pole on the unit circle (integrator or oscillator).",
@@ -110,6 +116,9 @@ var codeDescriptions = map[string]string{
 	CodeSensitivityHigh: "Peak sensitivity above its requirement.",
 	CodeOvershootHigh:   "Step overshoot above its requirement.",
 	CodeSettlingSlow:    "Step settling time above its requirement.",
+	CodeDiskMarginLow:   "Disk margin below its requirement.",
+	CodeRangeUnstable:   "A loop that is not stable for every value of its varying gains.",
+	CodeRangeUndecided:  "Stability over the range of the varying gains could not be established.",
 	CodeLoopVerdict:     "A loop's verdict and figures.",
 	CodeGainLimits:      "A gain's stable interval and safe maximum.",
 }

@@ -1,6 +1,7 @@
 package analysis
 
 import (
+	"fmt"
 	"sort"
 
 	"ringside/syntax"
@@ -15,9 +16,6 @@ func (d *diagList) add(path string, span syntax.Span, sev Severity, code, msg st
 	d.list = append(d.list, Diagnostic{Path: path, Span: span, Severity: sev, Code: code, Message: msg})
 	return &d.list[len(d.list)-1]
 }
-
-// put appends a fully built diagnostic.
-func (d *diagList) put(x Diagnostic) { d.list = append(d.list, x) }
 
 // sorted returns the diagnostics of path in source order (errors first at
 // equal positions).
@@ -46,4 +44,59 @@ func (r *Result) HasErrors() bool {
 		}
 	}
 	return false
+}
+
+// MaxDiagnostics is how many diagnostics one file reports; past it, one
+// more at the first left out says how many were, with the gravest
+// severity among them (so an error is never hidden by the cap). A file of
+// thousands of broken lines then costs a screenful in the editor and in
+// every report, and memory stays bounded by the file's size.
+const MaxDiagnostics = 1000
+
+// capped keeps the first MaxDiagnostics of sorted diagnostics.
+func capped(list []Diagnostic) []Diagnostic {
+	if len(list) <= MaxDiagnostics {
+		return list
+	}
+	rest := list[MaxDiagnostics:]
+	worst := Info
+	for _, d := range rest {
+		worst = min(worst, d.Severity)
+	}
+	first := rest[0]
+	return append(list[:MaxDiagnostics:MaxDiagnostics], Diagnostic{Path: first.Path, Span: first.Span, Severity: worst, Code: CodeTooMany,
+		Message: fmt.Sprintf("and %d more diagnostics from here on (only the first %d of a file are listed); fix these and check again", len(rest), MaxDiagnostics)})
+}
+
+// checkedFixes drops every fix whose edits would not read back as intended
+// (syntax.CheckFix): a fix the user applies must change what it says and
+// nothing else.
+func checkedFixes(res *Result, list []Diagnostic) {
+	for i := range list {
+		d := &list[i]
+		if len(d.Fixes) == 0 {
+			continue
+		}
+		kept := d.Fixes[:0]
+		for _, f := range d.Fixes {
+			if fixReadsBack(res, f) {
+				kept = append(kept, f)
+			}
+		}
+		d.Fixes = kept
+	}
+}
+
+func fixReadsBack(res *Result, f Fix) bool {
+	byPath := map[string][]syntax.Edit{}
+	for _, e := range f.Edits {
+		byPath[e.Path] = append(byPath[e.Path], syntax.Edit{Span: e.Span, New: e.NewText})
+	}
+	for path, edits := range byPath {
+		file := res.Files[path]
+		if file == nil || syntax.CheckFix(file, edits) != nil {
+			return false
+		}
+	}
+	return true
 }

@@ -1,10 +1,12 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"sort"
 
 	"ringside/analysis/discretize"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/syntax"
 )
@@ -28,6 +30,28 @@ type evaluator struct {
 	sweepGain string
 	sweepK    float64
 	base      *evaluator
+	// assigned sets several gains at once (a point of a box of varying
+	// gains); like a sweep, blocks that depend on none are taken from base.
+	assigned map[string]float64
+}
+
+// assign returns an evaluator that sets every gain of values and reuses
+// every block of ev that depends on none of them.
+func (ev *evaluator) assign(values map[string]float64) *evaluator {
+	return &evaluator{scope: ev.scope, gains: ev.gains, t: ev.t, memo: map[string]*blockValue{}, assigned: values, base: ev}
+}
+
+// changes reports whether bv depends on a gain this evaluator sets.
+func (ev *evaluator) changes(bv *blockValue) bool {
+	if bv.gains[ev.sweepGain] {
+		return true
+	}
+	for g := range ev.assigned {
+		if bv.gains[g] {
+			return true
+		}
+	}
+	return false
 }
 
 // sweep returns an evaluator that sets gain name to k and reuses every
@@ -41,13 +65,19 @@ func (ev *evaluator) gain(name string) float64 {
 	if ev.base != nil && name == ev.sweepGain {
 		return ev.sweepK
 	}
+	if v, ok := ev.assigned[name]; ok {
+		return v
+	}
 	return ev.gains[name]
 }
 
 type blockValue struct {
-	v      byte // 's', 'z' or 0
-	cont   poly.Rational
-	tf     poly.Rational
+	v    byte // 's', 'z' or 0
+	cont poly.Rational
+	tf   poly.Rational
+	// fac is tf in factored form (valid with ok unless facErr is set).
+	fac    lti.Factored
+	facErr error
 	ok     bool // tf valid
 	contOK bool // cont valid (s and constant blocks)
 	gains  map[string]bool
@@ -77,7 +107,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 		return bv
 	}
 	if ev.base != nil {
-		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !bv.gains[ev.sweepGain] {
+		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && !ev.changes(bv) {
 			return bv
 		}
 	}
@@ -110,6 +140,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 	switch v {
 	case 0:
 		bv.cont, bv.tf, bv.ok, bv.contOK = r, r, true, true
+		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
 		if st.Via != nil {
 			ev.report(d.Path, st.Via.Span, Warning, CodeViaOnDiscrete,
 				fmt.Sprintf("block %s is a constant: `via` has no effect; remove it", d.Name))
@@ -126,6 +157,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return bv
 		}
 		bv.tf, bv.ok = r, true
+		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
 	case 's':
 		bv.cont, bv.contOK = r, true
 		if r.Num.Degree() > r.Den.Degree() {
@@ -161,8 +193,74 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return bv
 		}
 		bv.tf, bv.ok = tf, true
+		bv.fac, bv.facErr = lti.FromRational(tf)
 	}
 	return bv
+}
+
+// factored returns a z (or constant) block's factored form: exact where the
+// expression multiplies, divides or raises factors as written (z − 1)^3 or
+// (z − 0.75), from the roots of the block's own polynomials where it sums
+// terms (a sum has no factors until its polynomial is solved). The
+// expression has already evaluated without error.
+func (ev *evaluator) factored(d *Decl, e syntax.Expr, bv *blockValue) (lti.Factored, error) {
+	switch x := e.(type) {
+	case *syntax.NumberLit:
+		return lti.Const(x.Value), nil
+	case *syntax.VarRef:
+		return lti.Factored{Gain: 1, Zeros: []complex128{0}}, nil
+	case *syntax.Paren:
+		return ev.factored(d, x.X, bv)
+	case *syntax.Unary:
+		f, err := ev.factored(d, x.X, bv)
+		if x.Op == "-" {
+			f = f.Scale(-1)
+		}
+		return f, err
+	case *syntax.Power:
+		f, err := ev.factored(d, x.X, bv)
+		if err != nil || (x.Exp < 0 && f.IsZero()) {
+			return f, err
+		}
+		return f.Pow(x.Exp), nil
+	case *syntax.Binary:
+		if x.Juxtaposed || x.Op == "*" || x.Op == "/" {
+			a, err := ev.factored(d, x.X, bv)
+			if err != nil {
+				return a, err
+			}
+			b, err := ev.factored(d, x.Y, bv)
+			if err != nil {
+				return a, err
+			}
+			if x.Op == "/" {
+				if b.IsZero() {
+					return lti.Factored{}, errors.New("division by zero")
+				}
+				b = b.Inv()
+			}
+			return a.Mul(b), nil
+		}
+		r, err := ev.expr(d, x, 'z', &blockValue{gains: map[string]bool{}})
+		if err != nil {
+			return lti.Factored{}, err
+		}
+		return lti.FromRational(r)
+	case *syntax.NameRef:
+		ref := ev.scope[x.Name]
+		if ref == nil {
+			return lti.Factored{}, errors.New("unknown name")
+		}
+		if ref.Gain != nil {
+			return lti.Const(ev.gain(x.Name)), nil
+		}
+		sub := ev.block(ref)
+		if sub.v == 0 && sub.contOK && !sub.ok {
+			return lti.FromRational(sub.cont)
+		}
+		return sub.fac, sub.facErr
+	}
+	return lti.Factored{}, errors.New("this expression could not be read")
 }
 
 func prewarpHz(n *syntax.Number) (float64, error) {

@@ -8,6 +8,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"ringside/syntax"
 )
 
 // A gain quick-fix must keep every requirement (written, or the defaults
@@ -108,7 +110,7 @@ func (c *checker) trialAt(name string, k float64, loops []*Loop) trial {
 	ev := c.base.sweep(name, k)
 	for _, l := range loops {
 		lc := *c
-		lc.diags, lc.pending, lc.noStep = &diagList{}, nil, !needsStep(l)
+		lc.diags, lc.pending, lc.trial = &diagList{}, nil, true
 		tl := lc.loop(ev, l.Stmt)
 		if !tl.OK || !tl.Stable {
 			t.stable = false
@@ -124,11 +126,16 @@ func (c *checker) trialAt(name string, k float64, loops []*Loop) trial {
 	return t
 }
 
-// needsStep reports whether a requirement of the loop is a step figure;
-// trials skip the simulation otherwise (it is most of a trial's cost).
-func needsStep(l *Loop) bool {
-	for _, q := range l.Requirements {
-		if q.Metric == "overshoot" || q.Metric == "settling" {
+// wants reports whether a loop analysis computes a figure needed only by
+// the given metrics: always, except in a fix search's trial, where it is
+// computed only when a require line of the loop names one of them (the
+// step response and the disk margin are most of a trial's cost).
+func (c *checker) wants(reqs []*syntax.RequireItem, metrics ...string) bool {
+	if !c.trial {
+		return true
+	}
+	for _, r := range reqs {
+		if r.Metric != nil && slices.Contains(metrics, r.Metric.Name) {
 			return true
 		}
 	}
@@ -340,17 +347,41 @@ func (f *GainFit) Meets() string {
 	return fmt.Sprintf("stable, the fewest requirements missed: still misses %s", strings.Join(f.Missed, ", "))
 }
 
+// MaxFitSearches bounds the gain fix searches of one check (8): each costs
+// a few dozen loop analyses, and a generated file with hundreds of failing
+// loops must still check in a fraction of a second. Gains past the bound,
+// in source order of their loops' diagnostics, get the gain margin's safe
+// value, whose title says the other requirements were not checked.
+const MaxFitSearches = 8
+
+// fit runs the search for gain g once per check, within MaxFitSearches;
+// searched is false when the bound stopped it.
+func (c *checker) fit(g *Gain) (searched bool) {
+	if g.fitDone {
+		return !g.fitSkipped
+	}
+	g.fitDone = true
+	if c.fitSearches >= MaxFitSearches {
+		g.fitSkipped = true
+		return false
+	}
+	c.fitSearches++
+	g.Fit = c.fitGain(g)
+	return true
+}
+
 // gainFix is the "set the gain" quick-fix: the searched value when the
 // search found one, else the safe value of the gain margin alone.
 func (c *checker) gainFix(g *Gain, gm float64) (Fix, bool) {
-	if !g.fitDone {
-		g.fitDone = true
-		g.Fit = c.fitGain(g)
-	}
+	searched := c.fit(g)
 	if g.Fit != nil {
 		return fitFix(g, g.Fit)
 	}
-	return setGainFix(g, gm)
+	f, ok := setGainFix(g, gm)
+	if ok && !searched {
+		f.Title = strings.TrimSuffix(f.Title, ")") + fmt.Sprintf("; other requirements not checked: more than %d gains need fixes in this file)", MaxFitSearches)
+	}
+	return f, ok
 }
 
 // fitHint is the searched value in a message's words, when it differs from
@@ -369,10 +400,7 @@ func (g *Gain) fitHint() string {
 // requirementFix offers the searched value on the diagnostic of a missed
 // requirement other than the gain margin, when that value meets it.
 func (c *checker) requirementFix(x *Diagnostic, g *Gain, p pendingFix) {
-	if !g.fitDone {
-		g.fitDone = true
-		g.Fit = c.fitGain(g)
-	}
+	c.fit(g)
 	f := g.Fit
 	if f == nil {
 		return

@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"ringside/syntax"
 )
 
 // fuzzCheckLimit bounds one Check of a fuzzed file of at most a few loops;
@@ -265,6 +267,66 @@ func FuzzCheck(f *testing.F) {
 			}
 			if blk.OK && math.IsNaN(blk.DCGain) {
 				t.Fatalf("block %s: DC gain NaN\n%s", blk.Name, src)
+			}
+		}
+	})
+}
+
+// FuzzFix applies every fix that Check offers on generated files (with a
+// byte order mark, CR or CRLF line ends when the fuzzer asks) and checks
+// the round trip on the whole re-parsed file, independently of the
+// line-local syntax.CheckFix that admitted the fix: no new syntax error,
+// and every statement the fix does not touch reads back the same.
+func FuzzFix(f *testing.F) {
+	f.Add(byte(1), []byte{})
+	f.Add(byte(2), []byte("\x00\x01\x83\x00\x01\x0f\x00\x00\x03\x00\x00\x00\x03\x00\x04\x00\x00\x00gain"))
+	rng := rand.New(rand.NewSource(2))
+	for i := range 8 {
+		b := make([]byte, 80)
+		rng.Read(b)
+		f.Add(byte(i), b)
+	}
+	f.Fuzz(func(t *testing.T, shape byte, data []byte) {
+		src := string(fuzzLoopFile(data))
+		if shape&1 != 0 {
+			src = "\ufeff" + src
+		}
+		switch shape / 2 % 3 {
+		case 1:
+			src = strings.ReplaceAll(src, "\n", "\r")
+		case 2:
+			src = strings.ReplaceAll(src, "\n", "\r\n")
+		}
+		env := Env{Roots: []string{"/fuzz"}, Read: func(string) ([]byte, error) { return nil, errors.New("no other files") }}
+		res := Check(context.Background(), "/fuzz/f.loop", []byte(src), env)
+		before, errsBefore := syntax.Parse("", []byte(src))
+		keysBefore := syntax.StmtKeys(before, nil)
+		for _, d := range res.Diagnostics {
+			for _, fx := range d.Fixes {
+				out := applyEdits(src, fx.Edits)
+				after, errsAfter := syntax.Parse("", []byte(out))
+				if len(errsAfter) > len(errsBefore) {
+					t.Fatalf("fix %q of %s adds a syntax error %v\n%q\n%q", fx.Title, d.Code, errsAfter[0], src, out)
+				}
+				keysAfter := syntax.StmtKeys(after, nil)
+				pre, suf := 0, 0
+				for pre < len(keysBefore) && pre < len(keysAfter) && keysBefore[pre] == keysAfter[pre] {
+					pre++
+				}
+				for suf < len(keysBefore)-pre && suf < len(keysAfter)-pre && keysBefore[len(keysBefore)-1-suf] == keysAfter[len(keysAfter)-1-suf] {
+					suf++
+				}
+				for i := pre; i < len(keysBefore)-suf; i++ {
+					st := before.Stmts[i]
+					hit := false
+					for _, e := range fx.Edits {
+						hit = hit || e.Span.From <= st.End() && st.Pos() <= e.Span.To
+					}
+					if !hit {
+						t.Fatalf("fix %q of %s changes statement %d, which it does not edit\n%q\n%q", fx.Title, d.Code, i, src, out)
+					}
+				}
+				Check(context.Background(), "/fuzz/f.loop", []byte(out), env)
 			}
 		}
 	})

@@ -4,14 +4,12 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"math/cmplx"
 	"sort"
 	"strings"
 
-	"ringside/analysis/freq"
 	"ringside/analysis/gainlimit"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
-	"ringside/analysis/roots"
 	"ringside/syntax"
 )
 
@@ -36,7 +34,12 @@ type pendingFix struct {
 // loopAt evaluates a loop's characteristic polynomial and open loop with
 // gain name set to k.
 func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
-	ev := c.base.sweep(name, k)
+	return c.loopWith(l, c.base.sweep(name, k))
+}
+
+// loopWith evaluates a loop's characteristic polynomial and open loop with
+// the gains ev sets.
+func (c *checker) loopWith(l *Loop, ev *evaluator) (poly.Poly, poly.Rational, bool) {
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
@@ -138,19 +141,15 @@ func (c *checker) gainLimits(ctx context.Context) {
 	}
 	// Gains are independent of each other: each search only reads the
 	// loops and the shared evaluator.
+	using := loopsByGain(c.res.Loops)
+	deps := c.dependents()
 	parallel(len(gains), func(i int) {
 		g := gains[i]
 		if ctx.Err() != nil {
 			return
 		}
-		var loops []*Loop
-		for _, l := range c.res.Loops {
-			if l.OK && contains(l.Gains, g.Name) {
-				loops = append(loops, l)
-			}
-		}
-		if len(loops) > 0 {
-			g.Limits = c.limitsOf(g, loops)
+		if loops := using[g.Name]; len(loops) > 0 {
+			g.Limits = c.memoLimits(g, loops, deps, func() *GainLimits { return c.limitsOf(g, loops) })
 		}
 	})
 	c.attachFixes()
@@ -179,82 +178,56 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 	return lim
 }
 
-// interval intersects the exact per-loop intervals when every loop is affine
-// in the gain; otherwise it searches numerically on the product of the
-// characteristic polynomials (stable exactly when each factor is).
+// interval finds the stable interval of gain name over the loops using it:
+// by D-decomposition on the frequency response when the gain scales L
+// (scalingInterval); by the exact affine method on the characteristic
+// polynomials when they are affine in the gain and of low order
+// (MaxAffineDegree), each end then verified by an eigenvalue check; and
+// otherwise by a march with eigenvalue checks (numericInterval).
 func (c *checker) interval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, error) {
-	var out gainlimit.Interval
-	exact := true
-	var parts []gainlimit.Interval
-	for _, l := range loops {
-		a, b, ok := c.affine(l, name, k0)
-		if !ok {
-			exact = false
-			break
-		}
-		iv, err := gainlimit.Affine(a, b, k0)
-		if err != nil {
-			exact = false
-			break
-		}
-		parts = append(parts, iv)
+	if iv, ok := c.scalingInterval(name, k0, loops); ok {
+		return iv, nil
 	}
-	if exact {
-		out = gainlimit.Interval{Exact: true, ContainsCurrent: true, Found: true}
-		for _, iv := range parts {
-			out.ContainsCurrent = out.ContainsCurrent && iv.ContainsCurrent
-			out.Found = out.Found && iv.Found
-			if iv.Lo != nil && (out.Lo == nil || *iv.Lo > *out.Lo) {
-				out.Lo = iv.Lo
-			}
-			if iv.Hi != nil && (out.Hi == nil || *iv.Hi < *out.Hi) {
-				out.Hi = iv.Hi
-			}
-		}
-		if out.Lo != nil && out.Hi != nil && *out.Lo >= *out.Hi {
-			out.Found = false
-		}
-		if len(parts) == 1 || out.ContainsCurrent {
-			return out, nil
-		}
-		// Nearest intervals of different loops need not overlap: search.
+	if iv, ok := c.affineInterval(name, k0, loops); ok {
+		return iv, nil
 	}
-	return gainlimit.Numeric(func(k float64) (poly.Poly, error) {
-		p := poly.Const(1)
-		for _, l := range loops {
-			ch, _, ok := c.loopAt(l, name, k)
-			if !ok {
-				return nil, fmt.Errorf("loop %s cannot be evaluated at %s = %g", l.Name, name, k)
-			}
-			p = p.Mul(ch)
-		}
-		return p, nil
-	}, k0)
+	return c.numericInterval(name, k0, loops)
 }
 
-// excess is the smallest amount, in dB, by which the loops using gain name
-// exceed their required gain margin with the gain set to k (+Inf when no
-// loop has a phase crossing), and NaN when some loop is unstable there.
-func (c *checker) excess(name string, k float64, loops []*Loop) float64 {
-	worst := math.Inf(1)
+// affineInterval intersects the exact per-loop intervals when every loop is
+// affine in the gain and of degree at most MaxAffineDegree, and verifies
+// the result's ends just inside by eigenvalue checks.
+func (c *checker) affineInterval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, bool) {
+	out := gainlimit.Interval{Exact: true, ContainsCurrent: true, Found: true}
 	for _, l := range loops {
-		char, open, ok := c.loopAt(l, name, k)
-		if !ok {
-			return math.NaN()
+		a, b, ok := c.affine(l, name, k0)
+		if !ok || max(a.Degree(), b.Degree()) > MaxAffineDegree {
+			return out, false
 		}
-		st, err := gainlimit.SchurStable(char)
-		if err != nil || !st {
-			return math.NaN()
+		iv, err := gainlimit.Affine(a, b, k0)
+		if err != nil || !iv.Exact {
+			return out, false
 		}
-		gm, err := freq.GainMargin(open, c.res.SampleT)
-		if err != nil {
-			return math.NaN()
+		out.ContainsCurrent = out.ContainsCurrent && iv.ContainsCurrent
+		out.Found = out.Found && iv.Found
+		if iv.Lo != nil && (out.Lo == nil || *iv.Lo > *out.Lo) {
+			out.Lo = iv.Lo
 		}
-		if gm != nil {
-			worst = math.Min(worst, *gm-c.requiredGM(l))
+		if iv.Hi != nil && (out.Hi == nil || *iv.Hi < *out.Hi) {
+			out.Hi = iv.Hi
 		}
 	}
-	return worst
+	if out.Lo != nil && out.Hi != nil && *out.Lo >= *out.Hi {
+		out.Found = false
+	}
+	if len(loops) > 1 && !out.ContainsCurrent {
+		return out, false // nearest intervals of different loops need not overlap
+	}
+	if out.Found && (out.Lo != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1e-3), loops) ||
+		out.Hi != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1-1e-3), loops)) {
+		return out, false
+	}
+	return out, true
 }
 
 // meets reports whether every loop is stable with gain name = k and keeps
@@ -322,7 +295,7 @@ func (c *checker) marginBoundary(name string, k0 float64, loops []*Loop, lim *Ga
 	best := math.Inf(1)
 	for _, l := range loops {
 		a, b, ok := c.affineScaled(l, name, k0, math.Pow(10, c.requiredGM(l)/20))
-		if !ok {
+		if !ok || max(a.Degree(), b.Degree()) > MaxAffineDegree {
 			return 0, false
 		}
 		iv, err := gainlimit.Affine(a, b, k0)
@@ -338,30 +311,6 @@ func (c *checker) marginBoundary(name string, k0 float64, loops []*Loop, lim *Ga
 		best = math.Min(best, *lim.StableMax)
 	}
 	return best, !math.IsInf(best, 1) && best != 0
-}
-
-// scalingGuess returns, for a gain that only scales L (L(k) = (k/k0)·L(k0)
-// in every loop: a proportional gain or a gain block on the path), the
-// value at which the gain margin equals its requirement: the phase
-// crossings do not move, so GM(k) = GM(k0) − 20·log10(k/k0). It is a guess
-// that the caller verifies.
-func (c *checker) scalingGuess(name string, k0 float64, loops []*Loop) (float64, bool) {
-	if k0 == 0 {
-		return 0, false
-	}
-	guess := math.Inf(1)
-	for _, l := range loops {
-		_, o1, ok1 := c.loopAt(l, name, k0)
-		_, o2, ok2 := c.loopAt(l, name, 2*k0)
-		if !ok1 || !ok2 || !o1.Den.Equal(o2.Den, 1e-12*maxAbs(o1.Den)) || !o1.Num.Scale(2).Equal(o2.Num, 1e-12*maxAbs(o2.Num)) {
-			return 0, false
-		}
-		if l.Margins.GainMarginDB == nil {
-			continue
-		}
-		guess = math.Min(guess, k0*math.Pow(10, (*l.Margins.GainMarginDB-c.requiredGM(l))/20))
-	}
-	return guess, !math.IsInf(guess, 1)
 }
 
 func (c *checker) maxRequiredGM(loops []*Loop) float64 {
@@ -386,6 +335,10 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
 	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
 	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
+	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim); found {
+		lim.SafeMax = &v
+		return
+	}
 	if guess, found := c.marginBoundary(g.Name, k0, loops, lim); found {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if guess < 0 {
@@ -393,14 +346,6 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 		}
 		if ok(lo) && !ok(hi) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
-			return
-		}
-	}
-	if guess, found := c.scalingGuess(g.Name, k0, loops); found && k0 > 0 && guess > 0 {
-		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
-		if ok(lo) && !ok(hi) {
-			v := largestMeeting(f, lo, hi, math.NaN())
-			lim.SafeMax = &v
 			return
 		}
 	}
@@ -488,8 +433,8 @@ func (c *checker) attachFixes() {
 		x := &c.diags.list[p.diag]
 		for _, name := range p.loop.Gains {
 			d := c.res.Scope[name]
-			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil {
-				continue
+			if d == nil || d.Gain == nil || d.Gain.Limits == nil || d.Gain.Stmt.Value == nil || d.Gain.Vary != nil {
+				continue // a varying gain is the plant's, not the engineer's to set
 			}
 			g := d.Gain
 			if p.metric != "" && p.metric != "gain_margin" {
@@ -590,16 +535,9 @@ const ZeroSnap = 1e-3
 // circle with the gain set to zero.
 func (c *checker) openOnCircle(name string, loops []*Loop) bool {
 	for _, l := range loops {
-		char, _, ok := c.loopAt(l, name, 0)
-		if !ok || char.Degree() < 1 {
-			continue
-		}
-		r, err := roots.Find(char)
-		if err != nil {
-			continue
-		}
-		for _, z := range r.Roots {
-			if math.Abs(cmplx.Abs(z)-1) <= c.env.Options.Tolerance {
+		_, ps, _ := c.decideAt(l, name, 0)
+		for _, p := range ps {
+			if p.Place(c.env.Options.Tolerance) == lti.OnCircle {
 				return true
 			}
 		}

@@ -12,8 +12,8 @@ import (
 // that the analysis shows stable is intended, so its block-pole-on-circle
 // finding becomes one info line naming the loops that stabilise it. It
 // stays a warning where it matters: a block used by no loop of the file,
-// or by a loop that is not shown stable (unstable, on the circle, or not
-// analysed). In the quick analysis (no loop verdicts yet) a block used by
+// or by a loop that is not shown stable (unstable, on the circle,
+// undecided, not over its varying gains' range, or not analysed). In the quick analysis (no loop verdicts yet) a block used by
 // some loop gets the info, so the editor does not flash a warning that the
 // full analysis withdraws; the loop's own verdict reports any instability.
 func (c *checker) quietIntegrators() {
@@ -27,7 +27,7 @@ func (c *checker) quietIntegrators() {
 			if !c.loopContains(l, b.Name) {
 				continue
 			}
-			if l.OK && l.Stable || c.env.Options.Quick {
+			if l.ShownStable() || c.env.Options.Quick {
 				stable = append(stable, l.Name)
 			} else {
 				other = append(other, l.Name)

@@ -6,12 +6,10 @@ import (
 	"math/cmplx"
 	"strings"
 
-	"ringside/analysis/freq"
-	"ringside/analysis/gainlimit"
+	"ringside/analysis/lti"
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
-	"ringside/analysis/step"
 	"ringside/syntax"
 )
 
@@ -23,11 +21,13 @@ const CancelTolerance = 1e-4
 
 // element is one block or gain on a loop path, resolved.
 type element struct {
-	name  string
-	ident *syntax.Ident
-	tf    poly.Rational
-	block *Block // nil for a gain
-	decl  *Decl
+	name   string
+	ident  *syntax.Ident
+	tf     poly.Rational
+	fac    lti.Factored
+	facErr error
+	block  *Block // nil for a gain
+	decl   *Decl
 }
 
 // loopShape is the structure of a loop statement, independent of values.
@@ -93,7 +93,7 @@ func (c *checker) elements(ev *evaluator, names []*syntax.Ident, report bool) ([
 			continue
 		}
 		if d.Gain != nil {
-			out = append(out, element{name: id.Name, ident: id, tf: poly.RConst(ev.gain(id.Name)), decl: d})
+			out = append(out, element{name: id.Name, ident: id, tf: poly.RConst(ev.gain(id.Name)), fac: lti.Const(ev.gain(id.Name)), decl: d})
 			continue
 		}
 		bv := ev.block(d)
@@ -104,7 +104,7 @@ func (c *checker) elements(ev *evaluator, names []*syntax.Ident, report bool) ([
 			ok = false
 			continue
 		}
-		out = append(out, element{name: id.Name, ident: id, tf: bv.tf, block: d.Block, decl: d})
+		out = append(out, element{name: id.Name, ident: id, tf: bv.tf, fac: bv.fac, facErr: bv.facErr, block: d.Block, decl: d})
 	}
 	return out, ok
 }
@@ -125,6 +125,30 @@ func (c *checker) reportUnusable(d *Decl, id *syntax.Ident) {
 	}
 	x := c.diags.add(c.res.Path, id.Span, Error, CodeBadExpression, fmt.Sprintf("block %s has errors, so this loop cannot be analysed", id.Name))
 	x.Related = append(x.Related, Related{Path: d.Path, Span: st.Name.Span, Message: "block declared here"})
+}
+
+// model builds the loop's factored and state-space model; ok is false when
+// some block has no factored form (its roots could not be found).
+func model(fwd, fb []element, positive bool) (*lti.Loop, error) {
+	facs := func(es []element) ([]lti.Factored, error) {
+		out := make([]lti.Factored, len(es))
+		for i, e := range es {
+			if e.facErr != nil {
+				return nil, fmt.Errorf("block %s: %v", e.name, e.facErr)
+			}
+			out[i] = e.fac
+		}
+		return out, nil
+	}
+	f, err := facs(fwd)
+	if err != nil {
+		return nil, err
+	}
+	b, err := facs(fb)
+	if err != nil {
+		return nil, err
+	}
+	return lti.NewLoop(f, b, positive), nil
 }
 
 func tfs(es []element) []poly.Rational {
@@ -190,23 +214,33 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 	if !c.algebraic(l, fwd, fb) {
 		return l
 	}
-	if !c.closedPoles(l) {
+	mod, err := model(fwd, fb, sh.positive)
+	if err != nil {
+		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, fmt.Sprintf("loop %s: closed-loop poles could not be computed (%v); no verdict", l.Name, err))
+		return l
+	}
+	l.Model = mod
+	poles, ok := c.closedPoles(l)
+	if !ok {
 		return l
 	}
 	l.OK = true
 	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
-	m, err := freq.Compute(l.Open, c.res.SampleT)
+	m, err := mod.Margins(c.res.SampleT, poles)
 	if err != nil {
 		c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
 	l.Margins = m
-	if l.Stable && !c.noStep {
-		st, err := step.Simulate(l.Closed, c.res.SampleT, l.MaxRadius)
+	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
+		st, err := mod.Step(c.res.SampleT, l.MaxRadius)
 		if err != nil {
 			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
 		} else {
 			l.Step = &st
 		}
+	}
+	if c.wants(sh.reqs, "disk_margin") {
+		c.diskMargin(l)
 	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
@@ -263,25 +297,22 @@ func (c *checker) algebraic(l *Loop, fwd, fb []element) bool {
 	return true
 }
 
-// closedPoles finds the closed-loop poles and the verdict.
-func (c *checker) closedPoles(l *Loop) bool {
-	if l.Char.Degree() < 1 {
-		l.Stable, l.MaxRadius, l.MinDamping = true, 0, 1
-		return true
-	}
-	r, err := roots.Find(l.Char)
+// closedPoles finds the closed-loop poles, their bounds and the verdict.
+func (c *checker) closedPoles(l *Loop) ([]lti.Pole, bool) {
+	ps, err := l.Model.Poles()
 	if err != nil {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric, fmt.Sprintf("loop %s: closed-loop poles could not be computed (%v); no verdict", l.Name, err))
-		return false
+		return nil, false
 	}
-	l.BackwardError = r.BackwardError
 	tol := c.env.Options.Tolerance
-	for _, z := range r.Roots {
-		l.Poles = append(l.Poles, pole.Describe(z, c.res.SampleT, tol))
+	for _, p := range ps {
+		l.Poles = append(l.Poles, pole.Describe(p.Z, c.res.SampleT, tol))
+		l.PoleBounds = append(l.PoleBounds, p.Bound)
 	}
-	sortPoles(l.Poles)
-	l.MaxRadius = l.Poles[0].Radius
-	l.MinDamping = math.Inf(1)
+	l.MaxRadius, l.MinDamping = 0, math.Inf(1)
+	if len(l.Poles) > 0 {
+		l.MaxRadius = l.Poles[0].Radius
+	}
 	for _, p := range l.Poles {
 		if p.Shape != pole.Impulse && p.Damping < l.MinDamping {
 			l.MinDamping = p.Damping
@@ -290,9 +321,28 @@ func (c *checker) closedPoles(l *Loop) bool {
 	if math.IsInf(l.MinDamping, 1) {
 		l.MinDamping = 1
 	}
-	l.Stable = l.MaxRadius < 1-tol
-	l.Marginal = !l.Stable && l.MaxRadius <= 1+tol
-	return true
+	v, i := lti.Decide(ps, tol)
+	switch v {
+	case lti.Stable:
+		l.Stable = true
+	case lti.Marginal:
+		l.Marginal = true
+	case lti.Undecided:
+		l.Undecided = true
+		c.undecided(l, ps[i])
+	}
+	return ps, true
+}
+
+// undecided reports a loop whose verdict the numbers cannot support.
+func (c *checker) undecided(l *Loop, p lti.Pole) {
+	what := "a closed-loop pole"
+	if p.Multiplicity > 1 {
+		what = fmt.Sprintf("a cluster of %d closed-loop poles that the computation cannot separate, centred", p.Multiplicity)
+	}
+	c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric,
+		fmt.Sprintf("loop %s: stability cannot be decided numerically: %s at z = %s (radius %s) carries an error bound of %.2g, which reaches across the unit circle (tolerance %g); no verdict is given. To resolve it, move the loop's poles clear of the circle by more than the bound, write repeated or cancelling roots as factors such as (z - 1)^2 so they are exact, or split the loop into lower-order blocks",
+			l.Name, what, fmtComplex(p.Z), FormatRadius(cmplx.Abs(p.Z)), p.Bound, c.env.Options.Tolerance))
 }
 
 // hiddenModes finds block poles cancelled by zeros in the same loop.
@@ -303,18 +353,17 @@ func (c *checker) hiddenModes(l *Loop, es []element) {
 	}
 	var ps, zs []rootOf
 	for i, e := range es {
-		if e.block == nil {
+		if e.block == nil || e.facErr != nil {
 			continue
 		}
-		if r, err := roots.Find(e.tf.Den); err == nil {
-			for _, cl := range r.Clusters {
-				ps = append(ps, rootOf{cl.Value, i})
-			}
+		for _, cl := range clustersOf(e.fac.Poles) {
+			ps = append(ps, rootOf{cl.Value, i})
 		}
-		if r, err := roots.Find(e.tf.Num); err == nil {
-			for _, cl := range r.Clusters {
-				zs = append(zs, rootOf{cl.Value, i})
-			}
+		if e.fac.IsZero() {
+			continue
+		}
+		for _, cl := range clustersOf(e.fac.Zeros) {
+			zs = append(zs, rootOf{cl.Value, i})
 		}
 	}
 	seen := map[complex128]bool{}
@@ -359,7 +408,7 @@ func (c *checker) hiddenDiagnostic(l *Loop, h HiddenMode, pe, ze element) {
 
 // verdictDiagnostics reports an unstable or marginal loop.
 func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
-	if l.Stable {
+	if l.Stable || l.Undecided {
 		return
 	}
 	worst := l.Poles[0]
@@ -372,14 +421,8 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,
 			fmt.Sprintf("loop %s is not BIBO stable: closed-loop pole on the unit circle at %s (tolerance %g); a bounded input can drive an unbounded output (a sustained oscillation or drift)", l.Name, where, c.env.Options.Tolerance))
 	} else {
-		n := 0
-		for _, p := range l.Poles {
-			if p.Radius > 1+c.env.Options.Tolerance {
-				n++
-			}
-		}
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodePoleOutside,
-			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, n, where))
+			fmt.Sprintf("loop %s is UNSTABLE: %d closed-loop pole(s) outside the unit circle, the largest at %s; the output grows without bound and can damage the machine; do not run it", l.Name, l.PolesOutside(), where))
 	}
 	// Point at the open-loop pole nearest to the worst closed-loop pole.
 	best, bestD := -1, math.Inf(1)
@@ -408,8 +451,13 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 // with it: a sign typed the wrong way round is a common slip, and the
 // editor user chooses whether it is one.
 func (c *checker) flipSignFix(x *Diagnostic, l *Loop, fwd, fb []element) {
-	_, char, _ := polys(tfs(fwd), tfs(fb), !l.Positive)
-	if st, err := gainlimit.SchurStable(char); err != nil || !st {
+	flipped, err := model(fwd, fb, !l.Positive)
+	if err != nil {
+		return
+	}
+	if ps, err := flipped.Poles(); err != nil {
+		return
+	} else if v, _ := lti.Decide(ps, c.env.Options.Tolerance); v != lti.Stable {
 		return
 	}
 	want, note := "negative", "negative (the usual feedback)"

@@ -12,6 +12,7 @@ import (
 
 	"ringside/analysis/discretize"
 	"ringside/analysis/freq"
+	"ringside/analysis/lti"
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/step"
@@ -110,8 +111,11 @@ type Gain struct {
 	Limits   *GainLimits // nil when no loop of this file uses it
 	// Fit is the value the quick-fix offers, keeping every requirement it
 	// can (fixsearch.go); nil until a failing loop asks for a fix.
-	Fit     *GainFit
-	fitDone bool
+	Fit                 *GainFit
+	fitDone, fitSkipped bool
+	// Vary is the range of an uncertain gain (`vary A to B`); nil for a
+	// tunable one (or when the range is not valid).
+	Vary *Range
 }
 
 // GainLimits are the values of a gain that keep every loop using it stable
@@ -144,11 +148,15 @@ type Block struct {
 	// PrewarpHz is the Tustin prewarp frequency, 0 when none.
 	PrewarpHz float64
 	// TF is the discrete transfer function in z; valid when OK.
-	TF     poly.Rational
-	OK     bool
-	Poles  []pole.Info
-	Zeros  []pole.Info
-	DCGain float64 // TF(1); ±Inf for a pole at z = 1; NaN (undefined) when both vanish there
+	TF poly.Rational
+	// Factored is TF as gain, poles and zeros (exact where written as
+	// factors); valid when OK and FactoredOK.
+	Factored   lti.Factored
+	FactoredOK bool
+	OK         bool
+	Poles      []pole.Info
+	Zeros      []pole.Info
+	DCGain     float64 // TF(1); ±Inf for a pole at z = 1; NaN (undefined) when both vanish there
 	// Gains lists the gain names the block depends on (directly or
 	// through the blocks it uses).
 	Gains []string
@@ -162,24 +170,41 @@ type Loop struct {
 	Feedback []string
 	Positive bool // positive feedback
 	OK       bool // every element resolved and the analysis ran
+	// NotReached: the analysis stopped (time budget, cancel) before this
+	// loop; it has no verdict and an error says so.
+	NotReached bool
 
 	Open   poly.Rational // L, sign folded in so that the loop closes as 1 + L = 0
 	Char   poly.Poly     // uncancelled characteristic polynomial
 	Closed poly.Rational // reference to output
 
-	Poles     []pole.Info // closed-loop, largest radius first
-	Stable    bool        // every pole strictly inside (by Tolerance)
-	Marginal  bool        // none outside, some on the circle
+	Poles []pole.Info // closed-loop, largest radius first
+	// PoleBounds[i] bounds the error of Poles[i] (see lti.Pole.Bound).
+	PoleBounds []float64
+	Stable     bool // every pole certainly strictly inside (by Tolerance)
+	Marginal   bool // none certainly outside, some on the circle
+	// Undecided: no pole certainly outside or on the circle, and some
+	// pole's error bound straddles the circle; Stable and Marginal are
+	// false and no verdict is given (a numeric-failure diagnostic says why).
+	Undecided bool
+	// Model is the loop as blocks in factored and state-space form: L at
+	// any z, block by block; the closed-loop poles; margins; step.
+	Model     *lti.Loop
 	MaxRadius float64
 	// MinDamping is the smallest damping ratio over the closed-loop
 	// poles, excluding pure delays at z = 0.
-	MinDamping    float64
-	BackwardError float64 // of the root computation
-	Margins       freq.Margins
-	Step          *step.Result // nil unless stable
-	Hidden        []HiddenMode
-	Requirements  []Requirement
-	Gains         []string // gain names the loop depends on
+	MinDamping   float64
+	Margins      freq.Margins
+	Step         *step.Result // nil unless stable
+	Hidden       []HiddenMode
+	Requirements []Requirement
+	Gains        []string // gain names the loop depends on
+	// Robust is the analysis over the box of the loop's varying gains;
+	// nil when it depends on none (vary.go).
+	Robust *Robust
+	// Disk is the symmetric disk margin; nil unless the loop is stable
+	// (disk.go).
+	Disk *DiskMargin
 }
 
 // HiddenMode is a block pole cancelled by a zero in the loop: invisible in

@@ -3,11 +3,20 @@ package analysis
 import "math"
 
 // Status is a loop's verdict in one or two words, for tables: "stable",
-// "UNSTABLE", "NOT STABLE" (a pole on the circle) or "not analysed".
+// "UNSTABLE", "NOT STABLE" (a pole on the circle), "UNDECIDED", "not
+// analysed", or, for a loop stable at the nominal values of its varying
+// gains but not over their whole range, "UNSTABLE over range" (or
+// "UNDECIDED over range").
 func (l *Loop) Status() string {
 	switch {
-	case !l.OK:
+	case l.NotReached || !l.OK:
 		return "not analysed"
+	case l.Undecided:
+		return "UNDECIDED"
+	case l.Stable && l.Robust != nil && l.Robust.Stable == nil:
+		return "UNDECIDED over range"
+	case l.Stable && l.Robust != nil && !*l.Robust.Stable:
+		return "UNSTABLE over range"
 	case l.Stable:
 		return "stable"
 	case l.Marginal:
@@ -16,11 +25,18 @@ func (l *Loop) Status() string {
 	return "UNSTABLE"
 }
 
-// Failing reports whether the loop has an error: not stable, not
+// ShownStable reports whether the analysis shows the loop stable: every
+// closed-loop pole inside the circle, decided, and over the whole range
+// of its varying gains.
+func (l *Loop) ShownStable() bool {
+	return l.Status() == "stable"
+}
+
+// Failing reports whether the loop has an error: not shown stable, not
 // analysed, or a written requirement missed (a missed default rule of
 // thumb is a warning and does not count).
 func (l *Loop) Failing() bool {
-	if !l.OK || !l.Stable {
+	if !l.ShownStable() {
 		return true
 	}
 	for _, q := range l.Requirements {

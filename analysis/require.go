@@ -3,6 +3,7 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"ringside/syntax"
 )
@@ -23,11 +24,12 @@ var metrics = map[string]metricSpec{
 	"peak_sensitivity": {[]quantity{qDB, qPlain}, "dB", "peak sensitivity"},
 	"overshoot":        {[]quantity{qPercent, qPlain}, "%", "step overshoot"},
 	"settling":         {[]quantity{qTime, qSamples}, "s", "2 % settling time"},
+	"disk_margin":      {[]quantity{qPlain}, "", "disk margin alpha"},
 }
 
 // MetricNames lists the require metrics of the format, for completion.
 func MetricNames() []string {
-	return []string{"gain_margin", "phase_margin", "delay_margin", "radius", "damping", "peak_sensitivity", "overshoot", "settling"}
+	return []string{"gain_margin", "phase_margin", "delay_margin", "radius", "damping", "peak_sensitivity", "overshoot", "settling", "disk_margin"}
 }
 
 // checkMetrics reports unknown metrics and units that do not fit.
@@ -44,7 +46,7 @@ func (c *checker) checkMetrics(reqs []*syntax.RequireItem) {
 					best = m
 				}
 			}
-			msg := fmt.Sprintf("unknown require metric %q; the metrics are gain_margin, phase_margin, delay_margin, radius, damping, peak_sensitivity, overshoot, settling", r.Metric.Name)
+			msg := fmt.Sprintf("unknown require metric %q; the metrics are %s", r.Metric.Name, strings.Join(MetricNames(), ", "))
 			if best != "" {
 				msg += "; did you mean " + best + "?"
 			}
@@ -136,10 +138,14 @@ func (c *checker) requirements(l *Loop, reqs []*syntax.RequireItem) {
 		if q, _, _ := unitKind(r.Value.UnitCanon()); q == qSamples {
 			v *= c.res.SampleT
 		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			c.diags.add(c.res.Path, r.Value.Span, Error, CodeBadUnit, fmt.Sprintf("require %s %s %s is too large to compare with anything (not a finite number once converted); write a value a loop can meet", r.Metric.Name, r.Op, r.Value))
+			continue
+		}
 		l.Requirements = append(l.Requirements, c.evalReq(l, r, r.Metric.Name, r.Op, v))
 	}
 	for _, q := range l.Requirements {
-		if !q.Met {
+		if !q.Met && !l.Undecided { // an undecided loop has its own error
 			c.missed(l, q)
 		}
 	}
@@ -185,6 +191,11 @@ func metricValue(l *Loop, metric string) (v float64, have bool) {
 			return 0, false
 		}
 		return l.Step.SettlingS, true
+	case "disk_margin":
+		if l.Disk == nil {
+			return 0, false
+		}
+		return l.Disk.Alpha, true
 	}
 	return 0, false
 }
@@ -201,7 +212,11 @@ func (c *checker) evalReq(l *Loop, item *syntax.RequireItem, metric, op string, 
 	q.GotText = fmtMetric(metric, v)
 	// Margins and step figures of an unstable loop describe nothing real.
 	if !l.Stable && metric != "radius" && metric != "damping" {
-		q.GotText += " (loop not stable)"
+		if l.Undecided {
+			q.GotText += " (stability undecided)"
+		} else {
+			q.GotText += " (loop not stable)"
+		}
 		return q
 	}
 	if op == ">=" {
@@ -234,6 +249,8 @@ func (c *checker) missed(l *Loop, q Requirement) {
 		msg += "; the slowest or least damped mode rings or lingers"
 	case "peak_sensitivity":
 		msg += "; disturbances near that frequency are amplified"
+	case "disk_margin":
+		msg += "; a small gain and phase change together (well inside the gain and phase margins taken one at a time) can destabilise the loop"
 	}
 	c.diags.add(c.res.Path, span, sev, metricCode[q.Metric], msg)
 	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l, metric: q.Metric})

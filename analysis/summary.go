@@ -9,17 +9,10 @@ import (
 // "stable, GM 8.1 dB, PM 47°".
 func (l *Loop) Verdict() string {
 	if !l.OK {
-		return "not analysed (see the errors)"
+		return l.VerdictWord()
 	}
 	var b strings.Builder
-	switch {
-	case l.Stable:
-		b.WriteString("stable")
-	case l.Marginal:
-		b.WriteString("NOT STABLE (pole on the unit circle)")
-	default:
-		b.WriteString("UNSTABLE")
-	}
+	b.WriteString(l.VerdictWord())
 	m := l.Margins
 	if m.GainMarginDB != nil {
 		fmt.Fprintf(&b, ", GM %.3g dB", Shown(*m.GainMarginDB))
@@ -40,14 +33,7 @@ func (l *Loop) Summary() string {
 	if !l.OK {
 		return fmt.Sprintf("loop %s: %s", l.Name, l.Verdict())
 	}
-	var parts []string
-	verdict := "stable"
-	if l.Marginal {
-		verdict = "NOT STABLE: pole on the unit circle"
-	} else if !l.Stable {
-		verdict = "UNSTABLE"
-	}
-	parts = append(parts, verdict, "largest pole radius "+FormatRadius(l.MaxRadius))
+	parts := []string{l.VerdictWord(), "largest pole radius " + FormatRadius(l.MaxRadius)}
 	m := l.Margins
 	if m.GainMarginDB != nil {
 		parts = append(parts, fmt.Sprintf("gain margin %s at %s", fmtMetric("gain_margin", *m.GainMarginDB), FormatHz(*m.PhaseCrossoverHz)))
@@ -94,9 +80,12 @@ func (g *Gain) LimitsText() string {
 	default:
 		s = fmt.Sprintf("gain %s = %s: no value found that makes loops %s stable", g.Name, fmtNum(g.Value), strings.Join(lim.Loops, ", "))
 	}
-	if lim.SafeMax != nil {
+	switch {
+	case g.Vary != nil: // uncertain: nobody sets it, so no safe value
+		s += fmt.Sprintf("; varies %s to %s (see the loops' verdicts over the range)", fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi))
+	case lim.SafeMax != nil:
 		s += fmt.Sprintf("; keeps the required gain margin up to %s = %s", g.Name, fmtNum(roundDown(*lim.SafeMax)))
-	} else if lim.SafeMaxNote != "" {
+	case lim.SafeMaxNote != "":
 		s += "; " + lim.SafeMaxNote
 	}
 	return s

@@ -50,8 +50,19 @@ func unitKind(u string) (quantity, float64, bool) {
 	return 0, 0, false
 }
 
+// The sample periods ringside accepts, in seconds: 1 ns (a 1 GHz rate)
+// to one day. Faster than 1 GHz no sampled controller runs; slower than a
+// day is no feedback loop a controller closes, and at such periods the
+// discretization of a continuous block (the matrix exponential of A·T)
+// over- or underflows in float64 and silently loses the numerator
+// (`sample 1e30 s`). A period outside is refused, never half-analysed.
+const (
+	MinSamplePeriod = 1e-9
+	MaxSamplePeriod = 86400.0
+)
+
 // samplePeriod reads a `sample` value as seconds: a time is the period, a
-// frequency the rate.
+// frequency the rate. Messages quote the value as written.
 func samplePeriod(n *syntax.Number) (float64, error) {
 	q, f, ok := unitKind(n.UnitCanon())
 	if !ok {
@@ -59,13 +70,17 @@ func samplePeriod(n *syntax.Number) (float64, error) {
 	}
 	v := n.Value * f
 	if !(v > 0) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("the sample period must be a positive, finite time or rate, not %s", n.Text)
+		return 0, fmt.Errorf("the sample period must be a positive, finite time or rate, not %s", n)
 	}
 	switch q {
 	case qTime:
-		return v, nil
 	case qFreq:
-		return 1 / v, nil
+		v = 1 / v
+	default:
+		return 0, fmt.Errorf("sample needs a time (s, ms, us) or a rate (Hz, kHz), e.g. `sample 1 ms`")
 	}
-	return 0, fmt.Errorf("sample needs a time (s, ms, us) or a rate (Hz, kHz), e.g. `sample 1 ms`")
+	if v < MinSamplePeriod || v > MaxSamplePeriod || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("sample %s is outside the periods ringside analyses, 1 ns (1 GHz) to 1 day (86400 s): beyond them the discretization loses the model's digits; write the controller's real period", n)
+	}
+	return v, nil
 }

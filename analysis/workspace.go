@@ -6,6 +6,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"ringside/internal/fileio"
 	"ringside/syntax"
 )
 
@@ -21,13 +22,16 @@ type Env struct {
 	// path it cannot resolve (a buffer never saved) is taken as it is.
 	RealPath func(path string) (string, error)
 	Options  Options
+	// Memo, when set, keeps loop results and gain limits between checks
+	// (an editor's); nil computes everything.
+	Memo *Memo
 }
 
 func (e *Env) read(path string) ([]byte, error) {
 	if e.Read != nil {
 		return e.Read(path)
 	}
-	return os.ReadFile(path)
+	return fileio.ReadRegular(path, MaxFileSize)
 }
 
 func (e *Env) realPath(path string) string {
@@ -43,7 +47,8 @@ func (e *Env) realPath(path string) string {
 
 // MaxFileSize is the largest file the analysis reads (1 MiB): a .loop
 // file is a few kilobytes; anything far larger is not one, and a clear
-// error beats a stalled editor.
+// error beats a stalled editor. Reads stop at the limit (fileio), so a
+// larger file, or /dev/zero, costs no more than the limit.
 const MaxFileSize = 1 << 20
 
 // inside reports whether path lies within one of roots, comparing both as

@@ -33,6 +33,7 @@ type testClient struct {
 	runDone  chan error
 	diags    chan lspext.PublishDiagnosticsParams
 	progress chan json.RawMessage
+	shown    chan string // window/showMessage texts
 	mu       sync.Mutex
 	texts    map[protocol.DocumentURI]string
 	versions map[protocol.DocumentURI]int32
@@ -61,7 +62,7 @@ func newClient(t testing.TB, o clientOptions) *testClient {
 	copyDir(t, "testdata/ws", root)
 	root, _ = filepath.EvalSymlinks(root)
 	c := &testClient{t: t, root: root, runDone: make(chan error, 1),
-		diags: make(chan lspext.PublishDiagnosticsParams, 1000), progress: make(chan json.RawMessage, 1000),
+		diags: make(chan lspext.PublishDiagnosticsParams, 1000), progress: make(chan json.RawMessage, 1000), shown: make(chan string, 100),
 		texts: map[protocol.DocumentURI]string{}, versions: map[protocol.DocumentURI]int32{}, encoding: lspext.EncodingUTF16}
 	sc, cc := net.Pipe()
 	if o.debounce == 0 {
@@ -159,6 +160,10 @@ func (c *testClient) answer(req jsonrpc2.Request) (any, error) {
 		c.progress <- append(json.RawMessage(nil), req.Params()...)
 	case protocol.MethodWorkDoneProgressCreate:
 		return nil, nil
+	case protocol.MethodWindowShowMessage:
+		var p protocol.ShowMessageParams
+		json.Unmarshal(req.Params(), &p)
+		c.shown <- p.Message
 	}
 	return nil, nil
 }

@@ -3,7 +3,7 @@ package server
 import (
 	"context"
 	"encoding/json"
-	"os"
+	"fmt"
 	"path/filepath"
 	"strings"
 
@@ -12,6 +12,7 @@ import (
 
 	"ringside/analysis"
 	"ringside/analysis/plot"
+	"ringside/internal/fileio"
 	"ringside/server/lspext"
 )
 
@@ -52,7 +53,7 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 	if err := remarshal(p.Arguments[0], &a); err != nil || a.URI == "" {
 		return nil, errorf(jsonrpc2.InvalidParams, `%s: argument must be {"uri": ..., "loop": ..., "write": false}`, plotCommand)
 	}
-	sn, path, _, _, err := s.docRequest(a.URI)
+	sn, path, _, _, err := s.docRequest(ctx, a.URI)
 	if err != nil {
 		return nil, err
 	}
@@ -71,9 +72,12 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 	if a.Loop != "" && len(loops) == 0 {
 		return nil, errorf(lspext.CodeRequestFailed, "no loop %q in %s", a.Loop, filepath.Base(path))
 	}
-	for _, l := range loops {
+	for i, l := range loops {
 		if ctx.Err() != nil {
 			return nil, errCancelled
+		}
+		if i >= plot.MaxPageFigures {
+			break // the page lists the rest; a loop is plotted by name
 		}
 		svg, err := plot.LoopSVG(res, l)
 		if err != nil {
@@ -88,10 +92,37 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 	out.HTML = string(page)
 	if a.Write {
 		dst := strings.TrimSuffix(path, filepath.Ext(path)) + ".html"
-		if err := os.WriteFile(dst, page, 0o644); err != nil {
-			return nil, errorf(lspext.CodeRequestFailed, "cannot write %s: %v", dst, err)
+		if err := sn.writePage(dst, page); err != nil {
+			return nil, errorf(lspext.CodeRequestFailed, "page not written: %v", err)
 		}
 		out.Written = append(out.Written, dst)
 	}
 	return out, nil
+}
+
+// writePage writes the plot page at dst: only inside a workspace folder
+// (its folder compared with links resolved, so no link leads out), only
+// over a regular file or nothing (a link at dst is refused, not followed),
+// and atomically.
+func (sn *snapshot) writePage(dst string, page []byte) error {
+	dir, err := filepath.EvalSymlinks(filepath.Dir(dst))
+	if err != nil {
+		return err
+	}
+	inside := false
+	for _, r := range sn.roots {
+		if rr, err := filepath.EvalSymlinks(r); err == nil && within(rr, dir) {
+			inside = true
+		}
+	}
+	if !inside {
+		return fmt.Errorf("%s is outside the workspace folders; the server writes only inside them", dst)
+	}
+	return fileio.WriteAtomic(filepath.Join(dir, filepath.Base(dst)), page, 0o644)
+}
+
+// within reports whether path is root or lies below it.
+func within(root, path string) bool {
+	rel, err := filepath.Rel(root, path)
+	return err == nil && rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator)) && !filepath.IsAbs(rel)
 }

@@ -3,7 +3,6 @@ package server
 import (
 	"context"
 	"encoding/json"
-	"regexp"
 	"sort"
 	"strings"
 
@@ -19,12 +18,9 @@ var (
 	methods      = []string{"zoh", "foh", "tustin", "matched"}
 	signs        = []string{"negative", "positive"}
 	// unitsFor lists the units that fit after a number, by what it measures.
-	unitsTime    = []string{"s", "ms", "us", "µs"}
-	unitsFreq    = []string{"Hz", "kHz", "rad/s"}
-	unitsMetric  = map[string][]string{"gain_margin": {"dB"}, "phase_margin": {"deg"}, "delay_margin": {"s", "ms", "us", "samples"}, "peak_sensitivity": {"dB"}, "overshoot": {"%"}, "settling": {"s", "ms", "us"}}
-	lineTokenRE  = regexp.MustCompile(`[A-Za-z_][A-Za-z0-9_]*|[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?|>=|<=|\S`)
-	numberTokRE  = regexp.MustCompile(`^[0-9]*\.?[0-9]+(?:[eE][-+]?[0-9]+)?$`)
-	partialTokRE = regexp.MustCompile(`[A-Za-z_][A-Za-z0-9_]*$`)
+	unitsTime   = []string{"s", "ms", "us", "µs"}
+	unitsFreq   = []string{"Hz", "kHz", "rad/s"}
+	unitsMetric = map[string][]string{"gain_margin": {"dB"}, "phase_margin": {"deg"}, "delay_margin": {"s", "ms", "us", "samples"}, "peak_sensitivity": {"dB"}, "overshoot": {"%"}, "settling": {"s", "ms", "us"}}
 )
 
 // completion offers what may come next at the cursor: keywords by context,
@@ -35,18 +31,16 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, _, src, pos, err := s.docPosition(p)
+	sn, path, _, src, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, err
 	}
 	async(ctx)
 	lineStart := syntax.NewLines(src).LineStart(int(p.Position.Line))
-	before := string(src[lineStart:pos])
-	if i := strings.IndexByte(before, '#'); i >= 0 {
-		return protocol.CompletionList{Items: []protocol.CompletionItem{}}, nil // in a comment
+	toks, lastIsNumber, inComment := lineTokens(src[lineStart:pos])
+	if inComment {
+		return protocol.CompletionList{Items: []protocol.CompletionItem{}}, nil
 	}
-	partial := partialTokRE.FindString(before)
-	toks := lineTokenRE.FindAllString(before[:len(before)-len(partial)], -1)
 	inLoop := insideLoop(src, pos)
 	var items []protocol.CompletionItem
 	add := func(kind protocol.CompletionItemKind, detail string, words ...string) {
@@ -92,7 +86,7 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 		add(protocol.CompletionItemKindEnum, "feedback sign", signs...)
 	case last == "require":
 		add(protocol.CompletionItemKindEnum, "metric", analysis.MetricNames()...)
-	case numberTokRE.MatchString(last):
+	case lastIsNumber:
 		switch {
 		case first == "sample":
 			add(protocol.CompletionItemKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
@@ -122,6 +116,24 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 		items = []protocol.CompletionItem{}
 	}
 	return protocol.CompletionList{Items: items}, nil
+}
+
+// lineTokens splits the line before the cursor with the syntax lexer: the
+// tokens' texts without the name being typed at the cursor, whether the
+// last one is a number, and whether the cursor is in a comment.
+func lineTokens(before []byte) (toks []string, lastIsNumber, inComment bool) {
+	all := syntax.Tokens(before)
+	if n := len(all); n > 0 && all[n-1].Kind == syntax.TokenName && int(all[n-1].To) == len(before) {
+		all = all[:n-1] // the partial name being completed
+	}
+	for _, t := range all {
+		if t.Kind == syntax.TokenComment {
+			return nil, false, true
+		}
+		toks = append(toks, string(before[t.From:t.To]))
+		lastIsNumber = t.Kind == syntax.TokenNumber
+	}
+	return toks, lastIsNumber, false
 }
 
 // insideLoop reports whether pos lies inside a loop's braces.

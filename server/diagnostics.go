@@ -1,8 +1,6 @@
 package server
 
 import (
-	"encoding/json"
-
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
@@ -18,18 +16,6 @@ func severity(s analysis.Severity) protocol.DiagnosticSeverity {
 		return protocol.DiagnosticSeverityWarning
 	}
 	return protocol.DiagnosticSeverityInformation
-}
-
-// diagData is what a published diagnostic carries in its data field: its
-// fixes as ready edits, so a code action can answer even when the document
-// has moved on to a quick result that lacks them.
-type diagData struct {
-	Fixes []fixData `json:"fixes,omitempty"`
-}
-
-type fixData struct {
-	Title string                 `json:"title"`
-	Edit  protocol.WorkspaceEdit `json:"edit"`
 }
 
 // protocolDiagnostics converts a result's diagnostics of its own file, the
@@ -67,17 +53,6 @@ func (sn *snapshot) protocolDiagnostic(res *analysis.Result, d analysis.Diagnost
 		}
 		pd.RelatedInformation = append(pd.RelatedInformation, protocol.DiagnosticRelatedInformation{
 			Location: protocol.Location{URI: pathURI(rel.Path), Range: rr}, Message: rel.Message})
-	}
-	var data diagData
-	for _, f := range d.Fixes {
-		if we, ok := sn.workspaceEdit(res, f); ok {
-			data.Fixes = append(data.Fixes, fixData{Title: f.Title, Edit: we})
-		}
-	}
-	if len(data.Fixes) > 0 {
-		if b, err := json.Marshal(data); err == nil {
-			pd.Data = json.RawMessage(b)
-		}
 	}
 	return pd, true
 }

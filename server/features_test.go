@@ -340,11 +340,13 @@ func TestFoldingLensInlay(t *testing.T) {
 	for _, b := range res.Blocks {
 		want = append(want, " |p|max "+maxRadiusText(b))
 	}
+	// the stable loop shows its verdict too
+	want = append(want, res.Loops[0].Verdict())
 	var labels []string
 	for _, h := range hints {
 		labels = append(labels, h.Label)
 	}
-	if strings.Join(labels, ",") != strings.Join(want, ",") || len(hints) != 2 || hints[0].Position != pos(4, 41) {
+	if strings.Join(labels, ",") != strings.Join(want, ",") || len(hints) != 3 || hints[0].Position != pos(4, 41) || hints[2].Position.Line != 7 {
 		t.Errorf("inlay hints %+v, want labels %v", hints, want)
 	}
 	// belt's poles: 40/(s²+9s+40) has |s| = √40 rad/s, so the ZOH poles
@@ -425,8 +427,8 @@ func TestCancelRequest(t *testing.T) {
 
 func TestPanicIsReportedAndSurvived(t *testing.T) {
 	requestHandlers["test/panic"] = func(s *Server, ctx context.Context, _ json.RawMessage) (any, error) {
-		var m map[string]int
-		m["boom"] = 1
+		var none []int
+		_ = none[len(none)] // index out of range: a panic on purpose
 		return nil, nil
 	}
 	defer delete(requestHandlers, "test/panic")

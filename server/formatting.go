@@ -19,16 +19,17 @@ func (s *Server) formatting(ctx context.Context, params json.RawMessage) (any, e
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	out, err := syntax.Format(src)
 	if err != nil {
 		return []protocol.TextEdit{}, nil
 	}
-	if bytes.Contains(src, []byte("\r\n")) {
-		out = bytes.ReplaceAll(out, []byte("\n"), []byte("\r\n"))
+	if nl := syntax.LineBreak(src); nl != "\n" {
+		out = bytes.ReplaceAll(out, []byte("\n"), []byte(nl))
 	}
 	return diffEdits(m, src, out, 0), nil
 }
@@ -38,10 +39,11 @@ func (s *Server) rangeFormatting(ctx context.Context, params json.RawMessage) (a
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	_, _, m, src, err := s.docRequest(p.TextDocument.URI)
+	_, _, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	span, err := m.RangeSpan(p.Range)
 	if err != nil {
 		return nil, errorf(-32602, "%v", err)

@@ -23,12 +23,14 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, pos, err := s.docPosition(p)
+	sn, path, m, _, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, err
 	}
 	async(ctx)
-	// Blocks need no loop numerics: try the quick result first.
+	// Blocks need no loop numerics: the quick result does, unless the full
+	// one is there or on its way (check then waits for it). Blocks of used
+	// files are analysed in the same pass.
 	res, err := sn.check(ctx, path, false)
 	if err != nil {
 		return nil, err
@@ -39,19 +41,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	}
 	var md string
 	if t.decl != nil && t.decl.Block != nil {
-		b, T := t.decl.Block, res.SampleT
-		if t.decl.Path != res.Path {
-			// analysis fills in only the checked file's own blocks; a used
-			// block is described by the check of its own file.
-			if own, err := sn.check(ctx, t.decl.Path, false); err == nil {
-				for _, ob := range own.Blocks {
-					if ob.Name == b.Name {
-						b, T = ob, own.SampleT
-					}
-				}
-			}
-		}
-		md = blockHover(b, T)
+		md = blockHover(t.decl.Block, res.SampleT)
 	} else {
 		full, err := sn.check(ctx, path, true)
 		if err != nil {
@@ -316,6 +306,9 @@ func loopHover(l *analysis.Loop) string {
 		w.WriteString(poleTable("closed-loop pole", l.Poles) + "\n")
 	}
 	w.WriteString(fenced(marginRows(l.Margins)))
+	if l.Disk != nil {
+		fmt.Fprintf(&w, "\nDisk margin: %s.\n", l.Disk.Text())
+	}
 	if st := l.Step; st != nil {
 		fmt.Fprintf(&w, "\nStep: overshoot %s", analysis.FormatMetric("overshoot", st.OvershootPct))
 		if st.Settled {
@@ -326,6 +319,9 @@ func loopHover(l *analysis.Loop) string {
 		w.WriteString("\n")
 	} else if !l.Stable {
 		w.WriteString("\nStep: none (the loop is not stable)\n")
+	}
+	if l.Robust != nil {
+		w.WriteString("\n" + strings.Join(l.Robust.Lines(), "\n\n") + "\n")
 	}
 	for _, h := range l.Hidden {
 		fmt.Fprintf(&w, "\nHidden mode: pole %s of %s cancelled by a zero of %s\n", analysis.FormatComplex(h.Pole), h.PoleBlock, h.ZeroBlock)
@@ -374,15 +370,7 @@ func marginRows(m freq.Margins) [][]string {
 }
 
 func verdictWords(l *analysis.Loop) string {
-	switch {
-	case !l.OK:
-		return "not analysed (see the errors)"
-	case l.Stable:
-		return fmt.Sprintf("stable — every closed-loop pole inside the unit circle (largest radius %s)", analysis.FormatRadius(l.MaxRadius))
-	case l.Marginal:
-		return fmt.Sprintf("NOT STABLE — a closed-loop pole on the unit circle (radius %s): the output can oscillate or drift without bound", analysis.FormatRadius(l.MaxRadius))
-	}
-	return fmt.Sprintf("UNSTABLE — a closed-loop pole outside the unit circle (radius %s): the output grows without bound", analysis.FormatRadius(l.MaxRadius))
+	return l.VerdictWord() + " — " + l.VerdictReason()
 }
 
 func hzPtr(p *float64) string {
@@ -408,6 +396,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 	}
 	if g.Max != nil {
 		fmt.Fprintf(&w, ", max %s", analysis.FormatNumber(*g.Max))
+	}
+	if g.Vary != nil {
+		fmt.Fprintf(&w, ", varies %s to %s (uncertain: every loop using it is checked over the whole range)", analysis.FormatNumber(g.Vary.Lo), analysis.FormatNumber(g.Vary.Hi))
 	}
 	w.WriteString("\n\n")
 	if g.Path != res.Path {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"sort"
 
 	"go.lsp.dev/jsonrpc2"
 	"go.lsp.dev/protocol"
@@ -15,10 +16,11 @@ import (
 
 // foldingRange folds loops and runs of two or more comment lines.
 func (s *Server) foldingRange(ctx context.Context, params json.RawMessage) (any, error) {
-	_, path, m, src, err := s.docParams(params)
+	_, path, m, src, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
+	async(ctx)
 	f, _ := syntax.Parse(path, src)
 	out := []protocol.FoldingRange{}
 	line := func(pos syntax.Pos) uint32 {
@@ -76,7 +78,7 @@ const plotCommand = "ringside.plot"
 
 // codeLens puts each loop's one-line verdict and a plot command above it.
 func (s *Server) codeLens(ctx context.Context, params json.RawMessage) (any, error) {
-	sn, path, m, _, err := s.docParams(params)
+	sn, path, m, _, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
@@ -102,13 +104,15 @@ func (s *Server) codeLens(ctx context.Context, params json.RawMessage) (any, err
 	return out, nil
 }
 
-// inlayHint shows the largest pole radius after each block declaration.
+// inlayHint shows the largest pole radius after each block declaration and
+// each analysed loop's verdict after its name, so that a stable loop shows
+// its verdict too, not only a loop with problems.
 func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, error) {
 	var p lspext.InlayHintParams
 	if err := decode(params, &p); err != nil {
 		return nil, err
 	}
-	sn, path, m, _, err := s.docRequest(p.TextDocument.URI)
+	sn, path, m, _, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, err
 	}
@@ -117,7 +121,7 @@ func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, er
 		return nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	async(ctx)
-	res, err := sn.check(ctx, path, false)
+	res, err := sn.check(ctx, path, sn.settings.Trigger != "save")
 	if err != nil {
 		return nil, err
 	}
@@ -132,6 +136,20 @@ func (s *Server) inlayHint(ctx context.Context, params json.RawMessage) (any, er
 		}
 		out = append(out, lspext.InlayHint{Position: pos, Label: " |p|max " + maxRadiusText(b), Kind: 1, PaddingLeft: true})
 	}
+	for _, l := range res.Loops {
+		if !l.OK || l.Stmt == nil || l.Stmt.Name == nil || l.Stmt.Name.To < span.From || l.Stmt.Name.To > span.To {
+			continue
+		}
+		pos, err := m.OffsetPosition(l.Stmt.Name.To)
+		if err != nil {
+			continue
+		}
+		out = append(out, lspext.InlayHint{Position: pos, Label: l.Verdict(), Kind: 1, PaddingLeft: true})
+	}
+	sort.SliceStable(out, func(i, j int) bool {
+		a, b := out[i].Position, out[j].Position
+		return a.Line < b.Line || a.Line == b.Line && a.Character < b.Character
+	})
 	return out, nil
 }
 

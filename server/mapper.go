@@ -14,8 +14,11 @@ import (
 // text (canonical, as everywhere in syntax and analysis) and LSP positions,
 // whose columns count code units of the negotiated encoding: UTF-16 (the
 // default), UTF-8 bytes or UTF-32 code points. It is the only place in the
-// server that knows about columns. A line ends before "\n" or "\r\n"; the
-// "\r" of a CRLF has no column of its own.
+// server that knows about columns. A line ends before "\n", "\r\n" or a
+// lone "\r" (LSP 3.17); a line break has no column of its own. A leading
+// byte order mark the client sent is a character of its text and counts
+// like one, so an edit just after it (a fix inserting the first line)
+// lands after it in the client's text too.
 type Mapper struct {
 	src      []byte
 	lines    *syntax.Lines

@@ -4,7 +4,6 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"regexp"
 	"sort"
 
 	"go.lsp.dev/protocol"
@@ -21,11 +20,9 @@ var keywords = map[string]bool{
 	"via": true, "prewarp": true, "min": true, "max": true,
 }
 
-var nameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
-
 // targetAt resolves the request position to a target in the quick result.
 func (s *Server) targetAt(ctx context.Context, p protocol.TextDocumentPositionParams) (*snapshot, *analysis.Result, *target, error) {
-	sn, path, _, _, pos, err := s.docPosition(p)
+	sn, path, _, _, pos, err := s.docPosition(ctx, p)
 	if err != nil {
 		return nil, nil, nil, err
 	}
@@ -176,14 +173,10 @@ func (s *Server) rename(ctx context.Context, params json.RawMessage) (any, error
 		return nil, errorf(lspext.CodeRequestFailed, "there is no gain or block name here to rename")
 	}
 	newName := p.NewName
-	switch {
-	case !nameRE.MatchString(newName):
-		return nil, errorf(lspext.CodeRequestFailed, "%q is not a name: use letters, digits and _, starting with a letter or _", newName)
-	case newName == "s" || newName == "z":
-		return nil, errorf(lspext.CodeRequestFailed, "%q is the transform variable and cannot be a name", newName)
-	case keywords[newName]:
-		return nil, errorf(lspext.CodeRequestFailed, "%q is a keyword of the .loop format and cannot be a name", newName)
-	case newName == t.name:
+	if err := syntax.CheckName(newName); err != nil {
+		return nil, errorf(lspext.CodeRequestFailed, "%v", err)
+	}
+	if newName == t.name {
 		return nil, errorf(lspext.CodeRequestFailed, "%s already has that name", t.name)
 	}
 	occ, touched, err := sn.occurrences(ctx, res, t.decl, true)
@@ -201,16 +194,47 @@ func (s *Server) rename(ctx context.Context, params json.RawMessage) (any, error
 			}
 		}
 	}
+	return sn.renameEdit(occ, t.name, newName)
+}
+
+// renameEdit turns the occurrences into one workspace edit, each file's
+// edits checked by syntax.Rename to read back as the same tree with the
+// new name (or refused, saying which file would change).
+func (sn *snapshot) renameEdit(occ []occurrence, old, newName string) (protocol.WorkspaceEdit, error) {
 	we := protocol.WorkspaceEdit{Changes: map[protocol.DocumentURI][]protocol.TextEdit{}}
+	var order []string
+	byPath := map[string][]occurrence{}
 	for _, o := range occ {
-		loc, ok := sn.spanLocation(o.res, o.path, o.span)
-		if !ok {
-			return nil, errorf(lspext.CodeRequestFailed, "cannot map an occurrence in %s", o.path)
+		if byPath[o.path] == nil {
+			order = append(order, o.path)
 		}
-		we.Changes[loc.URI] = append(we.Changes[loc.URI], protocol.TextEdit{Range: loc.Range, NewText: newName})
+		byPath[o.path] = append(byPath[o.path], o)
+	}
+	for _, path := range order {
+		list := byPath[path]
+		m := sn.mapperFor(list[0].res, path)
+		if m == nil {
+			return we, errorf(lspext.CodeRequestFailed, "cannot read %s to rename in it", baseName(path))
+		}
+		spans := make([]syntax.Span, len(list))
+		for i, o := range list {
+			spans[i] = o.span
+		}
+		edits, err := syntax.Rename(m.src, spans, old, newName)
+		if err != nil {
+			return we, errorf(lspext.CodeRequestFailed, "%s: %v", baseName(path), err)
+		}
+		uri := sn.uriOf(path)
+		for _, e := range edits {
+			r, err := m.SpanRange(e.Span)
+			if err != nil {
+				return we, errorf(lspext.CodeRequestFailed, "cannot map an occurrence in %s", baseName(path))
+			}
+			we.Changes[uri] = append(we.Changes[uri], protocol.TextEdit{Range: r, NewText: e.New})
+		}
 	}
 	if len(we.Changes) == 0 {
-		return nil, errorf(lspext.CodeRequestFailed, "found no occurrence of %s", t.name)
+		return we, errorf(lspext.CodeRequestFailed, "found no occurrence of %s", old)
 	}
 	return we, nil
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io/fs"
+	"os"
 	"path/filepath"
 	"strings"
 	"sync/atomic"
@@ -66,9 +67,16 @@ func (s *Server) scan(roots []string, progress bool) {
 			if d.IsDir() && p != root && strings.HasPrefix(d.Name(), ".") {
 				return filepath.SkipDir
 			}
-			if !d.IsDir() && strings.HasSuffix(p, ".loop") {
-				found = append(found, filepath.Clean(p))
+			if d.IsDir() || !strings.HasSuffix(p, ".loop") {
+				return nil
 			}
+			// Only regular files (or links to them) are indexed: a FIFO
+			// or a device would block or never end when read.
+			if info, err := os.Stat(p); err != nil || !info.Mode().IsRegular() {
+				s.log.Info("skipped: not a regular file", zap.String("path", p))
+				return nil
+			}
+			found = append(found, filepath.Clean(p))
 			return nil
 		})
 	}

@@ -36,7 +36,7 @@ type semTok struct {
 }
 
 func (s *Server) semanticTokens(ctx context.Context, params json.RawMessage) (any, error) {
-	sn, path, m, src, err := s.docParams(params)
+	sn, path, m, src, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
@@ -124,89 +124,36 @@ func declKind(d *analysis.Decl) (int, bool) {
 	return tokFunction, true
 }
 
-// scanTokens splits src into classified tokens in source order: comments,
-// strings, numbers, units, operators and the identifiers in kinds (or
-// keywords). Unknown names get no token.
+// scanTokens classifies the syntax package's tokens of src (the lexer the
+// parser uses): comments, strings, numbers, units, operators and the
+// identifiers in kinds (or keywords). Unknown names get no token.
 func scanTokens(src []byte, kinds map[syntax.Pos]int, units map[syntax.Pos]syntax.Span) []semTok {
 	var out []semTok
-	isLetter := func(b byte) bool { return b == '_' || 'a' <= b && b <= 'z' || 'A' <= b && b <= 'Z' }
-	isDigit := func(b byte) bool { return '0' <= b && b <= '9' }
-	for i := 0; i < len(src); {
-		if u, ok := units[syntax.Pos(i)]; ok && u.To > u.From {
-			out = append(out, semTok{u, tokType})
-			i = int(u.To)
+	unitEnd := syntax.Pos(-1) // the tokens of a unit such as rad/s are one token
+	for _, t := range syntax.Tokens(src) {
+		if t.From < unitEnd {
 			continue
 		}
-		c := src[i]
-		switch {
-		case c == '#':
-			j := i
-			for j < len(src) && src[j] != '\n' {
-				j++
+		if u, ok := units[t.From]; ok && u.To > u.From {
+			out = append(out, semTok{u, tokType})
+			unitEnd = u.To
+			continue
+		}
+		switch t.Kind {
+		case syntax.TokenComment:
+			out = append(out, semTok{t.Span, tokComment})
+		case syntax.TokenString:
+			out = append(out, semTok{t.Span, tokString})
+		case syntax.TokenNumber:
+			out = append(out, semTok{t.Span, tokNumber})
+		case syntax.TokenOperator:
+			out = append(out, semTok{t.Span, tokOperator})
+		case syntax.TokenName:
+			if k, ok := kinds[t.From]; ok {
+				out = append(out, semTok{t.Span, k})
+			} else if keywords[string(src[t.From:t.To])] {
+				out = append(out, semTok{t.Span, tokKeyword})
 			}
-			if j > i && src[j-1] == '\r' {
-				j--
-			}
-			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokComment})
-			i = j
-		case c == '"':
-			j := i + 1
-			for j < len(src) && src[j] != '"' && src[j] != '\n' {
-				j++
-			}
-			if j < len(src) && src[j] == '"' {
-				j++
-			}
-			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokString})
-			i = j
-		case isLetter(c):
-			j := i
-			for j < len(src) && (isLetter(src[j]) || isDigit(src[j])) {
-				j++
-			}
-			if k, ok := kinds[syntax.Pos(i)]; ok {
-				out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, k})
-			} else if keywords[string(src[i:j])] {
-				out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokKeyword})
-			}
-			i = j
-		case isDigit(c) || c == '.' && i+1 < len(src) && isDigit(src[i+1]):
-			j := i
-			for j < len(src) && isDigit(src[j]) {
-				j++
-			}
-			if j < len(src) && src[j] == '.' {
-				j++
-				for j < len(src) && isDigit(src[j]) {
-					j++
-				}
-			}
-			if j < len(src) && (src[j] == 'e' || src[j] == 'E') {
-				k := j + 1
-				if k < len(src) && (src[k] == '+' || src[k] == '-') {
-					k++
-				}
-				if k < len(src) && isDigit(src[k]) {
-					for k < len(src) && isDigit(src[k]) {
-						k++
-					}
-					j = k
-				}
-			}
-			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokNumber})
-			i = j
-		case c == '>' || c == '<':
-			j := i + 1
-			if j < len(src) && src[j] == '=' {
-				j++
-			}
-			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(j)}, tokOperator})
-			i = j
-		case c == '+' || c == '-' || c == '*' || c == '/' || c == '^' || c == '=' || c == '(' || c == ')' || c == '{' || c == '}' || c == '%':
-			out = append(out, semTok{syntax.Span{From: syntax.Pos(i), To: syntax.Pos(i + 1)}, tokOperator})
-			i++
-		default:
-			i++
 		}
 	}
 	return out

@@ -133,7 +133,7 @@ type Server struct {
 	ctx        context.Context
 	conn       jsonrpc2.Conn
 	inflightMu sync.Mutex
-	inflight   map[requestID]context.CancelFunc
+	inflight   map[requestID]*inflightReq
 	exited     chan struct{}
 	exitOnce   sync.Once
 
@@ -147,7 +147,7 @@ type Server struct {
 }
 
 func newServer(ctx context.Context, cfg Config) *Server {
-	return &Server{cfg: cfg, log: cfg.Logger, ctx: ctx, exited: make(chan struct{}), ses: newSession(), inflight: map[requestID]context.CancelFunc{}}
+	return &Server{cfg: cfg, log: cfg.Logger, ctx: ctx, exited: make(chan struct{}), ses: newSession(), inflight: map[requestID]*inflightReq{}}
 }
 
 // bug records an internal error the server survives.
@@ -237,24 +237,65 @@ func (s *Server) handle(ctx context.Context, reply jsonrpc2.Replier, req jsonrpc
 	// and that carries the release of the read loop.
 	id := idOf(call.ID())
 	rctx, cancel := context.WithCancel(s.ctx)
+	ir := &inflightReq{cancel: cancel}
 	s.inflightMu.Lock()
-	s.inflight[id] = cancel
+	s.inflight[id] = ir
 	s.inflightMu.Unlock()
 	released := make(chan struct{})
 	var once sync.Once
 	release := func() { once.Do(func() { close(released) }) }
-	hctx := context.WithValue(rctx, releaseKey{}, release)
+	hctx := context.WithValue(context.WithValue(rctx, releaseKey{}, release), inflightKey{}, ir)
 	go func() {
 		defer release()
 		res, err := s.runRequest(hctx, method, h, params)
 		s.inflightMu.Lock()
 		delete(s.inflight, id)
+		superseded := ir.superseded
 		s.inflightMu.Unlock()
 		cancel()
+		if superseded {
+			res, err = nil, errContentModified
+		}
 		send(res, err)
 	}()
 	<-released
 	return nil
+}
+
+// inflightReq is a request being answered: its cancel, and the document it
+// reads (set by docRequest), so that an edit of that document cancels it.
+type inflightReq struct {
+	cancel     context.CancelFunc
+	path       string // guarded by Server.inflightMu
+	superseded bool   // guarded by Server.inflightMu
+}
+
+type inflightKey struct{}
+
+// errContentModified answers a request cancelled because its document
+// changed while it ran (LSP 3.17: ContentModified).
+var errContentModified = jsonrpc2.NewError(-32801, "the document changed while the request ran; ask again")
+
+// reads records that the request of ctx reads the document at path.
+func (s *Server) reads(ctx context.Context, path string) {
+	if ir, ok := ctx.Value(inflightKey{}).(*inflightReq); ok {
+		s.inflightMu.Lock()
+		ir.path = path
+		s.inflightMu.Unlock()
+	}
+}
+
+// supersede cancels every request reading path: an edit made its answer
+// stale.
+func (s *Server) supersede(path string) {
+	s.inflightMu.Lock()
+	defer s.inflightMu.Unlock()
+	for _, ir := range s.inflight {
+		if ir.path == path && !ir.superseded {
+			ir.superseded = true
+			ir.cancel()
+		}
+	}
 }
 
 // lifecycle answers what the session state decides alone (initialize,
@@ -328,10 +369,10 @@ func async(ctx context.Context) {
 // cancel cancels the in-flight request id, if any.
 func (s *Server) cancel(id requestID) {
 	s.inflightMu.Lock()
-	c := s.inflight[id]
+	ir := s.inflight[id]
 	s.inflightMu.Unlock()
-	if c != nil {
-		c()
+	if ir != nil {
+		ir.cancel()
 	}
 }
 

@@ -148,33 +148,37 @@ func gotDiagnostics(ds []protocol.Diagnostic) []string {
 	return out
 }
 
-func TestDiagnosticsQuickThenFullOnSave(t *testing.T) {
+// TestDiagnosticsFullOnOpen: opening a file publishes the full analysis
+// (the unstable loop's error before any save); with the setting trigger
+// "save" an edit publishes the quick one, and the save the full one again.
+func TestDiagnosticsFullOnOpen(t *testing.T) {
 	c := newClient(t, clientOptions{})
 	uri := c.open("unstable.loop")
-	quick := c.waitDiags(uri, anyDiags)
-	if got, want := strings.Join(gotDiagnostics(quick), "\n"), strings.Join(wantDiagnostics(t, checkFile(t, c.root, "unstable.loop", true)), "\n"); got != want {
-		t.Errorf("quick diagnostics:\n%s\nwant (as ringside check, quick):\n%s", got, want)
-	}
-	if findCode(quick, analysis.CodePoleOutside) != nil {
-		t.Errorf("quick check reported loop numerics")
-	}
-	c.save(uri)
-	full := c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
+	full := c.waitDiags(uri, anyDiags)
 	if got, want := strings.Join(gotDiagnostics(full), "\n"), strings.Join(wantDiagnostics(t, checkFile(t, c.root, "unstable.loop", false)), "\n"); got != want {
-		t.Errorf("full diagnostics:\n%s\nwant (as ringside check):\n%s", got, want)
+		t.Errorf("diagnostics on open:\n%s\nwant (as ringside check):\n%s", got, want)
 	}
 	for _, d := range full {
 		if d.Source != "ringside" || d.Code == analysis.CodeLoopVerdict || d.Code == analysis.CodeGainLimits {
 			t.Errorf("diagnostic %s: source %q (summary codes must not be published)", d.Code, d.Source)
 		}
 	}
+	c.notify(protocol.MethodWorkspaceDidChangeConfiguration, map[string]any{"settings": map[string]any{"trigger": "save"}})
+	c.replace(uri, c.text(uri)+"\n")
+	quick := c.waitDiags(uri, lacksCode(analysis.CodePoleOutside))
+	if got, want := strings.Join(gotDiagnostics(quick), "\n"), strings.Join(wantDiagnostics(t, checkFile(t, c.root, "unstable.loop", true)), "\n"); got != want {
+		t.Errorf("quick diagnostics:\n%s\nwant (as ringside check, quick):\n%s", got, want)
+	}
+	c.save(uri)
+	full = c.waitDiags(uri, hasCode(analysis.CodePoleOutside))
 	po := findCode(full, analysis.CodePoleOutside)
 	if po.Severity != protocol.DiagnosticSeverityError || len(po.RelatedInformation) == 0 || !strings.HasSuffix(string(po.RelatedInformation[0].Location.URI), "plants/belt.loop") {
 		t.Errorf("pole-outside: severity %d related %+v", int(po.Severity), po.RelatedInformation)
 	}
-	var data diagData
-	if err := remarshal(po.Data, &data); err != nil || len(data.Fixes) == 0 || !strings.Contains(data.Fixes[0].Title, "11.4") {
-		t.Errorf("pole-outside data: %s (%v)", po.Data, err)
+	var actions []protocol.CodeAction
+	if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: po.Range,
+		Context: protocol.CodeActionContext{Diagnostics: []protocol.Diagnostic{*po}}}, &actions); err != nil || len(actions) == 0 || !strings.Contains(actions[0].Title, "11.4") {
+		t.Errorf("pole-outside actions: %+v (%v)", actions, err)
 	}
 	if w := findCode(full, analysis.CodeBlockOnCircle); w == nil || w.Severity != protocol.DiagnosticSeverityWarning {
 		t.Errorf("block-pole-on-circle missing or not a warning: %+v", w)
@@ -388,4 +392,48 @@ func readFile(t *testing.T, root, rel string) string {
 		t.Fatal(err)
 	}
 	return string(b)
+}
+
+// TestCodeActionEachFixOnce: two diagnostics of the gimbal demo's loop (not
+// stable, gain margin low) share the fix that sets krate; asked for both,
+// the server offers it once, addressing both.
+func TestCodeActionEachFixOnce(t *testing.T) {
+	src, err := os.ReadFile("../testdata/demo/gimbal.loop")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := newClient(t, clientOptions{})
+	uri := c.open("gimbal.loop", string(src))
+	ds := c.waitDiags(uri, hasCode(analysis.CodeGainMarginLow))
+	var ctxDiags []protocol.Diagnostic
+	for _, d := range ds {
+		if d.Code == analysis.CodeGainMarginLow || d.Code == analysis.CodePoleOnCircle {
+			ctxDiags = append(ctxDiags, d)
+		}
+	}
+	if len(ctxDiags) != 2 {
+		t.Fatalf("want pole-on-circle and gain-margin-low, got %v", gotDiagnostics(ds))
+	}
+	var actions []protocol.CodeAction
+	if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: ctxDiags[0].Range,
+		Context: protocol.CodeActionContext{Diagnostics: ctxDiags}}, &actions); err != nil {
+		t.Fatal(err)
+	}
+	seen := map[string]bool{}
+	set := 0
+	for _, a := range actions {
+		if seen[a.Title] {
+			t.Errorf("action %q offered twice", a.Title)
+		}
+		seen[a.Title] = true
+		if strings.HasPrefix(a.Title, "Set krate to") {
+			set++
+			if len(a.Diagnostics) != 2 {
+				t.Errorf("%q addresses %d diagnostics, want 2", a.Title, len(a.Diagnostics))
+			}
+		}
+	}
+	if set != 1 {
+		t.Errorf("%d actions set krate, want 1: %+v", set, actions)
+	}
 }

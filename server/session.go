@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"math"
 	"net/url"
-	"os"
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
@@ -19,6 +18,7 @@ import (
 	"go.uber.org/zap"
 
 	"ringside/analysis"
+	"ringside/internal/fileio"
 	"ringside/server/lspext"
 	"ringside/syntax"
 )
@@ -33,8 +33,11 @@ type session struct {
 	// gen counts every change that can alter an analysis (text, settings,
 	// folders, files on disk); cached results of an older gen are stale.
 	gen   uint64
-	cache map[cacheKey]*analysis.Result
+	cache map[cacheKey]*cached
 	order []cacheKey // insertion order of cache, oldest first
+	// memo keeps loop results and gain limits between full analyses, so
+	// that an edit re-analyses only the loops whose inputs changed.
+	memo *analysis.Memo
 	// known are the .loop files of the workspace (scanned or opened).
 	known map[string]bool
 	diag  map[string]*diagState
@@ -66,7 +69,8 @@ func newSession() *session {
 		docs:     map[string]*document{},
 		settings: defaultSettings(),
 		encoding: lspext.EncodingUTF16,
-		cache:    map[cacheKey]*analysis.Result{},
+		cache:    map[cacheKey]*cached{},
+		memo:     analysis.NewMemo(),
 		known:    map[string]bool{},
 		diag:     map[string]*diagState{},
 	}
@@ -78,14 +82,25 @@ func newSession() *session {
 type Settings struct {
 	GainMarginDB   float64 `json:"gainMarginDb"`
 	PhaseMarginDeg float64 `json:"phaseMarginDeg"`
-	Trigger        string  `json:"trigger"` // "save" or "change"
-	Tolerance      float64 `json:"tolerance"`
+	// Trigger is "change" (the full analysis after each change, the
+	// default) or "save" (after a change only the quick one, names,
+	// units and block poles, until the file is saved). Opening a file
+	// always shows the full analysis.
+	Trigger   string  `json:"trigger"`
+	Tolerance float64 `json:"tolerance"`
+	// DelayMs is how long after the last change the analysis runs, in
+	// milliseconds (0: at once); negative means unset (Config.Debounce).
+	DelayMs float64 `json:"delayMs"`
 }
 
 func defaultSettings() Settings {
 	o := analysis.DefaultOptions()
-	return Settings{GainMarginDB: o.GainMarginDB, PhaseMarginDeg: o.PhaseMarginDeg, Trigger: "save", Tolerance: o.Tolerance}
+	return Settings{GainMarginDB: o.GainMarginDB, PhaseMarginDeg: o.PhaseMarginDeg, Trigger: "change", Tolerance: o.Tolerance, DelayMs: -1}
 }
+
+// maxDelayMs bounds the delayMs setting (a minute: beyond it the editor
+// would look broken).
+const maxDelayMs = 60000
 
 // parseSettings overlays raw settings on cur; a bad value is an error
 // naming it and leaves cur as it was.
@@ -124,6 +139,9 @@ func parseSettings(cur Settings, raw json.RawMessage) (Settings, error) {
 		return cur, err
 	}
 	if err := num("tolerance", &next.Tolerance, func(f float64) bool { return f > 0 && f < 0.1 }, "a number between 0 and 0.1"); err != nil {
+		return cur, err
+	}
+	if err := num("delayMs", &next.DelayMs, func(f float64) bool { return f >= 0 && f <= maxDelayMs }, "milliseconds from 0 to 60000"); err != nil {
 		return cur, err
 	}
 	if v, present := top["trigger"]; present && string(v) != "null" {
@@ -198,12 +216,13 @@ func (s *Server) snapshotLocked() *snapshot {
 	return &snapshot{s: s, docs: docs, roots: append([]string(nil), s.ses.roots...), settings: s.ses.settings, encoding: s.ses.encoding, gen: s.ses.gen}
 }
 
-// read returns a file's text: the open buffer, else the disk.
+// read returns a file's text: the open buffer, else the disk (regular
+// files only, never blocking, at most analysis.MaxFileSize bytes).
 func (sn *snapshot) read(path string) ([]byte, error) {
 	if d, ok := sn.docs[path]; ok {
 		return d.text, nil
 	}
-	return os.ReadFile(path)
+	return fileio.ReadRegular(path, analysis.MaxFileSize)
 }
 
 // mapper returns a mapper for a file's current text, or an error.
@@ -215,31 +234,81 @@ func (sn *snapshot) mapper(path string) (*Mapper, []byte, error) {
 	return NewMapper(src, sn.encoding), src, nil
 }
 
-// check analyses path (quick or full) from the snapshot, reusing a result of
-// the same generation.
+// cached is an analysis of one generation, finished (done closed, res
+// set, or nil when it was cancelled) or still running.
+type cached struct {
+	done chan struct{}
+	res  *analysis.Result
+}
+
+// check analyses path (quick or full) from the snapshot. One analysis per
+// generation: a finished or running full analysis also answers a request
+// for the quick one, and a request that finds its analysis running waits
+// for it instead of computing it again.
 func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysis.Result, error) {
-	key := cacheKey{path: path, full: full, gen: sn.gen}
 	s := sn.s
-	s.mu.Lock()
-	if r, ok := s.ses.cache[key]; ok {
-		s.mu.Unlock()
-		return r, nil
+	key := cacheKey{path: path, full: full, gen: sn.gen}
+	keys := []cacheKey{key}
+	if !full {
+		keys = []cacheKey{{path: path, full: true, gen: sn.gen}, key}
 	}
-	s.mu.Unlock()
+	for {
+		s.mu.Lock()
+		var found *cached
+		for _, k := range keys {
+			if c := s.ses.cache[k]; c != nil {
+				found = c
+				break
+			}
+		}
+		var mine *cached
+		if found == nil && s.ses.gen == sn.gen {
+			mine = &cached{done: make(chan struct{})}
+			s.ses.remember(key, mine)
+		}
+		s.mu.Unlock()
+		if found == nil {
+			return sn.analyse(ctx, path, full, mine)
+		}
+		select {
+		case <-found.done:
+		case <-ctx.Done():
+			return nil, errCancelled
+		}
+		if found.res != nil {
+			return found.res, nil
+		}
+		// The analysis it waited for was cancelled: drop it and try again.
+		s.mu.Lock()
+		for _, k := range keys {
+			if s.ses.cache[k] == found {
+				delete(s.ses.cache, k)
+			}
+		}
+		s.mu.Unlock()
+	}
+}
+
+// analyse runs one analysis and, when mine is set, publishes it there.
+func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *cached) (res *analysis.Result, err error) {
+	if mine != nil {
+		defer func() {
+			mine.res = res
+			close(mine.done)
+		}()
+	}
 	src, err := sn.read(path)
 	if err != nil {
 		return nil, err
 	}
 	env := analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(!full)}
-	res := analysis.Check(ctx, path, src, env)
+	if full {
+		env.Memo = sn.s.ses.memo
+	}
+	res = analysis.Check(ctx, path, src, env)
 	if ctx.Err() != nil {
 		return nil, errCancelled
 	}
-	s.mu.Lock()
-	if s.ses.gen == sn.gen {
-		s.ses.remember(key, res)
-	}
-	s.mu.Unlock()
 	return res, nil
 }
 
@@ -247,11 +316,11 @@ func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysi
 // 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
 // results are kept for the few files in use at the moment, not for every
 // open one; published diagnostics do not need them.
-const cacheLimit = 8
+const cacheLimit = 4
 
-// remember caches res under key, dropping stale generations and then the
+// remember caches c under key, dropping stale generations and then the
 // oldest entries beyond cacheLimit.
-func (ses *session) remember(key cacheKey, res *analysis.Result) {
+func (ses *session) remember(key cacheKey, c *cached) {
 	kept := ses.order[:0]
 	for _, k := range ses.order {
 		if k.gen == key.gen && k != key {
@@ -265,25 +334,25 @@ func (ses *session) remember(key cacheKey, res *analysis.Result) {
 		kept = kept[1:]
 	}
 	ses.order = append(kept, key)
-	ses.cache[key] = res
+	ses.cache[key] = c
 }
 
 // docParams resolves the document of a request whose params name only
 // {"textDocument": {"uri": ...}}.
-func (s *Server) docParams(params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
+func (s *Server) docParams(ctx context.Context, params json.RawMessage) (*snapshot, string, *Mapper, []byte, error) {
 	var p struct {
 		TextDocument protocol.TextDocumentIdentifier `json:"textDocument"`
 	}
 	if err := decode(params, &p); err != nil {
 		return nil, "", nil, nil, err
 	}
-	return s.docRequest(p.TextDocument.URI)
+	return s.docRequest(ctx, p.TextDocument.URI)
 }
 
 // docPosition resolves a request's document and the byte offset of its
 // position.
-func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
-	sn, path, m, src, err := s.docRequest(p.TextDocument.URI)
+func (s *Server) docPosition(ctx context.Context, p protocol.TextDocumentPositionParams) (*snapshot, string, *Mapper, []byte, syntax.Pos, error) {
+	sn, path, m, src, err := s.docRequest(ctx, p.TextDocument.URI)
 	if err != nil {
 		return nil, "", nil, nil, syntax.NoPos, err
 	}
@@ -295,12 +364,17 @@ func (s *Server) docPosition(p protocol.TextDocumentPositionParams) (*snapshot, 
 }
 
 // docRequest resolves a request's document: its snapshot, path and mapper.
-func (s *Server) docRequest(uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
+// Once the snapshot is taken the read loop is released (the request sees
+// every message before it and none after), and an edit of the document
+// from then on cancels the request (supersede).
+func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*snapshot, string, *Mapper, []byte, error) {
 	path, err := uriPath(uri)
 	if err != nil {
 		return nil, "", nil, nil, errorf(jsonrpc2.InvalidParams, "%v", err)
 	}
 	sn := s.snapshot()
+	s.reads(ctx, path)
+	async(ctx)
 	m, src, err := sn.mapper(path)
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
@@ -323,13 +397,16 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 			ses.roots = append(ses.roots, path)
 		}
 	}
-	if len(ses.roots) == 0 && p.RootURI != "" {
-		if path, err := uriPath(p.RootURI); err == nil {
+	// Older clients name the workspace only by rootUri or rootPath.
+	//lint:ignore SA1019 the deprecated field is the fallback on purpose
+	if rootURI := p.RootURI; len(ses.roots) == 0 && rootURI != "" {
+		if path, err := uriPath(rootURI); err == nil {
 			ses.roots = append(ses.roots, path)
 		}
 	}
-	if len(ses.roots) == 0 && p.RootPath != "" && filepath.IsAbs(p.RootPath) {
-		ses.roots = append(ses.roots, filepath.Clean(p.RootPath))
+	//lint:ignore SA1019 the deprecated field is the fallback on purpose
+	if rootPath := p.RootPath; len(ses.roots) == 0 && rootPath != "" && filepath.IsAbs(rootPath) {
+		ses.roots = append(ses.roots, filepath.Clean(rootPath))
 	}
 	if g := p.Capabilities.General; g != nil {
 		// The client lists encodings in order of preference; take the
@@ -352,6 +429,7 @@ func (s *Server) initialize(params json.RawMessage) (any, error) {
 	}
 	if err != nil {
 		s.log.Warn("initializationOptions ignored", zap.Error(err))
+		s.settingsRefused(err)
 	}
 	s.initialized = true
 	version := s.cfg.Version
@@ -423,7 +501,7 @@ func (s *Server) didOpen(params json.RawMessage) error {
 	s.ses.known[path] = true
 	s.ses.gen++
 	s.mu.Unlock()
-	s.changed(path, false)
+	s.changed(path, opened)
 	return nil
 }
 
@@ -453,7 +531,8 @@ func (s *Server) didChange(params json.RawMessage) error {
 	s.ses.docs[path] = &document{uri: d.uri, path: path, version: p.TextDocument.Version, text: text}
 	s.ses.gen++
 	s.mu.Unlock()
-	s.changed(path, false)
+	s.supersede(path)
+	s.changed(path, edited)
 	return nil
 }
 
@@ -493,7 +572,7 @@ func (s *Server) didSave(params json.RawMessage) error {
 	}
 	s.ses.gen++
 	s.mu.Unlock()
-	s.changed(path, true)
+	s.changed(path, saved)
 	return nil
 }
 
@@ -521,13 +600,14 @@ func (s *Server) didClose(params json.RawMessage) error {
 		}
 		delete(s.ses.diag, path)
 	}
+	s.ses.memo.Forget(path)
 	s.ses.gen++
 	s.mu.Unlock()
 	if uri != "" {
 		s.notify(protocol.MethodTextDocumentPublishDiagnostics, lspext.PublishDiagnosticsParams{URI: uri, Diagnostics: []protocol.Diagnostic{}})
 	}
 	// Files that used the closed buffer now read it from disk.
-	s.changed(path, false)
+	s.changed(path, edited)
 	return nil
 }
 
@@ -548,10 +628,18 @@ func (s *Server) didChangeConfiguration(params json.RawMessage) error {
 	}
 	s.mu.Unlock()
 	if err != nil {
+		s.settingsRefused(err)
 		return err
 	}
-	s.recheckAll(false)
+	s.recheckAll()
 	return nil
+}
+
+// settingsRefused tells the user (window/showMessage) that a setting was
+// refused and which values stay in force.
+func (s *Server) settingsRefused(err error) {
+	s.notify(protocol.MethodWindowShowMessage, &protocol.ShowMessageParams{Type: protocol.MessageTypeError,
+		Message: "ringside: " + err.Error() + "; the settings stay as they were"})
 }
 
 func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {
@@ -578,7 +666,7 @@ func (s *Server) didChangeWorkspaceFolders(params json.RawMessage) error {
 	s.ses.gen++
 	s.mu.Unlock()
 	s.startScan()
-	s.recheckAll(false)
+	s.recheckAll()
 	return nil
 }
 
@@ -587,33 +675,43 @@ func (s *Server) filesChanged() {
 	s.mu.Lock()
 	s.ses.gen++
 	s.mu.Unlock()
-	s.recheckAll(false)
+	s.recheckAll()
 }
 
 // ---- diagnostics scheduling ----
 
+// why a document is checked.
+type why int
+
+const (
+	edited why = iota // its text, or a file it uses, or the settings changed
+	saved
+	opened
+)
+
 // changed schedules the check of path and of every open file whose last
-// check read it. save asks for the full analysis at once.
-func (s *Server) changed(path string, save bool) {
+// check read it.
+func (s *Server) changed(path string, w why) {
 	s.mu.Lock()
-	var targets []string
-	if _, open := s.ses.docs[path]; open {
-		targets = append(targets, path)
-	}
+	var dependents []string
 	for p, d := range s.ses.diag {
 		if p != path && d.uses[path] {
 			if _, open := s.ses.docs[p]; open {
-				targets = append(targets, p)
+				dependents = append(dependents, p)
 			}
 		}
 	}
+	_, open := s.ses.docs[path]
 	s.mu.Unlock()
-	for _, t := range targets {
-		s.schedule(t, save)
+	if open {
+		s.schedule(path, w)
+	}
+	for _, t := range dependents {
+		s.schedule(t, edited)
 	}
 }
 
-func (s *Server) recheckAll(save bool) {
+func (s *Server) recheckAll() {
 	s.mu.Lock()
 	var targets []string
 	for p := range s.ses.docs {
@@ -621,14 +719,24 @@ func (s *Server) recheckAll(save bool) {
 	}
 	s.mu.Unlock()
 	for _, t := range targets {
-		s.schedule(t, save)
+		s.schedule(t, edited)
 	}
 }
 
-// schedule (re)starts the check of an open document: after the debounce
-// delay while typing, at once on save. A newer schedule supersedes an older
+// delay is how long after an edit the check starts: the delayMs setting,
+// else the server's configured debounce.
+func (s *Server) delay() time.Duration {
+	if ms := s.ses.settings.DelayMs; ms >= 0 {
+		return time.Duration(ms * float64(time.Millisecond))
+	}
+	return max(s.cfg.Debounce, 0)
+}
+
+// schedule (re)starts the check of an open document: the full analysis,
+// at once on open and save, after the delay on an edit (only the quick one
+// with the setting trigger "save"). A newer schedule supersedes an older
 // one, whose result is dropped.
-func (s *Server) schedule(path string, save bool) {
+func (s *Server) schedule(path string, w why) {
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	if s.shutdown {
@@ -647,11 +755,11 @@ func (s *Server) schedule(path string, save bool) {
 	}
 	d.seq++
 	seq := d.seq
-	full := save || s.ses.settings.Trigger == "change"
+	full := w != edited || s.ses.settings.Trigger != "save"
 	ctx, cancel := context.WithCancel(s.ctx)
 	d.cancel = cancel
-	delay := s.cfg.Debounce
-	if save || delay < 0 {
+	delay := s.delay()
+	if w != edited {
 		delay = 0
 	}
 	run := func() { s.runCheck(ctx, path, seq, full) }

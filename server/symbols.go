@@ -18,6 +18,7 @@ type declSymbol struct {
 	detail string
 	span   syntax.Span // whole statement
 	sel    syntax.Span // the name
+	stmt   syntax.Stmt
 }
 
 // fileSymbols lists a file's gains, blocks and loops in order.
@@ -34,15 +35,15 @@ func fileSymbols(f *syntax.File) []declSymbol {
 						d = "= -" + st.Value.Text
 					}
 				}
-				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindConstant, d, st.Span, st.Name.Span})
+				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindConstant, d, st.Span, st.Name.Span, st})
 			}
 		case *syntax.BlockStmt:
 			if st.Name != nil {
-				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindFunction, "block", st.Span, st.Name.Span})
+				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindFunction, "block", st.Span, st.Name.Span, st})
 			}
 		case *syntax.LoopStmt:
 			if st.Name != nil {
-				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindModule, "loop", st.Span, st.Name.Span})
+				out = append(out, declSymbol{st.Name.Name, protocol.SymbolKindModule, "loop", st.Span, st.Name.Span, st})
 			}
 		}
 	}
@@ -50,20 +51,23 @@ func fileSymbols(f *syntax.File) []declSymbol {
 }
 
 func (s *Server) documentSymbol(ctx context.Context, params json.RawMessage) (any, error) {
-	_, path, m, src, err := s.docParams(params)
+	_, path, m, src, err := s.docParams(ctx, params)
 	if err != nil {
 		return nil, err
 	}
 	f, _ := syntax.Parse(path, src)
 	out := []protocol.DocumentSymbol{}
-	for _, d := range fileSymbols(f) {
+	for i, d := range fileSymbols(f) {
+		if i%1024 == 0 && ctx.Err() != nil {
+			return nil, errCancelled
+		}
 		r, err1 := m.SpanRange(d.span)
 		sel, err2 := m.SpanRange(d.sel)
 		if err1 != nil || err2 != nil {
 			continue
 		}
 		sym := protocol.DocumentSymbol{Name: d.name, Detail: d.detail, Kind: d.kind, Range: r, SelectionRange: sel}
-		if l, ok := stmtAt(f, d.span).(*syntax.LoopStmt); ok {
+		if l, ok := d.stmt.(*syntax.LoopStmt); ok {
 			for _, it := range l.Items {
 				pi, ok := it.(*syntax.PathItem)
 				if !ok {
@@ -78,15 +82,6 @@ func (s *Server) documentSymbol(ctx context.Context, params json.RawMessage) (an
 		out = append(out, sym)
 	}
 	return out, nil
-}
-
-func stmtAt(f *syntax.File, sp syntax.Span) syntax.Stmt {
-	for _, st := range f.Stmts {
-		if st.Pos() == sp.From && st.End() == sp.To {
-			return st
-		}
-	}
-	return nil
 }
 
 func pathNames(pi *syntax.PathItem) string {

@@ -46,6 +46,19 @@ type Number struct {
 	UnitSpan Span
 }
 
+// String is the number as written: sign, digits and unit ("-2.5 ms"),
+// for messages that must quote the user's value, not a reformatting.
+func (n *Number) String() string {
+	s := n.Text
+	if n.Neg {
+		s = "-" + s
+	}
+	if n.Unit != "" {
+		s += " " + n.Unit
+	}
+	return s
+}
+
 // UnitCanon returns the unit in canonical spelling ("µs" and "μs" become
 // "us"), or "" when there is none.
 func (n *Number) UnitCanon() string {
@@ -80,7 +93,8 @@ type UseStmt struct {
 	PathSpan Span   // including the quotes
 }
 
-// GainStmt: "gain kp = 0.8", optionally followed by "min X" and/or "max X".
+// GainStmt: "gain kp = 0.8", optionally followed by "min X" and/or "max X",
+// or by "vary A to B" (an uncertain gain; never together with min/max).
 type GainStmt struct {
 	Span
 	Name     *Ident
@@ -88,6 +102,14 @@ type GainStmt struct {
 	Min, Max *Number // nil when not given
 	MinKw    Span    // span of the "min" keyword when Min != nil
 	MaxKw    Span    // span of the "max" keyword when Max != nil
+	Vary     *Vary   // nil when not given
+}
+
+// Vary is "vary A to B": every value from A to B may occur.
+type Vary struct {
+	Span           // from "vary" to the end of B
+	Lo, Hi *Number // A and B
+	ToKw   Span    // span of the "to" keyword
 }
 
 // BlockStmt: "block name = expr [via method [prewarp F unit]]".

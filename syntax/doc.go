@@ -14,16 +14,18 @@
 //
 // # Choices where the format page is silent
 //
-//   - A leading byte order mark is skipped. Space, tab and '\r' are blanks;
-//     only '\n' ends a line, so CRLF files read like LF files.
+//   - A leading byte order mark is part of nothing: it is skipped, and
+//     line 1, column 1 is the first character after it. Space and tab are
+//     blanks; "\n", "\r\n" and a lone "\r" each end a line (as in LSP
+//     3.17), so CRLF and CR files read like LF files.
 //   - Inside '(' ... ')' line breaks are blanks, except that a line starting
 //     with a statement keyword (sample, use, gain, block, loop) or with '}'
 //     closes the statement, so a missing ')' costs one error.
-//   - Keywords are context words: via, prewarp, min, max and the statement
+//   - Keywords are context words: via, prewarp, min, max, vary, to and the statement
 //     and item keywords are ordinary names elsewhere. The only reserved
 //     names are s and z, which no gain, block or loop may be called. In an
 //     expression via ends the expression instead of multiplying.
-//   - Any number may carry a minus (sample, prewarp, min, max, require);
+//   - Any number may carry a minus (sample, prewarp, min, max, vary, require);
 //     analysis rejects what makes no sense.
 //   - A unit is any name, "µs" (U+00B5 or U+03BC), "%", or two names joined
 //     by '/' ("rad/s"). A number alone where a unit belongs is read with

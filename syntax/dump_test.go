@@ -34,7 +34,11 @@ func dumpStmt(s Stmt) string {
 	case *UseStmt:
 		return fmt.Sprintf("use %q", s.Path)
 	case *GainStmt:
-		return fmt.Sprintf("gain %s %s min=%s max=%s", s.Name.Name, dumpNum(s.Value), dumpNum(s.Min), dumpNum(s.Max))
+		v := ""
+		if s.Vary != nil {
+			v = fmt.Sprintf(" vary=%s..%s", dumpNum(s.Vary.Lo), dumpNum(s.Vary.Hi))
+		}
+		return fmt.Sprintf("gain %s %s min=%s max=%s%s", s.Name.Name, dumpNum(s.Value), dumpNum(s.Min), dumpNum(s.Max), v)
 	case *BlockStmt:
 		v := ""
 		if s.Via != nil {

@@ -25,6 +25,19 @@ import (
 //     one line, unless comments sit inside it: then the statement is kept
 //     as written.
 
+// LineBreak is the line break src uses: that of its first line, "\n" when
+// it has none.
+func LineBreak(src []byte) string {
+	i := bytes.IndexAny(src, "\r\n")
+	switch {
+	case i < 0 || src[i] == '\n':
+		return "\n"
+	case i+1 < len(src) && src[i+1] == '\n':
+		return "\r\n"
+	}
+	return "\r"
+}
+
 // ErrSyntax is wrapped by the error Format returns for a file with syntax
 // errors; such a file is never rewritten.
 var ErrSyntax = errors.New("file has syntax errors")
@@ -38,11 +51,26 @@ func Format(src []byte) ([]byte, error) {
 	}
 	lines := layout(f)
 	var b bytes.Buffer
+	b.Grow(len(src) + len(src)/8)
+	b.Write(src[:BOMLen(src)]) // the mark stays; it is part of nothing
 	for _, l := range lines {
 		b.WriteString(l.text)
 		b.WriteByte('\n')
 	}
-	return b.Bytes(), nil
+	out := b.Bytes()
+	if err := sameLayoutFree(f, out); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// sameLayoutFree refuses a layout that would not read back as f, the
+// parsed source: same tree, same comments. It guards every formatter edit.
+func sameLayoutFree(f *File, out []byte) error {
+	if err := sameTree(f, 0, out, nil); err != nil {
+		return fmt.Errorf("not formatted: the new layout would change the file (please report this file): %w", err)
+	}
+	return nil
 }
 
 // FormatRange formats the whole statements that overlap [from, to) (or
@@ -80,16 +108,22 @@ func FormatRange(src []byte, from, to Pos) (Span, []byte, error) {
 			srcEnd = max(srcEnd, l.srcLine)
 		}
 	}
-	nl := "\n"
-	if bytes.Contains(src, []byte("\r\n")) {
-		nl = "\r\n"
-	}
+	nl := LineBreak(src)
 	var parts []string
 	for _, l := range lines[lo : hi+1] {
 		parts = append(parts, l.text)
 	}
-	span := Span{f.Lines.LineStart(f.Lines.line(f.Stmts[first].Pos())), f.Lines.LineEnd(srcEnd)}
-	return span, []byte(strings.Join(parts, nl)), nil
+	start := max(f.Lines.LineStart(f.Lines.line(f.Stmts[first].Pos())), Pos(BOMLen(src))) // the mark stays
+	span := Span{start, f.Lines.LineEnd(srcEnd)}
+	text := []byte(strings.Join(parts, nl))
+	out, err := ApplyEdits(src, []Edit{{span, string(text)}})
+	if err == nil {
+		err = sameLayoutFree(f, out)
+	}
+	if err != nil {
+		return Span{}, nil, err
+	}
+	return span, text, nil
 }
 
 type alignKind int
@@ -241,6 +275,9 @@ func (p *printer) stmt(i int, s Stmt) {
 			if k.num != nil {
 				rest += " " + k.kw + " " + numberText(k.num)
 			}
+		}
+		if s.Vary != nil {
+			rest += " vary " + numberText(s.Vary.Lo) + " to " + numberText(s.Vary.Hi)
 		}
 		l.rest = rest
 	case *BlockStmt:

@@ -25,20 +25,23 @@ type lexer struct {
 	toks     []token
 	comments []*Comment
 	errs     ErrorList
+	dropped  int // errors past MaxErrors+1, counted, not stored
 }
 
 // lex tokenizes src completely; the last token is always tEOF.
-func lex(src []byte) ([]token, []*Comment, ErrorList) {
+func lex(src []byte) *lexer {
 	// About one token per four bytes in real files: allocate once.
 	lx := &lexer{src: src, toks: make([]token, 0, len(src)/4+8)}
-	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
-		lx.off = 3 // byte order mark
-	}
+	lx.off = BOMLen(src)
 	lx.run()
-	return lx.toks, lx.comments, lx.errs
+	return lx
 }
 
 func (lx *lexer) errorf(from, to int, format string, args ...any) {
+	if len(lx.errs) > MaxErrors {
+		lx.dropped++
+		return
+	}
 	lx.errs = append(lx.errs, &Error{Span{Pos(from), Pos(to)}, fmt.Sprintf(format, args...)})
 }
 
@@ -62,10 +65,10 @@ func (lx *lexer) run() {
 		start := lx.off
 		c := src[start]
 		switch {
-		case c == ' ' || c == '\t' || c == '\r':
+		case c == ' ' || c == '\t' || c == '\r' && lx.peekByte(start+1) == '\n':
 			lx.off++
-		case c == '\n':
-			lx.newline()
+		case c == '\n' || c == '\r':
+			lx.newline() // a lone '\r' ends a line too (LSP 3.17)
 		case c == '#':
 			lx.comment()
 		case isLetter(c):
@@ -140,13 +143,13 @@ func (lx *lexer) endLine(off int) {
 		return
 	}
 	end := off
-	if end > 0 && end <= len(lx.src) && lx.src[end-1] == '\r' {
+	if end > 0 && end < len(lx.src) && lx.src[end] == '\n' && lx.src[end-1] == '\r' {
 		end--
 	}
 	lx.toks = append(lx.toks, token{kind: tNewline, Span: Span{Pos(end), Pos(end)}})
 }
 
-// newline handles '\n': inside parentheses the line continues, unless the
+// newline handles '\n' (or a lone '\r'): inside parentheses the line continues, unless the
 // next line plainly starts a new statement.
 func (lx *lexer) newline() {
 	nl := lx.off
@@ -160,7 +163,7 @@ func (lx *lexer) newline() {
 
 func (lx *lexer) nextLineStartsStmt() bool {
 	i := lx.off
-	for i < len(lx.src) && (lx.src[i] == ' ' || lx.src[i] == '\t' || lx.src[i] == '\r') {
+	for i < len(lx.src) && (lx.src[i] == ' ' || lx.src[i] == '\t') {
 		i++
 	}
 	if i < len(lx.src) && lx.src[i] == '}' {
@@ -176,13 +179,10 @@ func (lx *lexer) nextLineStartsStmt() bool {
 func (lx *lexer) comment() {
 	start := lx.off
 	end := start
-	for end < len(lx.src) && lx.src[end] != '\n' {
+	for end < len(lx.src) && lx.src[end] != '\n' && lx.src[end] != '\r' {
 		end++
 	}
 	lx.off = end
-	if end > start && lx.src[end-1] == '\r' {
-		end--
-	}
 	lx.checkUTF8(start, end)
 	lx.comments = append(lx.comments, &Comment{Span{Pos(start), Pos(end)}, string(lx.src[start:end])})
 }
@@ -233,7 +233,7 @@ func (lx *lexer) number() {
 func (lx *lexer) str() {
 	start := lx.off
 	i := start + 1
-	for i < len(lx.src) && lx.src[i] != '"' && lx.src[i] != '\n' {
+	for i < len(lx.src) && lx.src[i] != '"' && lx.src[i] != '\n' && lx.src[i] != '\r' {
 		i++
 	}
 	if i < len(lx.src) && lx.src[i] == '"' {
@@ -243,9 +243,6 @@ func (lx *lexer) str() {
 		return
 	}
 	end := i
-	if end > start && lx.src[end-1] == '\r' {
-		end--
-	}
 	lx.errorf(start, end, "unterminated string (missing closing '\"')")
 	lx.checkUTF8(start+1, end)
 	lx.off = end

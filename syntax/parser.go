@@ -17,6 +17,10 @@ const (
 	// person writes by hand, and polynomial arithmetic on it loses all
 	// precision in float64.
 	MaxExponent = 64
+	// MaxErrors is how many syntax errors Parse lists; past it, one more
+	// error at the first unlisted one says how many were left out. A file
+	// of junk then costs a screenful, not one error per byte.
+	MaxErrors = 100
 )
 
 // Parse reads a .loop file. It always returns a non-nil *File whose tree
@@ -24,7 +28,8 @@ const (
 // and the list of syntax errors, sorted by position. It never panics and
 // always terminates: every recovery step consumes at least one token.
 func Parse(name string, src []byte) (*File, ErrorList) {
-	toks, comments, lexErrs := lex(src)
+	lx := lex(src)
+	toks, comments, lexErrs := lx.toks, lx.comments, lx.errs
 	p := &parser{toks: toks, lines: NewLines(src)}
 	f := &File{Name: name, Src: src, Lines: p.lines, Comments: comments}
 	for p.tok().kind != tEOF {
@@ -38,18 +43,32 @@ func Parse(name string, src []byte) (*File, ErrorList) {
 			p.next()
 		}
 	}
-	errs := append(lexErrs, p.errs...)
+	return f, capErrors(append(lexErrs, p.errs...), lx.dropped+p.dropped)
+}
+
+// capErrors sorts errs and keeps the first MaxErrors, then one error at the
+// first one left out saying how many were. dropped counts errors never
+// stored (each source keeps only its first MaxErrors+1).
+func capErrors(errs ErrorList, dropped int) ErrorList {
 	errs.Sort()
-	return f, errs
+	if len(errs) <= MaxErrors {
+		return errs
+	}
+	more := len(errs) - MaxErrors + dropped
+	first := errs[MaxErrors]
+	errs = append(errs[:MaxErrors:MaxErrors], &Error{first.Span,
+		fmt.Sprintf("%s; and %d more syntax errors from here on (only the first %d are listed)", first.Msg, more-1, MaxErrors)})
+	return errs
 }
 
 type parser struct {
-	toks  []token
-	i     int
-	lines *Lines
-	errs  ErrorList
-	depth int  // current expression nesting
-	bail  bool // an error was reported in the current expression
+	dropped int // errors past MaxErrors+1, counted, not stored
+	toks    []token
+	i       int
+	lines   *Lines
+	errs    ErrorList
+	depth   int  // current expression nesting
+	bail    bool // an error was reported in the current expression
 }
 
 func (p *parser) tok() token { return p.toks[p.i] }
@@ -76,6 +95,10 @@ func (p *parser) prevEnd() Pos {
 }
 
 func (p *parser) errorf(s Span, format string, args ...any) {
+	if len(p.errs) > MaxErrors {
+		p.dropped++
+		return
+	}
 	p.errs = append(p.errs, &Error{s, fmt.Sprintf(format, args...)})
 }
 
@@ -218,8 +241,18 @@ func (p *parser) gain() Stmt {
 	}
 	for !p.atLineEnd() {
 		t := p.tok()
-		if t.kind != tName || t.text != "min" && t.text != "max" {
-			p.errorf(t.Span, "unexpected %s after gain %s value (want min, max or end of line)", t.describe(), name.Name)
+		if t.kind != tName || t.text != "min" && t.text != "max" && t.text != "vary" {
+			p.errorf(t.Span, "unexpected %s after gain %s value (want min, max, vary or end of line)", t.describe(), name.Name)
+			return p.badStmt(start)
+		}
+		if t.text == "vary" {
+			if !p.vary(g) {
+				return p.badStmt(start)
+			}
+			continue
+		}
+		if g.Vary != nil {
+			p.errorf(t.Span, "gain %s varies (vary %s to %s): it is uncertain, not tunable, so it takes no %s", name.Name, numberText(g.Vary.Lo), numberText(g.Vary.Hi), t.text)
 			return p.badStmt(start)
 		}
 		p.next()
@@ -243,6 +276,39 @@ func (p *parser) gain() Stmt {
 	}
 	g.Span = p.spanFrom(start)
 	return g
+}
+
+// vary reads "vary A to B" into g (the current token is "vary"). A varying
+// gain is uncertain, so a tuning range (min, max) beside it is an error.
+func (p *parser) vary(g *GainStmt) bool {
+	kw := p.tok()
+	name := g.Name.Name
+	switch {
+	case g.Vary != nil:
+		p.errorf(kw.Span, "vary given twice for gain %s", name)
+		return false
+	case g.Min != nil || g.Max != nil:
+		p.errorf(kw.Span, "gain %s has min or max (a tuning range), so it cannot also vary; an uncertain gain gives its range with vary alone", name)
+		return false
+	}
+	p.next()
+	v := &Vary{}
+	if v.Lo = p.number("after vary", false); v.Lo == nil {
+		return false
+	}
+	t := p.tok()
+	if t.kind != tName || t.text != "to" {
+		p.errorf(t.Span, "expected to after vary %s, found %s (write vary A to B)", numberText(v.Lo), t.describe())
+		return false
+	}
+	v.ToKw = t.Span
+	p.next()
+	if v.Hi = p.number("after to", false); v.Hi == nil {
+		return false
+	}
+	v.Span = Span{kw.From, v.Hi.To}
+	g.Vary = v
+	return true
 }
 
 // number reads [-]NUMBER [UNIT]. A unit is a name, "µs", "%", or

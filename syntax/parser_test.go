@@ -56,7 +56,8 @@ func TestExpressionTrees(t *testing.T) {
 }
 
 func TestNumberLexing(t *testing.T) {
-	toks, _, errs := lex([]byte("40 0.97 .5 1.5e-3 2E+4 2e x 3e+ 7µs 7μs 1.e5"))
+	lx := lex([]byte("40 0.97 .5 1.5e-3 2E+4 2e x 3e+ 7µs 7μs 1.e5"))
+	toks, errs := lx.toks, lx.errs
 	if len(errs) > 0 {
 		t.Fatal(errs)
 	}

@@ -22,22 +22,35 @@ type Span struct {
 // after the last character of a name still counts as on it).
 func (s Span) Contains(p Pos) bool { return s.From <= p && p <= s.To }
 
-// Lines maps byte offsets to line/column pairs. A line ends at '\n'; a '\r'
-// before it belongs to no column a client can address.
+// Lines maps byte offsets to line/column pairs. A line ends at "\n",
+// "\r\n" or a lone "\r" (LSP 3.17 counts all three); the line break
+// belongs to no column a client can address. A leading byte order mark is
+// part of nothing: LineCol (the command line's columns) skips it. UTF16
+// counts it, as an editor that sent it counts it in its own text.
 type Lines struct {
 	src    []byte
 	starts []int // byte offset of the first byte of each line
+	bom    int   // length of a leading byte order mark
 }
 
 // NewLines indexes src.
 func NewLines(src []byte) *Lines {
 	starts := []int{0}
 	for i, b := range src {
-		if b == '\n' {
+		if b == '\n' || b == '\r' && (i+1 == len(src) || src[i+1] != '\n') {
 			starts = append(starts, i+1)
 		}
 	}
-	return &Lines{src: src, starts: starts}
+	return &Lines{src: src, starts: starts, bom: BOMLen(src)}
+}
+
+// BOMLen is the length of src's leading UTF-8 byte order mark (3), or 0.
+// Every edit at the start of a file goes after it.
+func BOMLen(src []byte) int {
+	if len(src) >= 3 && src[0] == 0xEF && src[1] == 0xBB && src[2] == 0xBF {
+		return 3
+	}
+	return 0
 }
 
 // Count is the number of lines (a file always has at least one).
@@ -64,8 +77,12 @@ func (l *Lines) clamp(p Pos) int {
 // that is not valid UTF-8 counts as one column.
 func (l *Lines) LineCol(p Pos) (line, col int) {
 	ln := l.line(p)
-	off := min(l.clamp(p), int(l.LineEnd(ln))) // a "\r" before "\n" has no column
-	return ln + 1, utf8.RuneCount(l.src[l.starts[ln]:off]) + 1
+	from := l.starts[ln]
+	if ln == 0 {
+		from = l.bom // the mark has no column
+	}
+	off := max(min(l.clamp(p), int(l.LineEnd(ln))), from) // a line break has no column
+	return ln + 1, utf8.RuneCount(l.src[from:off]) + 1
 }
 
 // UTF16 converts an offset to a 0-based line and a 0-based column counted in
@@ -76,13 +93,13 @@ func (l *Lines) UTF16(p Pos) (line, col int) {
 	return ln, utf16Len(l.src[l.starts[ln]:off])
 }
 
-// LineEnd is the offset of the end of 0-based line ln, before its "\n" or
-// "\r\n".
+// LineEnd is the offset of the end of 0-based line ln, before its "\n",
+// "\r\n" or "\r".
 func (l *Lines) LineEnd(ln int) Pos {
 	end := len(l.src)
 	if ln+1 < len(l.starts) {
 		end = l.starts[ln+1] - 1
-		if end > l.starts[ln] && l.src[end-1] == '\r' {
+		if l.src[end] == '\n' && end > l.starts[ln] && l.src[end-1] == '\r' {
 			end--
 		}
 	}

@@ -33,6 +33,10 @@ func Children(n Node) []Node {
 			add(n.Min, n.Min != nil)
 			add(n.Max, n.Max != nil)
 		}
+		add(n.Vary, n.Vary != nil)
+	case *Vary:
+		add(n.Lo, n.Lo != nil)
+		add(n.Hi, n.Hi != nil)
 	case *BlockStmt:
 		add(n.Name, n.Name != nil)
 		add(n.Expr, n.Expr != nil)

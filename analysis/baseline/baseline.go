@@ -33,11 +33,14 @@ func DefaultThresholds() Thresholds { return Thresholds{DB: 1, Deg: 5, Radius: 0
 // Doc is the part of the JSON document a comparison reads; stable is a
 // pointer so that an undecided verdict (null) reads as such.
 type Doc struct {
-	Files []struct {
-		Path        string              `json:"path"`
-		Diagnostics []report.Diagnostic `json:"diagnostics"`
-		Loops       []Loop              `json:"loops"`
-	} `json:"files"`
+	Files []File `json:"files"`
+}
+
+// File is one file of a Doc.
+type File struct {
+	Path        string              `json:"path"`
+	Diagnostics []report.Diagnostic `json:"diagnostics"`
+	Loops       []Loop              `json:"loops"`
 }
 
 // Loop holds the figures compared.
@@ -53,7 +56,10 @@ type Loop struct {
 	PeakSensitivityDB *float64 `json:"peak_sensitivity_db"`
 	OvershootPct      *float64 `json:"overshoot_pct"`
 	SettlingS         *float64 `json:"settling_s"`
-	Requirements      []struct {
+	Robust            *struct {
+		Stable *bool `json:"stable"`
+	} `json:"robust"`
+	Requirements []struct {
 		Metric  string `json:"metric"`
 		Op      string `json:"op"`
 		Met     bool   `json:"met"`
@@ -71,15 +77,20 @@ func Read(r io.Reader) (*Doc, error) {
 	return &d, nil
 }
 
-// FromReport converts this run's document through its JSON, so both sides
-// of a comparison are read by the same code.
-func FromReport(doc report.Doc) (*Doc, error) {
-	b, err := json.Marshal(doc)
+// Add appends one file of this run's document (read through its JSON, so
+// both sides of a comparison are read by the same code). A run adds its
+// files as it checks them; the figures kept per file are few.
+func (d *Doc) Add(f report.File) error {
+	b, err := json.Marshal(f)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	var d Doc
-	return &d, json.Unmarshal(b, &d)
+	var one File
+	if err := json.Unmarshal(b, &one); err != nil {
+		return err
+	}
+	d.Files = append(d.Files, one)
+	return nil
 }
 
 // LoopChange is one loop's comparison.
@@ -97,7 +108,6 @@ type Comparison struct {
 	// NotChecked lists the baseline's files this run did not check: their
 	// loops are not compared (nor reported removed).
 	NotChecked []string
-	old, cur   *Doc
 }
 
 // Status words of a loop in the JSON document.
@@ -107,6 +117,10 @@ func status(l *Loop) string {
 		return "not analysed"
 	case l.Stable == nil:
 		return "undecided"
+	case *l.Stable && l.Robust != nil && l.Robust.Stable == nil:
+		return "undecided over range"
+	case *l.Stable && l.Robust != nil && !*l.Robust.Stable:
+		return "UNSTABLE over range"
 	case *l.Stable:
 		return "stable"
 	case l.Marginal:
@@ -119,7 +133,7 @@ type key struct{ file, loop string }
 
 // Compare compares this run (cur) with the baseline (old).
 func Compare(old, cur *Doc, th Thresholds) *Comparison {
-	c := &Comparison{old: old, cur: cur}
+	c := &Comparison{}
 	oldLoops := map[key]*Loop{}
 	var oldOrder []key
 	for i := range old.Files {

@@ -21,61 +21,64 @@ func subject(msg string) string {
 	return strings.TrimSuffix(strings.Join(f, " "), ":")
 }
 
-// States returns the SARIF baseline of this comparison: the states of this
-// run's results and the baseline's results that are gone.
-func (c *Comparison) States() report.Baseline {
-	s := &states{old: map[diagKey][]report.AbsentResult{}}
-	for _, f := range c.old.Files {
+// States gives SARIF results their baselineState as they are written (a
+// report.Baseline): each result of this run is paired with an unpaired
+// baseline result of its key, an identical message first; the baseline
+// results left unpaired at the end are absent.
+type States struct {
+	old  map[diagKey][]report.AbsentResult
+	used map[diagKey][]bool
+}
+
+// NewStates prepares the pairing against the baseline document.
+func NewStates(old *Doc) *States {
+	s := &States{old: map[diagKey][]report.AbsentResult{}, used: map[diagKey][]bool{}}
+	for _, f := range old.Files {
 		for _, d := range f.Diagnostics {
 			k := diagKey{f.Path, d.Code, subject(d.Message)}
 			s.old[k] = append(s.old[k], report.AbsentResult{URI: f.Path, Diagnostic: d})
+			s.used[k] = append(s.used[k], false)
 		}
 	}
-	// Pair each current result with an earlier one of its key (an
-	// identical message first), so that what is left over is absent.
-	s.state = map[string]string{}
-	used := map[diagKey]int{}
-	for _, f := range c.cur.Files {
-		for _, d := range f.Diagnostics {
-			k := diagKey{f.Path, d.Code, subject(d.Message)}
-			st := "new"
-			if olds := s.old[k]; used[k] < len(olds) {
-				st = "updated"
-				for _, o := range olds {
-					if o.Message == d.Message {
-						st = "unchanged"
-					}
-				}
-				used[k]++
-			}
-			s.state[f.Path+"\x00"+d.Code+"\x00"+d.Message] = st
-		}
-	}
-	for k, olds := range s.old {
-		s.absent = append(s.absent, olds[min(used[k], len(olds)):]...)
-	}
-	sortAbsent(s.absent)
 	return s
 }
 
-type states struct {
-	old    map[diagKey][]report.AbsentResult
-	state  map[string]string
-	absent []report.AbsentResult
-}
-
-func (s *states) State(uri, code, message string) string {
-	if st, ok := s.state[uri+"\x00"+code+"\x00"+message]; ok {
-		return st
+// State is "unchanged", "updated" or "new" for the next result of this run.
+func (s *States) State(uri, code, message string) string {
+	k := diagKey{uri, code, subject(message)}
+	olds, used := s.old[k], s.used[k]
+	free := -1
+	for i, o := range olds {
+		if used[i] {
+			continue
+		}
+		if o.Message == message {
+			used[i] = true
+			return "unchanged"
+		}
+		if free < 0 {
+			free = i
+		}
 	}
-	return "new"
+	if free < 0 {
+		return "new"
+	}
+	used[free] = true
+	return "updated"
 }
 
-func (s *states) Absent() []report.AbsentResult { return s.absent }
-
-func sortAbsent(a []report.AbsentResult) {
-	sort.Slice(a, func(i, j int) bool {
-		x, y := a[i], a[j]
+// Absent lists the baseline's results that no result of this run paired.
+func (s *States) Absent() []report.AbsentResult {
+	var out []report.AbsentResult
+	for k, olds := range s.old {
+		for i, o := range olds {
+			if !s.used[k][i] {
+				out = append(out, o)
+			}
+		}
+	}
+	sort.Slice(out, func(i, j int) bool {
+		x, y := out[i], out[j]
 		if x.URI != y.URI {
 			return x.URI < y.URI
 		}
@@ -84,4 +87,5 @@ func sortAbsent(a []report.AbsentResult) {
 		}
 		return x.Code < y.Code
 	})
+	return out
 }

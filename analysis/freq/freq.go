@@ -110,11 +110,16 @@ const (
 // the float64 range apart), and a delay margin that overflows in seconds
 // (sample periods near 1e300 s).
 func Compute(L poly.Rational, T float64) (Margins, error) {
-	var m Margins
 	lp, err := prepare(L, T)
 	if err != nil {
-		return m, err
+		return Margins{}, err
 	}
+	return lp.margins(T)
+}
+
+// margins computes every margin of lp (see Compute).
+func (lp loop) margins(T float64) (Margins, error) {
+	var m Margins
 	grid := lp.grid()
 	pts := lp.evalGrid(grid)
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
@@ -181,6 +186,20 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 // phaseCrossings returns every phase crossing (L real and negative) with
 // its gain margin; g and gScale are lp.g and lp.gScale on the grid.
 func (lp loop) phaseCrossings(grid, g, gScale []float64, T float64) []Crossing {
+	var out []Crossing
+	for _, th := range lp.realAxis(grid, g, gScale) {
+		N, D := lp.eval(th)
+		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
+			continue
+		}
+		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: -20 * math.Log10(cmplx.Abs(N/D))})
+	}
+	return out
+}
+
+// realAxis returns the angles where L is real (g = 0); when L is real on
+// the whole circle, the one point of negative L nearest to |L| = 1.
+func (lp loop) realAxis(grid, g, gScale []float64) []float64 {
 	var phaseTh []float64
 	if lp.realOnCircle() {
 		if th, ok := lp.bestOnGrid(grid, func(th float64) (float64, bool) {
@@ -195,15 +214,7 @@ func (lp loop) phaseCrossings(grid, g, gScale []float64, T float64) []Crossing {
 	} else {
 		phaseTh = roots(lp.g, lp.gScale, grid, g, gScale)
 	}
-	var out []Crossing
-	for _, th := range phaseTh {
-		N, D := lp.eval(th)
-		if lp.singular(N, D) || real(N*cmplx.Conj(D)) >= 0 {
-			continue
-		}
-		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: -20 * math.Log10(cmplx.Abs(N/D))})
-	}
-	return out
+	return phaseTh
 }
 
 // phaseMargin is 180° + arg l wrapped to (−180°, 180°].
@@ -221,15 +232,23 @@ func ptr(v float64) *float64 { return &v }
 // products of values neither overflow nor underflow.
 type loop struct {
 	num, den    poly.Poly
+	fac         *Factors     // the factored form, when given so (num, den unused)
 	closedRoots []complex128 // roots of N + D, set by grid
 }
 
 // ErrZeroPoly reports a zero numerator or denominator.
 var ErrZeroPoly = errors.New("freq: zero numerator or denominator")
 
-func prepare(L poly.Rational, T float64) (loop, error) {
+func prepareT(T float64) (loop, error) {
 	if !(T > 0) || math.IsInf(T, 0) {
 		return loop{}, fmt.Errorf("freq: sample period %v s must be finite and positive", T)
+	}
+	return loop{}, nil
+}
+
+func prepare(L poly.Rational, T float64) (loop, error) {
+	if _, err := prepareT(T); err != nil {
+		return loop{}, err
 	}
 	if !L.Num.Finite() || !L.Den.Finite() {
 		return loop{}, fmt.Errorf("freq: non-finite coefficient in %v / %v", []float64(L.Num), []float64(L.Den))
@@ -265,6 +284,9 @@ func ldexpPoly(p poly.Poly, e int) poly.Poly {
 
 func (l loop) eval(th float64) (N, D complex128) {
 	z := cmplx.Rect(1, th)
+	if l.fac != nil {
+		return l.fac.nd(z)
+	}
 	return l.num.EvalC(z), l.den.EvalC(z)
 }
 
@@ -326,6 +348,9 @@ func absSum(p poly.Poly) float64 {
 // realOnCircle reports g ≡ 0: g(θ) = Σ_{m>0} (r_m − r_{−m}) sin mθ with r
 // the cross-correlation of N and D.
 func (l loop) realOnCircle() bool {
+	if l.fac != nil {
+		return sampledZero(func(th float64) (float64, float64) { return l.g(th), l.gScale(th) })
+	}
 	r := correlation(l.num, l.den)
 	c := len(l.den) - 1
 	scale := absSum(l.num) * absSum(l.den)
@@ -349,6 +374,9 @@ func (l loop) realOnCircle() bool {
 
 // unitOnCircle reports h ≡ 0: N and D have equal autocorrelations.
 func (l loop) unitOnCircle() bool {
+	if l.fac != nil {
+		return sampledZero(func(th float64) (float64, float64) { return l.h(th), l.hScale(th) })
+	}
 	rn, rd := correlation(l.num, l.num), correlation(l.den, l.den)
 	scale := absSum(l.num)*absSum(l.num) + absSum(l.den)*absSum(l.den)
 	long, short := rn, rd
@@ -396,6 +424,9 @@ func (l loop) evalGrid(grid []float64) gridValues {
 // grid also records the roots of N + D, which the peak search needs.
 func (l *loop) grid() []float64 {
 	n := max(l.num.Degree(), l.den.Degree(), 1)
+	if l.fac != nil {
+		n = max(len(l.fac.Zeros), len(l.fac.Poles), 1)
+	}
 	count := max(minBaseGrid, baseGridPerDegree*n)
 	uniform := make([]float64, 0, count+1)
 	for i := 0; i <= count; i++ {
@@ -408,14 +439,7 @@ func (l *loop) grid() []float64 {
 		e := math.Pi * math.Pow(10, -float64(k))
 		g = append(g, e, math.Pi-e)
 	}
-	for i, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
-		rs, ok := polyroots.Companion(p)
-		if !ok {
-			continue
-		}
-		if i == 2 {
-			l.closedRoots = rs
-		}
+	for _, rs := range l.nearRoots() {
 		for _, r := range rs {
 			d := math.Abs(cmplx.Abs(r) - 1)
 			if d >= nearCircle {
@@ -449,6 +473,28 @@ func (l *loop) grid() []float64 {
 			continue
 		}
 		out = append(out, v)
+	}
+	return out
+}
+
+// nearRoots returns the roots of N, D and N + D (the last kept in
+// closedRoots): given with the factored form, computed as companion
+// eigenvalues otherwise.
+func (l *loop) nearRoots() [][]complex128 {
+	if l.fac != nil {
+		l.closedRoots = l.fac.Closed
+		return [][]complex128{l.fac.Zeros, l.fac.Poles, l.fac.Closed}
+	}
+	var out [][]complex128
+	for i, p := range []poly.Poly{l.num, l.den, l.num.Add(l.den)} {
+		rs, ok := polyroots.Companion(p)
+		if !ok {
+			continue
+		}
+		if i == 2 {
+			l.closedRoots = rs
+		}
+		out = append(out, rs)
 	}
 	return out
 }
@@ -585,8 +631,7 @@ func (l loop) bestOnGrid(grid []float64, obj func(float64) (float64, bool)) (flo
 // peakSensitivity returns max 20·log10(|D|/|N + D|) over [0, π] and its
 // angle; ok is false when N + D has a root on the circle.
 func (l loop) peakSensitivity(grid []float64, pts gridValues) (db, th float64, ok bool) {
-	cl := l.num.Add(l.den)
-	if cl.IsZero() {
+	if l.fac == nil && l.num.Add(l.den).IsZero() {
 		return 0, 0, false
 	}
 	for _, r := range l.closedRoots {

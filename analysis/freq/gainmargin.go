@@ -16,6 +16,10 @@ func GainMargin(L poly.Rational, T float64) (*float64, error) {
 	if err != nil {
 		return nil, err
 	}
+	return lp.gainMargin(T), nil
+}
+
+func (lp loop) gainMargin(T float64) *float64 {
 	grid := lp.grid()
 	g, gs := make([]float64, len(grid)), make([]float64, len(grid))
 	for i, th := range grid {
@@ -28,5 +32,5 @@ func GainMargin(L poly.Rational, T float64) (*float64, error) {
 			gm = ptr(c.Value)
 		}
 	}
-	return gm, nil
+	return gm
 }

@@ -18,9 +18,24 @@ import (
 // non-finite polynomials) gives NaN in every entry; a non-finite frequency
 // gives NaN at that entry.
 func Response(L poly.Rational, T float64, hz []float64) (magDB, phaseDeg []float64) {
+	lp, err := prepare(L, T)
+	return lp.response(err, T, hz)
+}
+
+// ResponseFactors is Response for a loop given by its factors.
+func ResponseFactors(f Factors, T float64, hz []float64) (magDB, phaseDeg []float64) {
+	err := f.check()
+	lp, terr := prepareT(T)
+	if err == nil {
+		err = terr
+	}
+	lp.fac = &f
+	return lp.response(err, T, hz)
+}
+
+func (lp loop) response(err error, T float64, hz []float64) (magDB, phaseDeg []float64) {
 	magDB = make([]float64, len(hz))
 	phaseDeg = make([]float64, len(hz))
-	lp, err := prepare(L, T)
 	if err != nil {
 		for i := range hz {
 			magDB[i], phaseDeg[i] = math.NaN(), math.NaN()

@@ -51,7 +51,7 @@ func Numeric(c func(k float64) (poly.Poly, error), k0 float64) (Interval, error)
 		}
 		deg = max(deg, p.Degree())
 	}
-	stable := func(k float64) (bool, error) {
+	return NumericFunc(func(k float64) (bool, error) {
 		p, err := c(k)
 		if err != nil {
 			return false, err
@@ -60,7 +60,16 @@ func Numeric(c func(k float64) (poly.Poly, error), k0 float64) (Interval, error)
 			return false, nil // a root went to infinity (or every z is a root)
 		}
 		return SchurStable(p)
+	}, k0)
+}
+
+// NumericFunc is Numeric for any stability test of the gain (an eigenvalue
+// check of a loop model, say): the same march and bisection.
+func NumericFunc(stable func(k float64) (bool, error), k0 float64) (Interval, error) {
+	if math.IsNaN(k0) || math.IsInf(k0, 0) {
+		return Interval{}, fmt.Errorf("gainlimit: current gain %v is not finite", k0)
 	}
+	scale := math.Max(1, math.Abs(k0))
 	s0, err := stable(k0)
 	if err != nil {
 		return Interval{}, err

@@ -162,6 +162,9 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 	if err := addLine(b.mag, plotter.XYs{{X: fmin, Y: 0}, {X: ny, Y: 0}}, ref); err != nil {
 		return nil, err
 	}
+	if err := addEnvelope(b.mag, b.phase, l, T, hz); err != nil {
+		return nil, err
+	}
 	for _, s := range segments(hz, magDB, magFloorDB) {
 		if err := addLine(b.mag, s, curve); err != nil {
 			return nil, err

@@ -73,6 +73,10 @@ func Page(res *analysis.Result) ([]byte, error) {
 		d.Diags = append(d.Diags, pageDiag{Where: filepath.Base(g.Path), Severity: g.Severity.String(), Code: g.Code, Message: g.Message})
 	}
 	for i, l := range res.Loops {
+		if i >= MaxPageFigures {
+			d.Loops = append(d.Loops, listedLoop(l, i))
+			continue
+		}
 		d.Loops = append(d.Loops, loopSection(res, l, i))
 	}
 	var buf bytes.Buffer
@@ -80,6 +84,20 @@ func Page(res *analysis.Result) ([]byte, error) {
 		return nil, fmt.Errorf("plot: writing the page: %w", err)
 	}
 	return buf.Bytes(), nil
+}
+
+// MaxPageFigures is how many loops a page draws (50, about 2.5 MB of SVG);
+// the loops after them are listed with their verdict only, and a pointer
+// to plotting them one at a time. A generated file of thousands of loops
+// then gives a page a browser opens, not hundreds of megabytes.
+const MaxPageFigures = 50
+
+// listedLoop is a loop past MaxPageFigures: its verdict, no figure.
+func listedLoop(l *analysis.Loop, i int) pageLoop {
+	pl := pageLoop{Name: l.Name, ID: fmt.Sprintf("loop-%d-%s", i+1, l.Name)}
+	pl.Verdict, pl.Good = plainVerdict(l)
+	pl.NoFigure = fmt.Sprintf("No figure: a page draws only its first %d loops; plot this one with `ringside plot FILE --loop %s`.", MaxPageFigures, l.Name)
+	return pl
 }
 
 func loopSection(res *analysis.Result, l *analysis.Loop, i int) pageLoop {
@@ -129,7 +147,7 @@ func inlineSVG(b []byte) string {
 // reports good when it is stable and meets every requirement.
 func plainVerdict(l *analysis.Loop) (string, bool) {
 	if !l.OK {
-		return "Not analysed: the loop has errors (listed above).", false
+		return l.VerdictWord() + ": " + l.VerdictReason() + ".", false
 	}
 	var missed []string
 	for _, q := range l.Requirements {
@@ -138,16 +156,8 @@ func plainVerdict(l *analysis.Loop) (string, bool) {
 		}
 	}
 	switch {
-	case l.Marginal:
-		return "Not stable: a closed-loop pole lies on the unit circle, so a bounded input can make the output oscillate or drift without end.", false
 	case !l.Stable:
-		n := 0
-		for _, p := range l.Poles {
-			if p.Radius > 1 {
-				n++
-			}
-		}
-		return fmt.Sprintf("Unstable: %d closed-loop pole(s) lie outside the unit circle, so the output grows without bound. Do not run this loop.", n), false
+		return l.VerdictWord() + ": " + l.VerdictReason() + ".", false
 	case len(missed) > 0:
 		return fmt.Sprintf("Stable, but %d requirement(s) missed: %s.", len(missed), strings.Join(missed, ", ")), false
 	}

@@ -2,6 +2,8 @@ package plot
 
 import (
 	"bytes"
+	"context"
+	"fmt"
 	"image/png"
 	"math"
 	"regexp"
@@ -53,8 +55,8 @@ func TestPageHasOneSectionPerLoop(t *testing.T) {
 	}
 	want := []struct{ name, verdict string }{
 		{"valve_flow", "Stable, and every requirement is met."},
-		{"tank_level", "Not stable: a closed-loop pole lies on the unit circle"},
-		{"arm_wobble", "Unstable: 2 closed-loop pole(s) lie outside the unit circle"},
+		{"tank_level", "NOT STABLE (pole on the unit circle): a closed-loop pole lies on the unit circle"},
+		{"arm_wobble", "UNSTABLE: 2 closed-loop pole(s) lie outside the unit circle"},
 	}
 	for i, w := range want {
 		s := sections[i][1]
@@ -145,7 +147,37 @@ func TestBadInputGivesErrors(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(b), "Not analysed") || strings.Contains(string(b), "<svg") {
+	if !strings.Contains(string(b), "not analysed") || strings.Contains(string(b), "<svg") {
 		t.Error("unanalysed loop shown wrongly")
+	}
+}
+
+// A page draws at most MaxPageFigures loops and lists the rest, so its
+// size stays bounded however many loops a file holds.
+func TestPageSizeBounded(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("sample 1 ms\nblock p = 0.5/(z - 0.5)\n")
+	n := MaxPageFigures + 150
+	for i := range n {
+		fmt.Fprintf(&b, "loop l%d {\n  forward p\n}\n", i)
+	}
+	res := analysis.Check(context.Background(), "/p/many.loop", []byte(b.String()), analysis.Env{Roots: []string{"/p"}})
+	page, err := Page(res)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := string(page)
+	if got := strings.Count(s, "<svg"); got != MaxPageFigures {
+		t.Errorf("%d figures, want %d", got, MaxPageFigures)
+	}
+	if got := strings.Count(s, `<section class="loop"`); got != n {
+		t.Errorf("%d loop sections, want %d (every loop listed)", got, n)
+	}
+	if !strings.Contains(s, "--loop l"+fmt.Sprint(n-1)) {
+		t.Error("a listed loop does not say how to plot it")
+	}
+	one, _ := Page(&analysis.Result{Path: res.Path, Loops: res.Loops[:1], SampleT: res.SampleT})
+	if limit := (MaxPageFigures+1)*len(one) + n*1000; len(page) > limit {
+		t.Errorf("page of %d loops is %d bytes, over %d", n, len(page), limit)
 	}
 }

@@ -41,6 +41,7 @@ type zPlane struct {
 	halfSpan  float64      // half-width of the square data region to show
 	center    complex128   // centre of that region (0 but in a zoomed view)
 	checks    poleChecks
+	loop      *analysis.Loop // for the full view's extras; nil in a zoom
 }
 
 // legendItem is one legend entry, drawn below the z-plane.
@@ -171,7 +172,7 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 	if err != nil {
 		return nil, err
 	}
-	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan, checks: checksOf(l)}
+	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan, checks: checksOf(l), loop: l}
 	checks := zp.checks
 	for _, p := range l.Poles {
 		if cmplx.IsNaN(p.Z) || cmplx.IsInf(p.Z) {
@@ -243,6 +244,11 @@ func (zp *zPlane) build(title string, circle func(r float64) plotter.XYs) error 
 		zp.legend = append(zp.legend, legendItem{"damping limit ζ = " + analysis.FormatNumber(*z), lim})
 	}
 
+	if zp.loop != nil { // the full view: the vary region too
+		if err := zp.addRegion(p, zp.loop); err != nil {
+			return err
+		}
+	}
 	scatter := func(zs []complex128, g draw.GlyphDrawer, col color.Color, r float64, text string) error {
 		if len(zs) == 0 {
 			return nil

@@ -40,26 +40,46 @@ func (o *Overview) Add(r *analysis.Result, display func(string) string) {
 	}
 }
 
-// Write prints the table (when there are loops) and the summary lines.
-func (o *Overview) Write(w io.Writer) {
+// Write prints the table (when there are loops) and the summary lines;
+// it returns the first write error.
+func (o *Overview) Write(w io.Writer) error {
+	var b strings.Builder
 	if len(o.rows) > 0 {
-		fmt.Fprintln(w)
-		rows := append([][]string{overviewHeader}, o.rows...)
-		for _, line := range columns.Text(rows) {
-			fmt.Fprintln(w, line)
+		b.WriteString("\n")
+		for _, line := range columns.Text(append([][]string{overviewHeader}, o.rows...)) {
+			b.WriteString(line + "\n")
 		}
-		fmt.Fprintln(w)
+		b.WriteString("\n")
 	}
-	fmt.Fprintf(w, "%d file(s) checked: %d error(s), %d warning(s).\n", o.files, o.errs, o.warn)
+	fmt.Fprintf(&b, "%d file(s) checked: %d error(s), %d warning(s).\n", o.files, o.errs, o.warn)
 	if len(o.failing) > 0 {
-		fmt.Fprintf(w, "Failing loops: %s.\n", strings.Join(o.failing, "; "))
+		fmt.Fprintf(&b, "Failing loops: %s.\n", strings.Join(o.failing, "; "))
 	} else if len(o.rows) > 0 {
-		fmt.Fprintf(w, "Every loop is stable and meets its written requirements.\n")
+		b.WriteString("Every loop is stable and meets its written requirements.\n")
 	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// WriteMarkdown writes the overview for a review comment: the summary, the
+// failing loops, and the loop table as Markdown (the diagnostics
+// themselves belong in the text or SARIF output).
+func (o *Overview) WriteMarkdown(w io.Writer) error {
+	var b strings.Builder
+	fmt.Fprintf(&b, "### Loop check\n\n%d file(s) checked: %d error(s), %d warning(s).\n", o.files, o.errs, o.warn)
+	if len(o.failing) > 0 {
+		fmt.Fprintf(&b, "**Failing loops:** %s.\n", strings.Join(o.failing, "; "))
+	}
+	if len(o.rows) > 0 {
+		fmt.Fprintf(&b, "\n%s", columns.Markdown(append([][]string{overviewHeader}, o.rows...)))
+	}
+	fmt.Fprintf(&b, "\n%s\n", Caution)
+	_, err := io.WriteString(w, b.String())
+	return err
 }
 
 func failWord(l *analysis.Loop) string {
-	if l.OK && l.Stable {
+	if l.ShownStable() {
 		return "misses " + l.WorstMissed().Metric
 	}
 	return strings.ToLower(l.Status())
@@ -86,20 +106,14 @@ func loopRow(l *analysis.Loop, file string) []string {
 	return row
 }
 
-// Markdown writes the overview for a review comment: the summary, the
-// failing loops, and the loop table as Markdown (the diagnostics
-// themselves belong in the text or SARIF output).
-func Markdown(w io.Writer, results []*analysis.Result, display func(string) string) {
-	var o Overview
+// Markdown writes the overview of results for a review comment.
+func Markdown(w io.Writer, results []*analysis.Result, display func(string) string) error {
+	s := NewStream("markdown", w, display, "", false)
 	for _, r := range results {
-		o.Add(r, display)
+		s.Add(r)
 	}
-	fmt.Fprintf(w, "### Loop check\n\n%d file(s) checked: %d error(s), %d warning(s).\n", o.files, o.errs, o.warn)
-	if len(o.failing) > 0 {
-		fmt.Fprintf(w, "**Failing loops:** %s.\n", strings.Join(o.failing, "; "))
-	}
-	if len(o.rows) > 0 {
-		fmt.Fprintf(w, "\n%s", columns.Markdown(append([][]string{overviewHeader}, o.rows...)))
-	}
-	fmt.Fprintf(w, "\n%s\n", Caution)
+	return s.Close()
 }
+
+// BuildFile is one file's part of the JSON document (see Build).
+func BuildFile(r *analysis.Result, display func(string) string) File { return buildFile(r, display) }

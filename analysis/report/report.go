@@ -56,7 +56,7 @@ type Edit struct {
 // Loop holds a loop's figures; nil where a figure does not exist.
 type Loop struct {
 	Name               string        `json:"name"`
-	Stable             bool          `json:"stable"`
+	Stable             *bool         `json:"stable"` // null when undecided
 	Marginal           bool          `json:"marginal"`
 	Analysed           bool          `json:"analysed"`
 	Poles              []Pole        `json:"poles"`
@@ -76,6 +76,8 @@ type Loop struct {
 	HiddenModes        []HiddenMode  `json:"hidden_modes"`
 	Requirements       []Requirement `json:"requirements"`
 	Verdict            string        `json:"verdict"`
+	DiskMargin         *DiskMargin   `json:"disk_margin"`
+	Robust             *Robust       `json:"robust,omitempty"`
 }
 
 // Pole is one closed-loop (or block) pole or zero.
@@ -214,10 +216,14 @@ func diagnostic(r *analysis.Result, d analysis.Diagnostic, display func(string) 
 }
 
 func loop(l *analysis.Loop) Loop {
-	out := Loop{Name: l.Name, Stable: l.Stable && l.OK, Marginal: l.Marginal, Analysed: l.OK, Poles: []Pole{},
+	stable := l.Stable && l.OK
+	out := Loop{Name: l.Name, Stable: &stable, Marginal: l.Marginal, Analysed: l.OK, Poles: []Pole{},
 		HiddenModes: []HiddenMode{}, Requirements: []Requirement{}, Verdict: l.Verdict()}
 	if !l.OK {
 		return out
+	}
+	if l.Undecided {
+		out.Stable = nil
 	}
 	for _, p := range l.Poles {
 		out.Poles = append(out.Poles, polePoint(p))
@@ -242,6 +248,7 @@ func loop(l *analysis.Loop) Loop {
 	for _, q := range l.Requirements {
 		out.Requirements = append(out.Requirements, Requirement{Metric: q.Metric, Op: q.Op, Want: q.Want, Got: finitePtr(q.Got), Met: q.Met, Default: q.Item == nil})
 	}
+	out.DiskMargin, out.Robust = diskMargin(l), robust(l)
 	return out
 }
 

@@ -6,8 +6,10 @@ import (
 	"encoding/json"
 	"fmt"
 	"math/rand"
+	"net/url"
 	"os"
 	"os/exec"
+	"path"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -86,13 +88,14 @@ func TestJSONContractOnRandomFiles(t *testing.T) {
 	for _, f := range doc.Files {
 		for _, l := range f.Loops {
 			loops++
-			if !l.Stable {
+			stable := l.Stable != nil && *l.Stable
+			if !stable {
 				unstable++
 			}
-			if l.Stable && l.Analysed && l.OvershootPct == nil {
+			if stable && l.Analysed && l.OvershootPct == nil {
 				t.Errorf("%s/%s: stable but no step figures", f.Path, l.Name)
 			}
-			if !l.Stable && l.SettlingS != nil {
+			if !stable && l.SettlingS != nil {
 				t.Errorf("%s/%s: unstable with a settling time", f.Path, l.Name)
 			}
 		}
@@ -169,5 +172,24 @@ func TestTextColumns(t *testing.T) {
 	Text(&b, []*analysis.Result{r}, filepath.Base)
 	if !strings.Contains(b.String(), "t.loop:3:6: error: loop l is UNSTABLE") {
 		t.Errorf("text report:\n%s", b.String())
+	}
+}
+
+// SARIF artifact URIs are URI references (RFC 3986) that a URI parser reads
+// back to the path: spaces, '#', '%', '?' and non-ASCII percent-encoded.
+func TestSARIFURIsParse(t *testing.T) {
+	for _, p := range []string{"dir with space/my loop #1%.loop", "a?b/c[d].loop", "motör/x.loop", "a:b.loop", "/abs/dir #2/f.loop", "plain/f.loop"} {
+		u := artifactURI(p)
+		parsed, err := url.Parse(u)
+		if err != nil {
+			t.Errorf("%q -> %q: %v", p, u, err)
+			continue
+		}
+		if parsed.Fragment != "" || parsed.RawQuery != "" || path.Clean(parsed.Path) != p {
+			t.Errorf("%q -> %q reads back as path %q, query %q, fragment %q", p, u, parsed.Path, parsed.RawQuery, parsed.Fragment)
+		}
+		if strings.HasPrefix(p, "/") != (parsed.Scheme == "file") {
+			t.Errorf("%q -> %q: scheme %q", p, u, parsed.Scheme)
+		}
 	}
 }

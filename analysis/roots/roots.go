@@ -275,13 +275,6 @@ func (it item) expand() []complex128 {
 	return []complex128{complex(real(it.z), 0)}
 }
 
-func (it item) count() int {
-	if it.pair {
-		return 2
-	}
-	return 1
-}
-
 func expand(items []item) []complex128 {
 	var r []complex128
 	for _, it := range items {
@@ -386,8 +379,6 @@ type group struct {
 	self    bool // self-conjugate: one real cluster holding all members' roots
 	n       int  // roots counted in the cluster (per mirrored copy if !self)
 }
-
-func (g group) size() int { return len(g.members) }
 
 // taylor returns the Taylor coefficients of p at c: a_k = p^(k)(c)/k!.
 func taylor(p poly.Poly, c complex128) []complex128 {

@@ -55,12 +55,12 @@ const (
 	band = 0.02
 )
 
-// horizon returns the number of samples simulated for a denominator of
+// Horizon returns the number of samples simulated for a denominator of
 // degree n whose poles have radius at most r: the smallest K with
 // K^(n−1)·r^K ≤ HorizonDecay (all n poles treated as one n-fold pole at
 // radius r, the worst case of multiplicity), plus n samples of transport
 // delay, clamped to [MinSamples, MaxSamples]; clamped reports the upper clamp.
-func horizon(n int, r float64) (k int, clamped bool) {
+func Horizon(n int, r float64) (k int, clamped bool) {
 	if r <= 0 {
 		return max(MinSamples, n+1), false
 	}
@@ -121,11 +121,19 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 	bsum := make([]float64, n+1) // bsum[i] = b_i (zero-padded)
 	copy(bsum, b)
 
-	K, clamped := horizon(n, maxPoleRadius)
+	K, clamped := Horizon(n, maxPoleRadius)
 	y := run(bsum, a, K, math.MaxFloat64)
 	if last := y[len(y)-1]; len(y) < K || math.IsInf(last, 0) || math.IsNaN(last) {
 		return Result{}, fmt.Errorf("step: response overflows at sample %d: the closed loop is not stable as claimed", len(y)-1)
 	}
+	return FromSamples(y, T, final, clamped)
+}
+
+// FromSamples reads the step figures off the samples y of a unit step
+// response with steady-state value final; clamped says the horizon was cut
+// at MaxSamples (see Horizon). Errors: a figure that overflows (the
+// response grows: the loop is not stable as claimed).
+func FromSamples(y []float64, T, final float64, clamped bool) (Result, error) {
 	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1 - final}
 	figures(&r, clamped)
 	for _, v := range []float64{r.OvershootPct, r.RiseTimeS, r.SettlingS, r.SteadyStateError} {

@@ -91,21 +91,21 @@ func TestSecondOrderOvershoot(t *testing.T) {
 // TestHorizon checks the stated rule K^(n−1)·r^K ≤ 1e-6 (plus n) and the
 // clamps.
 func TestHorizon(t *testing.T) {
-	if k, c := horizon(1, 0.9); k != 133 || c {
+	if k, c := Horizon(1, 0.9); k != 133 || c {
 		// ln(1e6)/ln(1/0.9) = 131.1 → 132, plus 1.
-		t.Errorf("horizon(1, 0.9) = %d %v, want 133", k, c)
+		t.Errorf("Horizon(1, 0.9) = %d %v, want 133", k, c)
 	}
 	for _, n := range []int{2, 4, 6} {
-		k, _ := horizon(n, 0.95)
+		k, _ := Horizon(n, 0.95)
 		m := float64(k - n)
 		if math.Pow(m, float64(n-1))*math.Pow(0.95, m) > HorizonDecay*1.0001 {
 			t.Errorf("n=%d: K=%d too short", n, k)
 		}
 	}
-	if k, c := horizon(2, 0); k != MinSamples || c {
+	if k, c := Horizon(2, 0); k != MinSamples || c {
 		t.Errorf("r=0: %d %v", k, c)
 	}
-	if k, c := horizon(1, 0.99999); k != MaxSamples || !c {
+	if k, c := Horizon(1, 0.99999); k != MaxSamples || !c {
 		t.Errorf("r≈1: %d %v", k, c)
 	}
 	// A clamped horizon that cannot show settling says so.

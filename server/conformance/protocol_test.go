@@ -60,20 +60,6 @@ func (c *caseEnv) wantError(what string, m message, code int) {
 	}
 }
 
-// wantErrorOneOf checks that m is an error with one of the codes.
-func (c *caseEnv) wantErrorOneOf(what string, m message, codes ...int) {
-	if m.Error == nil {
-		c.fail("%s: want an error %v, got result %s", what, codes, m)
-		return
-	}
-	for _, k := range codes {
-		if m.Error.Code == k {
-			return
-		}
-	}
-	c.fail("%s: want error %v, got %d %q", what, codes, m.Error.Code, m.Error.Message)
-}
-
 // nullIDError waits for an error answer with id null (what JSON-RPC 2.0
 // prescribes when the id of a bad message cannot be read) and checks its
 // code.

@@ -1,0 +1,307 @@
+package analysis
+
+import (
+	"errors"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"ringside/analysis/freq"
+	"ringside/analysis/gainlimit"
+	"ringside/analysis/lti"
+)
+
+// MaxAffineDegree is the highest characteristic-polynomial degree for which
+// the exact affine method (gainlimit.Affine, on expanded polynomials) is
+// used: up to it, the polynomial's roots keep a usable accuracy; beyond it,
+// the frequency-response and eigenvalue methods take over.
+const MaxAffineDegree = 10
+
+// modelAt builds a loop's model with gain name set to k.
+func (c *checker) modelAt(l *Loop, name string, k float64) (*lti.Loop, bool) {
+	ev := c.base.sweep(name, k)
+	sh := shapeOf(l.Stmt)
+	fwd, ok1 := c.elements(ev, sh.fwd, false)
+	fb, ok2 := c.elements(ev, sh.fb, false)
+	if !ok1 || !ok2 {
+		return nil, false
+	}
+	m, err := model(fwd, fb, sh.positive)
+	return m, err == nil
+}
+
+// decideAt returns the model of loop l with the gain at k, its poles and its
+// verdict (Undecided when the model cannot be built or solved).
+func (c *checker) decideAt(l *Loop, name string, k float64) (*lti.Loop, []lti.Pole, lti.Verdict) {
+	m, ok := c.modelAt(l, name, k)
+	if !ok {
+		return nil, nil, lti.Undecided
+	}
+	ps, err := m.Poles()
+	if err != nil {
+		return nil, nil, lti.Undecided
+	}
+	v, _ := lti.Decide(ps, c.env.Options.Tolerance)
+	return m, ps, v
+}
+
+// stableAt reports whether every loop is certainly stable with the gain at
+// k: an eigenvalue check whose bounds keep every pole inside the circle.
+func (c *checker) stableAt(name string, k float64, loops []*Loop) bool {
+	for _, l := range loops {
+		if _, _, v := c.decideAt(l, name, k); v != lti.Stable {
+			return false
+		}
+	}
+	return true
+}
+
+// excess is the smallest amount, in dB, by which the loops using gain name
+// exceed their required gain margin with the gain set to k (+Inf when no
+// loop has a phase crossing), and NaN when some loop is not certainly
+// stable there.
+func (c *checker) excess(name string, k float64, loops []*Loop) float64 {
+	worst := math.Inf(1)
+	for _, l := range loops {
+		m, ps, v := c.decideAt(l, name, k)
+		if v != lti.Stable {
+			return math.NaN()
+		}
+		gm, err := freq.GainMarginFactors(m.Factors(ps), c.res.SampleT)
+		if errors.Is(err, freq.ErrZeroPoly) {
+			continue // L ≡ 0: no crossing
+		}
+		if err != nil {
+			return math.NaN()
+		}
+		if gm != nil {
+			worst = math.Min(worst, *gm-c.requiredGM(l))
+		}
+	}
+	return worst
+}
+
+// scalingTol: two evaluations of a loop are the same L up to a factor when
+// their poles and zeros agree to this relative accuracy (they are computed
+// from the same polynomials, scaled, so they agree to rounding).
+const scalingTol = 1e-12
+
+// scalingForm returns, when gain name only scales loop l's L
+// (L(k) = (k/k1)·L(k1): a proportional gain, a gain block on the path), the
+// loop's model at k1 (k0, or 1 when k0 is 0).
+func (c *checker) scalingForm(l *Loop, name string, k0 float64) (*lti.Loop, float64, bool) {
+	k1 := k0
+	if k1 == 0 {
+		k1 = 1
+	}
+	m1, ok1 := c.modelAt(l, name, k1)
+	m2, ok2 := c.modelAt(l, name, 2*k1)
+	if !ok1 || !ok2 {
+		return nil, 0, false
+	}
+	a, b := m1.Written(), m2.Written()
+	if a.Gain == 0 || math.Abs(b.Gain/a.Gain-2) > scalingTol || !sameRoots(a.Poles, b.Poles) || !sameRoots(a.Zeros, b.Zeros) {
+		return nil, 0, false
+	}
+	return m1, k1, true
+}
+
+func sameRoots(a, b []complex128) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	a, b = sortedRoots(a), sortedRoots(b)
+	for i := range a {
+		if cmplx.Abs(a[i]-b[i]) > scalingTol*math.Max(1, cmplx.Abs(a[i])) {
+			return false
+		}
+	}
+	return true
+}
+
+func sortedRoots(zs []complex128) []complex128 {
+	out := append([]complex128(nil), zs...)
+	sort.Slice(out, func(i, j int) bool {
+		if real(out[i]) != real(out[j]) {
+			return real(out[i]) < real(out[j])
+		}
+		return imag(out[i]) < imag(out[j])
+	})
+	return out
+}
+
+// scalingInterval is the stable interval of a gain that scales L in every
+// loop, by Neimark's D-decomposition of the gain axis: a closed-loop pole
+// of 1 + (k/k1)·L1 = 0 lies on the circle at z = e^{jθ} exactly when L1 is
+// real there and k = −k1/L1(θ) (the real-axis crossings of L1), goes to
+// infinity at k = −k1/L1(∞) when L1 is biproper, and at k = 0 the closed-
+// loop poles are the open-loop ones (an integrator stays on the circle:
+// an isolated unstable value). Between consecutive candidates no pole
+// meets the circle, so stability is constant there; one eigenvalue check
+// per span decides it, and the chosen interval's ends are verified by an
+// eigenvalue check just inside each end. ok is false when some loop does
+// not scale with the gain, or a check disagrees with the candidates.
+func (c *checker) scalingInterval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, bool) {
+	cands := []float64{0}
+	for _, l := range loops {
+		m, k1, ok := c.scalingForm(l, name, k0)
+		if !ok {
+			return gainlimit.Interval{}, false
+		}
+		f := m.Open()
+		if f.Gain == 0 {
+			return gainlimit.Interval{}, false
+		}
+		_, vals, err := freq.RealAxisCrossings(freq.Factors{Gain: f.Gain, Zeros: f.Zeros, Poles: f.Poles})
+		if err != nil {
+			return gainlimit.Interval{}, false
+		}
+		for _, v := range vals {
+			if v != 0 {
+				cands = append(cands, -k1/v)
+			}
+		}
+		if f.RelativeDegree() == 0 {
+			cands = append(cands, -k1/f.Gain)
+		}
+	}
+	return c.spans(name, k0, loops, cands)
+}
+
+// spans decides stability between sorted candidate boundaries and returns
+// the interval around k0 (or the nearest stable one), verified.
+func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64) (gainlimit.Interval, bool) {
+	sort.Float64s(cands)
+	var ks []float64
+	for _, k := range cands {
+		if math.IsNaN(k) || math.IsInf(k, 0) {
+			continue
+		}
+		if len(ks) > 0 && math.Abs(k-ks[len(ks)-1]) <= scalingTol*math.Max(1, math.Abs(k)) {
+			continue
+		}
+		if k == 0 && c.stableAt(name, k, loops) {
+			continue // zero is a boundary only where the open loop is not stable
+		}
+		ks = append(ks, k)
+	}
+	type span struct {
+		lo, hi *float64
+		stable bool
+	}
+	var sp []span
+	for i := 0; i <= len(ks); i++ {
+		var s span
+		if i > 0 {
+			s.lo = &ks[i-1]
+		}
+		if i < len(ks) {
+			s.hi = &ks[i]
+		}
+		s.stable = c.stableAt(name, inner(s.lo, s.hi, 0.5), loops)
+		sp = append(sp, s)
+	}
+	best := -1
+	dist := func(s span) float64 {
+		switch {
+		case s.lo != nil && k0 <= *s.lo:
+			return *s.lo - k0
+		case s.hi != nil && k0 >= *s.hi:
+			return k0 - *s.hi
+		}
+		return 0
+	}
+	for i, s := range sp {
+		if s.stable && (best < 0 || dist(s) < dist(sp[best])) {
+			best = i
+		}
+	}
+	cur := c.stableAt(name, k0, loops)
+	if best < 0 {
+		if cur {
+			return gainlimit.Interval{}, false // a check disagrees with the candidates
+		}
+		return gainlimit.Interval{Exact: true}, true
+	}
+	s := sp[best]
+	contains := dist(s) == 0 && (s.lo == nil || *s.lo != k0) && (s.hi == nil || *s.hi != k0)
+	if contains != cur {
+		return gainlimit.Interval{}, false
+	}
+	// Verify just inside each end (a thousandth of the span in).
+	if s.lo != nil && !c.stableAt(name, inner(s.lo, s.hi, 1e-3), loops) ||
+		s.hi != nil && !c.stableAt(name, inner(s.lo, s.hi, 1-1e-3), loops) {
+		return gainlimit.Interval{}, false
+	}
+	return gainlimit.Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: contains, Found: true}, true
+}
+
+// inner returns the point at fraction t of the span (lo, hi); a missing
+// end stands max(1, |other end|) away.
+func inner(lo, hi *float64, t float64) float64 {
+	switch {
+	case lo != nil && hi != nil:
+		return *lo + t*(*hi-*lo)
+	case lo != nil:
+		return *lo + t*2*math.Max(1, math.Abs(*lo))
+	case hi != nil:
+		return *hi - (1-t)*2*math.Max(1, math.Abs(*hi))
+	}
+	return 0
+}
+
+// numericInterval marches with eigenvalue checks (gainlimit.NumericFunc)
+// and then cuts the interval at isolated unstable values the march steps
+// over: k = 0, where a gain that multiplies a block leaves the open-loop
+// poles (an integrator on the circle) as closed-loop poles.
+func (c *checker) numericInterval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, error) {
+	iv, err := gainlimit.NumericFunc(func(k float64) (bool, error) { return c.stableAt(name, k, loops), nil }, k0)
+	if err != nil || !iv.Found {
+		return iv, err
+	}
+	for _, k := range []float64{0} {
+		if k == k0 || (iv.Lo != nil && k <= *iv.Lo) || (iv.Hi != nil && k >= *iv.Hi) || c.stableAt(name, k, loops) {
+			continue
+		}
+		v := k
+		if k < k0 {
+			iv.Lo = &v
+		} else {
+			iv.Hi = &v
+		}
+	}
+	return iv, nil
+}
+
+// scalingSafeMax is the largest gain meeting every loop's required gain
+// margin for a gain that scales L, in closed form: at a phase crossing the
+// margin falls by 20·log10(k/k0) as k grows (the crossings do not move),
+// so each crossing of each loop meets its requirement exactly at
+// k0·10^((GM − required)/20). The candidates are tried from the largest
+// down, each verified by a full check just below (passes) and just above
+// (fails).
+func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
+	if !(k0 > 0) {
+		return 0, false
+	}
+	var cands []float64
+	for _, l := range loops {
+		if _, _, ok := c.scalingForm(l, name, k0); !ok {
+			return 0, false
+		}
+		for _, x := range l.Margins.PhaseCrossings {
+			cands = append(cands, k0*math.Pow(10, (x.Value-c.requiredGM(l))/20))
+		}
+	}
+	sort.Sort(sort.Reverse(sort.Float64Slice(cands)))
+	for _, k := range cands {
+		if lim.StableMax != nil && k > *lim.StableMax || lim.StableMin != nil && k < *lim.StableMin {
+			continue
+		}
+		lo, hi := k*(1-SafeMaxTolerance/4), k*(1+SafeMaxTolerance/4)
+		if c.meets(name, lo, loops) && !c.meets(name, hi, loops) {
+			return lo, true
+		}
+	}
+	return 0, false
+}

@@ -1,0 +1,303 @@
+package lti
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+
+	"ringside/analysis/freq"
+	"ringside/analysis/step"
+)
+
+// CommonTol: a pole and a zero of the loop closer than CommonTol·max(1, |p|)
+// (beyond the blocks' own root errors) are one common factor of the loop's
+// numerator and denominator: an exact closed-loop pole, taken out before the
+// eigenvalue computation and cancelled in L. Roots read from identical
+// factors agree exactly; roots of low-order polynomials agree to a few ulps.
+const CommonTol = 64 * eps
+
+// maxCommonGain bounds |T'(p)| = |L'(p)/(1 + L'(p))| (L' the loop without
+// the pair) for a near-common pair to be taken out: the closed-loop pole
+// then moves from p by at most |p − q|·|T'(p)| to first order, and a larger
+// factor means the pair is not negligible in the closed loop.
+const maxCommonGain = 1e6
+
+// Loop is a feedback loop built from its blocks' factored forms: the
+// forward path (error to output) and the feedback path (measurement),
+// closed with negative feedback unless Positive.
+type Loop struct {
+	Forward, Feedback []Factored
+	Positive          bool
+
+	sigma  float64  // +1 negative feedback, −1 positive
+	full   Factored // L as written, sign folded in (closes as 1 + L = 0)
+	open   Factored // L with the common factors taken out
+	common []Pole   // exact closed-loop poles (common factors)
+	err    float64  // largest root error of the blocks
+}
+
+// NewLoop builds the loop model. Nothing is expanded into polynomials.
+func NewLoop(fwd, fb []Factored, positive bool) *Loop {
+	l := &Loop{Forward: fwd, Feedback: fb, Positive: positive, sigma: 1}
+	if positive {
+		l.sigma = -1
+	}
+	l.full = Const(l.sigma)
+	for _, b := range append(append([]Factored(nil), fwd...), fb...) {
+		l.full = l.full.Mul(b)
+	}
+	l.err = l.full.Err
+	l.takeCommon()
+	return l
+}
+
+// takeCommon removes the poles matched by zeros (a multiset match) from L
+// and records them as exact closed-loop poles. With L ≡ 0 (a zero gain)
+// every pole of the blocks is a closed-loop pole, exactly.
+func (l *Loop) takeCommon() {
+	if l.full.Gain == 0 {
+		for _, p := range l.full.Poles {
+			l.common = append(l.common, Pole{Z: p, Bound: l.err, CentroidBound: l.err, Multiplicity: 1, Exact: true})
+		}
+		l.open = Factored{Err: l.err}
+		return
+	}
+	zeros := append([]complex128(nil), l.full.Zeros...)
+	used := make([]bool, len(zeros))
+	var keep []complex128
+	type pair struct{ p, q complex128 }
+	var pairs []pair
+	for _, p := range l.full.Poles {
+		best, bestD := -1, math.Inf(1)
+		for j, q := range zeros {
+			if used[j] {
+				continue
+			}
+			if d := cmplx.Abs(p - q); d < bestD {
+				best, bestD = j, d
+			}
+		}
+		if best >= 0 && bestD <= CommonTol*math.Max(1, cmplx.Abs(p))+2*l.err {
+			used[best] = true
+			pairs = append(pairs, pair{p, zeros[best]})
+			continue
+		}
+		keep = append(keep, p)
+	}
+	var rest []complex128
+	for j, q := range zeros {
+		if !used[j] {
+			rest = append(rest, q)
+		}
+	}
+	l.open = Factored{Gain: l.full.Gain, Zeros: rest, Poles: keep, Err: l.err}
+	// A near pair moves the closed-loop pole by |p − q|·|T'(p)|; keep it
+	// in the eigenvalue problem when that is not small.
+	for _, pq := range pairs {
+		d := cmplx.Abs(pq.p - pq.q)
+		b := l.err
+		if d > 0 {
+			lp := l.open.At(pq.p)
+			t := 1.0
+			if !cmplx.IsInf(lp) {
+				t = cmplx.Abs(lp / (1 + lp))
+			}
+			if !(t <= maxCommonGain) {
+				l.open.Poles = append(l.open.Poles, pq.p)
+				l.open.Zeros = append(l.open.Zeros, pq.q)
+				continue
+			}
+			b += d * t
+		}
+		l.common = append(l.common, Pole{Z: pq.p, Bound: b, CentroidBound: b, Multiplicity: 1, Exact: true})
+	}
+}
+
+// Open returns L with the common factors cancelled, the feedback sign
+// folded in (the loop closes as 1 + L = 0).
+func (l *Loop) Open() Factored { return l.open }
+
+// Written returns L as written (nothing cancelled), sign folded in.
+func (l *Loop) Written() Factored { return l.full }
+
+// Common returns the exact closed-loop poles taken out as common factors.
+func (l *Loop) Common() []Pole { return l.common }
+
+// At evaluates the cancelled L at z, factor by factor.
+func (l *Loop) At(z complex128) complex128 { return l.open.At(z) }
+
+// Order is the number of closed-loop poles.
+func (l *Loop) Order() int { return len(l.full.Poles) }
+
+// ErrIllPosed reports an algebraic loop with 1 + L(∞) = 0.
+var ErrIllPosed = errors.New("lti: ill-posed algebraic loop (1 + L(∞) = 0)")
+
+// Closed returns the state-space model of the cancelled loop closed by
+// u = −y (1 + L = 0): its eigenvalues are the closed-loop poles other than
+// the common ones.
+func (l *Loop) Closed() (System, error) {
+	if l.open.RelativeDegree() < 0 {
+		return System{}, errors.New("lti: L has more zeros than poles (non-causal)")
+	}
+	s := Realize(l.open)
+	cl, ok := Feedback(s, System{D: 1}, 1)
+	if !ok {
+		return System{}, ErrIllPosed
+	}
+	return cl, nil
+}
+
+// Poles returns every closed-loop pole with its bound, largest radius
+// first: the common factors (exact) and the eigenvalues of Closed.
+func (l *Loop) Poles() ([]Pole, error) {
+	out := append([]Pole(nil), l.common...)
+	if l.open.Gain != 0 {
+		cl, err := l.Closed()
+		if err != nil {
+			return nil, err
+		}
+		ps, err := Eigen(cl.A, cl.N, l.err)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, ps...)
+	}
+	SortPoles(out)
+	return out, nil
+}
+
+// Verdict is the loop's stability as the poles' bounds decide it.
+type Verdict int
+
+const (
+	Stable   Verdict = iota + 1 // every pole certainly inside (by tol)
+	Marginal                    // none certainly outside, some on the circle
+	Unstable                    // some pole certainly outside
+	// Undecided: no pole is certainly outside or on the circle, and some
+	// pole's bound straddles the circle.
+	Undecided
+)
+
+// Decide returns the verdict over poles with on-circle tolerance tol, and
+// the first pole that decides it (or leaves it undecided); -1 when stable.
+func Decide(poles []Pole, tol float64) (Verdict, int) {
+	undecided, on := -1, -1
+	for i, p := range poles {
+		switch p.Place(tol) {
+		case Outside:
+			return Unstable, i
+		case OnCircle:
+			if on < 0 {
+				on = i
+			}
+		case Unknown:
+			if undecided < 0 {
+				undecided = i
+			}
+		}
+	}
+	switch {
+	case on >= 0:
+		return Marginal, on
+	case undecided >= 0:
+		return Undecided, undecided
+	}
+	return Stable, -1
+}
+
+// Factors returns the cancelled L in the frequency package's form, with
+// the closed-loop poles (for the grid and the peak sensitivity).
+func (l *Loop) Factors(poles []Pole) freq.Factors {
+	f := freq.Factors{Gain: l.open.Gain, Zeros: l.open.Zeros, Poles: l.open.Poles}
+	for _, p := range poles {
+		f.Closed = append(f.Closed, p.Z)
+	}
+	return f
+}
+
+// Margins computes the margins on the cancelled L, block by block.
+func (l *Loop) Margins(T float64, poles []Pole) (freq.Margins, error) {
+	return freq.ComputeFactors(l.Factors(poles), T)
+}
+
+// Step simulates the unit step response, reference to the forward path's
+// output, on the state-space model of the whole loop as written (nothing
+// cancelled: a cancelled pair may still shape the output), for a loop
+// whose largest pole radius is maxRadius < 1.
+func (l *Loop) Step(T, maxRadius float64) (step.Result, error) {
+	if !(T > 0) || math.IsInf(T, 0) {
+		return step.Result{}, fmt.Errorf("lti: sample period %v s must be finite and positive", T)
+	}
+	if !(maxRadius >= 0 && maxRadius < 1) {
+		return step.Result{}, fmt.Errorf("lti: largest pole radius %v is not in [0, 1): the loop is not stable", maxRadius)
+	}
+	g, h := Const(1), Const(1)
+	for _, b := range l.Forward {
+		g = g.Mul(b)
+	}
+	for _, b := range l.Feedback {
+		h = h.Mul(b)
+	}
+	if g.RelativeDegree() < 0 || h.RelativeDegree() < 0 {
+		return step.Result{}, errors.New("lti: a path has more zeros than poles (non-causal)")
+	}
+	cl, ok := Feedback(Realize(g), Realize(h), l.sigma)
+	if !ok {
+		return step.Result{}, ErrIllPosed
+	}
+	final, err := dcGain(g, h, l.sigma)
+	if err != nil {
+		return step.Result{}, err
+	}
+	K, clamped := step.Horizon(cl.N, maxRadius)
+	y, err := simulate(cl, K)
+	if err != nil {
+		return step.Result{}, err
+	}
+	return step.FromSamples(y, T, final, clamped)
+}
+
+// dcGain is T(1) = G(1)/(1 + σG(1)H(1)) from the factors, as
+// N_g D_h / (D_g D_h + σ N_g N_h) at z = 1 (finite with integrators).
+func dcGain(g, h Factored, sigma float64) (float64, error) {
+	ng, dg := g.ND(1)
+	nh, dh := h.ND(1)
+	den := dg*dh + complex(sigma, 0)*ng*nh
+	if den == 0 {
+		return 0, errors.New("lti: the closed loop has a pole at z = 1: not stable")
+	}
+	v := real(ng * dh / den)
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return 0, errors.New("lti: the DC gain overflows: a pole at (or within rounding of) z = 1")
+	}
+	return v, nil
+}
+
+// simulate runs x[k+1] = A x[k] + B, y[k] = C x[k] + D from x = 0 for K
+// samples.
+func simulate(s System, K int) ([]float64, error) {
+	n := s.N
+	x, nx := make([]float64, n), make([]float64, n)
+	y := make([]float64, K)
+	for k := 0; k < K; k++ {
+		v := s.D
+		for i, c := range s.C {
+			v += c * x[i]
+		}
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			return nil, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
+		}
+		y[k] = v
+		for i := 0; i < n; i++ {
+			acc := s.B[i]
+			row := s.A[i*n : (i+1)*n]
+			for j, a := range row {
+				acc += a * x[j]
+			}
+			nx[i] = acc
+		}
+		x, nx = nx, x
+	}
+	return y, nil
+}

@@ -1,0 +1,484 @@
+package analysis
+
+import (
+	"encoding/binary"
+	"math"
+	"sort"
+	"sync"
+
+	"ringside/analysis/poly"
+	"ringside/analysis/step"
+	"ringside/syntax"
+)
+
+// StepSamplesKept is how many samples of a loop's step response a result
+// keeps: those a view shows (one and a half settling times, at least 20,
+// at most 2,000: what a plot draws). The step figures are read off the
+// whole simulation before it is cut.
+func StepSamplesKept(st *step.Result) int {
+	n := len(st.Samples)
+	k := n
+	if st.Settled && st.T > 0 {
+		k = int(math.Ceil(1.5 * st.SettlingS / st.T))
+	}
+	return min(max(k, 20), n, 2000)
+}
+
+// trimStep cuts a loop's step samples to StepSamplesKept, so that results
+// (the command line's, an editor's memo) hold what views need, not the
+// whole horizon of a slow loop (up to 100,000 samples).
+func trimStep(l *Loop) {
+	if l == nil || l.Step == nil {
+		return
+	}
+	st := *l.Step
+	st.Samples = append([]float64(nil), st.Samples[:StepSamplesKept(&st)]...)
+	l.Step = &st
+}
+
+// Memo keeps loop results and gain limits between checks of the same
+// files, so that an edit re-analyses only the loops whose inputs changed.
+// An entry is found by a key of exactly what the result depends on: the
+// loop statement as written, each path element's declaration as written
+// and its transfer function's coefficients, the gains it depends on, the
+// sample period and the options. A Memo holds, per file, only what the
+// latest finished check of that file used, so it never grows beyond the
+// results of the files in use. It is safe for concurrent checks; the zero
+// value is not usable, call NewMemo. A nil *Memo memoises nothing.
+type Memo struct {
+	mu      sync.Mutex
+	byPath  map[string]*memoFile
+	commits uint64
+}
+
+// NewMemo returns an empty memo.
+func NewMemo() *Memo { return &Memo{byPath: map[string]*memoFile{}} }
+
+// memoFiles is how many files' results a Memo keeps: the few being edited
+// (a result of 200 loops holds about 1 MB).
+const memoFiles = 4
+
+type memoFile struct {
+	used  uint64 // commit count when last committed
+	loops map[string]*loopEntry
+	gains map[string]*GainLimits
+}
+
+func newMemoFile() *memoFile {
+	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}}
+}
+
+// memoRun is one check's view of the memo: what the previous check of the
+// file kept, and what this one uses (kept when it finishes).
+type memoRun struct {
+	m         *Memo
+	path      string
+	old, next *memoFile
+	mu        sync.Mutex
+	// keys of the loops of this check, for the gain-limit keys.
+	loopKeys map[*Loop]string
+}
+
+func (m *Memo) begin(path string) *memoRun {
+	if m == nil {
+		return nil
+	}
+	m.mu.Lock()
+	old := m.byPath[path]
+	m.mu.Unlock()
+	if old == nil {
+		old = newMemoFile()
+	}
+	return &memoRun{m: m, path: path, old: old, next: newMemoFile(), loopKeys: map[*Loop]string{}}
+}
+
+// commit makes this check's entries the file's memo.
+func (r *memoRun) commit() {
+	if r == nil {
+		return
+	}
+	r.m.mu.Lock()
+	defer r.m.mu.Unlock()
+	r.m.commits++
+	r.next.used = r.m.commits
+	r.m.byPath[r.path] = r.next
+	for len(r.m.byPath) > memoFiles {
+		oldest := ""
+		for p, f := range r.m.byPath {
+			if oldest == "" || f.used < r.m.byPath[oldest].used {
+				oldest = p
+			}
+		}
+		delete(r.m.byPath, oldest)
+	}
+}
+
+// Forget drops what the memo holds for path (a closed document).
+func (m *Memo) Forget(path string) {
+	if m == nil {
+		return
+	}
+	m.mu.Lock()
+	delete(m.byPath, path)
+	m.mu.Unlock()
+}
+
+// loopEntry is a loop's result as one check computed it, with the spans of
+// its diagnostics made relative, so that a later check of a file where the
+// loop moved can place them.
+type loopEntry struct {
+	loop    *Loop
+	diags   []Diagnostic
+	pending []pendingFix // diag indexes into diags
+	refs    []spanRef    // one per span in diags, in walk order
+}
+
+// spanRef places a span relative to the statement it lies in: the loop
+// (decl "") or the declaration of a path element.
+type spanRef struct {
+	decl string
+	off  syntax.Pos // span.From − statement start
+}
+
+// keyBuf builds a memo key.
+type keyBuf []byte
+
+func (k *keyBuf) str(s string) {
+	*k = binary.AppendUvarint(*k, uint64(len(s)))
+	*k = append(*k, s...)
+}
+
+func (k *keyBuf) num(f float64) { *k = binary.LittleEndian.AppendUint64(*k, math.Float64bits(f)) }
+
+func (k *keyBuf) poly(p poly.Poly) {
+	*k = binary.AppendUvarint(*k, uint64(len(p)))
+	for _, v := range p {
+		k.num(v)
+	}
+}
+
+func (k *keyBuf) options(o Options) {
+	k.num(o.GainMarginDB)
+	k.num(o.PhaseMarginDeg)
+	k.num(o.Tolerance)
+}
+
+// stmtText is the source of a statement as written.
+func stmtText(src []byte, n syntax.Node) string {
+	if n == nil || int(n.End()) > len(src) || n.Pos() < 0 || n.Pos() > n.End() {
+		return ""
+	}
+	return string(src[n.Pos():n.End()])
+}
+
+// loopKey is the key of a loop's analysis, or "" when the loop is not to be
+// memoised (an element that does not resolve: its messages depend on the
+// whole scope).
+func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
+	sh := shapeOf(ls)
+	fwd, ok1 := c.elements(ev, sh.fwd, false)
+	fb, ok2 := c.elements(ev, sh.fb, false)
+	if !ok1 || !ok2 || c.env.Options.Quick {
+		return ""
+	}
+	var k keyBuf
+	k.str(c.res.Path)
+	k.str(stmtText(c.root.file.Src, ls))
+	k.num(c.res.SampleT)
+	k.options(c.env.Options)
+	for _, e := range append(fwd, fb...) {
+		k.str(e.name)
+		k.str(e.decl.Path)
+		k.str(c.declText(e.decl))
+		k.poly(e.tf.Num)
+		k.poly(e.tf.Den)
+		if e.block != nil {
+			for _, g := range sortedKeys(ev.memo[e.name].gains) {
+				k.str(g)
+			}
+		}
+		k.str("")
+	}
+	return string(k)
+}
+
+// declStmt is the statement declaring d.
+func declStmt(d *Decl) syntax.Node {
+	switch {
+	case d.Block != nil && d.Block.Stmt != nil:
+		return d.Block.Stmt
+	case d.Gain != nil && d.Gain.Stmt != nil:
+		return d.Gain.Stmt
+	}
+	return nil
+}
+
+func (c *checker) declText(d *Decl) string {
+	f := c.res.Files[d.Path]
+	if d.Path == c.res.Path {
+		f = c.root.file
+	}
+	n := declStmt(d)
+	if f == nil || n == nil {
+		return ""
+	}
+	return stmtText(f.Src, n)
+}
+
+// memoLoop analyses a loop through the memo: a hit is the stored result
+// placed in this file; a miss runs analyse and stores what it reported.
+func (c *checker) memoLoop(ev *evaluator, ls *syntax.LoopStmt, compute func() *Loop) *Loop {
+	analyse := func() *Loop {
+		l := compute()
+		trimStep(l)
+		return l
+	}
+	if c.memo == nil {
+		return analyse()
+	}
+	key := c.loopKey(ev, ls)
+	if key == "" {
+		return analyse()
+	}
+	c.memo.mu.Lock()
+	e := c.memo.next.loops[key]
+	if e == nil {
+		e = c.memo.old.loops[key]
+	}
+	c.memo.mu.Unlock()
+	if e != nil {
+		if l, ok := c.replay(e, ls); ok {
+			c.memo.mu.Lock()
+			c.memo.next.loops[key] = e
+			c.memo.loopKeys[l] = key
+			c.memo.mu.Unlock()
+			return l
+		}
+	}
+	l := analyse()
+	if e, ok := c.record(l, ls); ok {
+		c.memo.mu.Lock()
+		c.memo.next.loops[key] = e
+		c.memo.loopKeys[l] = key
+		c.memo.mu.Unlock()
+	}
+	return l
+}
+
+// eachSpan calls f with a pointer to every span of a diagnostic, with the
+// path it belongs to, in a fixed order.
+func eachSpan(x *Diagnostic, f func(path string, s *syntax.Span)) {
+	f(x.Path, &x.Span)
+	for i := range x.Related {
+		f(x.Related[i].Path, &x.Related[i].Span)
+	}
+	for i := range x.Fixes {
+		for j := range x.Fixes[i].Edits {
+			e := &x.Fixes[i].Edits[j]
+			f(e.Path, &e.Span)
+		}
+	}
+}
+
+// record turns what one loop's analysis reported (the checker's own lists)
+// into an entry; false when a span lies outside the loop and every path
+// element's declaration.
+func (c *checker) record(l *Loop, ls *syntax.LoopStmt) (*loopEntry, bool) {
+	e := &loopEntry{loop: l, pending: c.pending}
+	for _, x := range c.diags.list {
+		e.diags = append(e.diags, cloneDiag(x))
+	}
+	ok := true
+	for i := range e.diags {
+		eachSpan(&e.diags[i], func(path string, s *syntax.Span) {
+			if path == c.res.Path && s.From >= ls.From && s.To <= ls.To {
+				e.refs = append(e.refs, spanRef{off: s.From - ls.From})
+				return
+			}
+			for _, name := range append(append([]string{}, l.Forward...), l.Feedback...) {
+				d := c.res.Scope[name]
+				if d == nil || d.Path != path {
+					continue
+				}
+				if n := declStmt(d); n != nil && s.From >= n.Pos() && s.To <= n.End() {
+					e.refs = append(e.refs, spanRef{decl: name, off: s.From - n.Pos()})
+					return
+				}
+			}
+			ok = false
+		})
+	}
+	return e, ok
+}
+
+// replay places a stored entry in this check: spans moved with their
+// statements, the loop pointing at this check's tree.
+func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
+	l := *e.loop
+	l.Stmt = ls
+	old := e.loop.Stmt
+	if len(old.Items) != len(ls.Items) {
+		return nil, false
+	}
+	l.Requirements = make([]Requirement, len(e.loop.Requirements))
+	for i, q := range e.loop.Requirements {
+		if q.Item != nil {
+			for j, it := range old.Items {
+				if it == q.Item {
+					q.Item = ls.Items[j].(*syntax.RequireItem)
+				}
+			}
+		}
+		l.Requirements[i] = q
+	}
+	diags := make([]Diagnostic, len(e.diags))
+	n := 0
+	ok := true
+	for i, x := range e.diags {
+		x = cloneDiag(x)
+		eachSpan(&x, func(_ string, s *syntax.Span) {
+			ref := e.refs[n]
+			n++
+			start := ls.From
+			if ref.decl != "" {
+				d := c.res.Scope[ref.decl]
+				st := syntax.Node(nil)
+				if d != nil {
+					st = declStmt(d)
+				}
+				if st == nil {
+					ok = false
+					return
+				}
+				start = st.Pos()
+			}
+			w := s.To - s.From
+			s.From = start + ref.off
+			s.To = s.From + w
+		})
+		diags[i] = x
+	}
+	if !ok {
+		return nil, false
+	}
+	c.diags.list = append(c.diags.list, diags...)
+	for _, p := range e.pending {
+		p.loop = &l
+		c.pending = append(c.pending, p)
+	}
+	return &l, true
+}
+
+// gainKey is the key of a gain's limits over loops, or "" when not to be
+// memoised: the gain's value and range, each loop's key, and every block
+// that depends on the gain as written with the values of what it names.
+func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl) string {
+	if c.memo == nil {
+		return ""
+	}
+	var k keyBuf
+	k.str(g.Name)
+	k.str(g.Path)
+	k.num(g.Value)
+	c.memo.mu.Lock()
+	for _, l := range loops {
+		key, ok := c.memo.loopKeys[l]
+		if !ok {
+			c.memo.mu.Unlock()
+			return ""
+		}
+		k.str(key)
+	}
+	c.memo.mu.Unlock()
+	for _, d := range dependents[g.Name] {
+		k.str(d.Name)
+		k.str(c.declText(d))
+		syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
+			ref, ok := n.(*syntax.NameRef)
+			if !ok {
+				return true
+			}
+			k.str(ref.Name)
+			if v, isGain := c.gains[ref.Name]; isGain {
+				k.num(v)
+			} else if bv := c.base.memo[ref.Name]; bv != nil {
+				k.poly(bv.tf.Num)
+				k.poly(bv.tf.Den)
+				k.poly(bv.cont.Num)
+				k.poly(bv.cont.Den)
+			}
+			return true
+		})
+	}
+	return string(k)
+}
+
+// dependents lists, per gain, the blocks in scope that depend on it.
+func (c *checker) dependents() map[string][]*Decl {
+	out := map[string][]*Decl{}
+	if c.memo == nil {
+		return out
+	}
+	for _, name := range sortedDecls(c.res.Scope) {
+		d := c.res.Scope[name]
+		if d.Block == nil {
+			continue
+		}
+		if bv := c.base.memo[name]; bv != nil {
+			for g := range bv.gains {
+				out[g] = append(out[g], d)
+			}
+		}
+	}
+	for _, ds := range out {
+		sort.Slice(ds, func(i, j int) bool { return ds[i].Name < ds[j].Name })
+	}
+	return out
+}
+
+// memoLimits computes a gain's limits through the memo.
+func (c *checker) memoLimits(g *Gain, loops []*Loop, dependents map[string][]*Decl, compute func() *GainLimits) *GainLimits {
+	key := c.gainKey(g, loops, dependents)
+	if key == "" {
+		return compute()
+	}
+	c.memo.mu.Lock()
+	lim := c.memo.next.gains[key]
+	if lim == nil {
+		lim = c.memo.old.gains[key]
+	}
+	c.memo.mu.Unlock()
+	if lim == nil {
+		lim = compute()
+	}
+	c.memo.mu.Lock()
+	c.memo.next.gains[key] = lim
+	c.memo.mu.Unlock()
+	return lim
+}
+
+// loopsByGain lists, per gain name, the analysed loops that depend on it,
+// in source order: one pass over the loops instead of one per gain.
+func loopsByGain(loops []*Loop) map[string][]*Loop {
+	out := map[string][]*Loop{}
+	for _, l := range loops {
+		if !l.OK {
+			continue
+		}
+		for _, g := range l.Gains {
+			out[g] = append(out[g], l)
+		}
+	}
+	return out
+}
+
+// cloneDiag copies a diagnostic with its own related, fix and edit lists
+// (later passes append to them).
+func cloneDiag(x Diagnostic) Diagnostic {
+	x.Related = append([]Related(nil), x.Related...)
+	x.Fixes = append([]Fix(nil), x.Fixes...)
+	for j := range x.Fixes {
+		x.Fixes[j].Edits = append([]Edit(nil), x.Fixes[j].Edits...)
+	}
+	return x
+}

@@ -1,0 +1,226 @@
+package server
+
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"go.lsp.dev/jsonrpc2"
+	"go.lsp.dev/protocol"
+
+	"ringside/syntax"
+)
+
+// Renaming k to e3 where `2k` is written must not turn it into the number
+// 2e3: the edited text reads back as the same tree with the new name.
+func TestRenameKeepsMeaning(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	src := "sample 1 ms\ngain k = 0.5\nblock c2 = 2k / (z - 0.5)\nloop l {\n  forward c2\n}\n"
+	uri := c.open("r.loop", src)
+	c.waitDiags(uri, anyDiags)
+	var we protocol.WorkspaceEdit
+	if err := c.call(protocol.MethodTextDocumentRename, protocol.RenameParams{TextDocumentPositionParams: tdp(uri, c.posOf(uri, "k =", 0, 0)), NewName: "e3"}, &we); err != nil {
+		t.Fatal(err)
+	}
+	c.applyEdit(&we)
+	out := c.text(uri)
+	if strings.Contains(out, "2e3") {
+		t.Fatalf("rename wrote a number:\n%s", out)
+	}
+	if err := syntax.SameTree([]byte(src), []byte(out), map[string]string{"k": "e3"}); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+}
+
+// The plot page is written only inside the workspace, never through a
+// symbolic link, and atomically.
+func TestPlotPageWriteConfined(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("stable.loop")
+	victim := filepath.Join(t.TempDir(), "victim.txt")
+	os.WriteFile(victim, []byte("keep me"), 0o644)
+	if err := os.Symlink(victim, filepath.Join(c.root, "stable.html")); err != nil {
+		t.Skip(err)
+	}
+	args := map[string]any{"command": plotCommand, "arguments": []any{map[string]any{"uri": uri, "write": true}}}
+	err := c.call(protocol.MethodWorkspaceExecuteCommand, args, nil)
+	if err == nil || !strings.Contains(err.Error(), "symbolic link") {
+		t.Fatalf("write through a link: %v", err)
+	}
+	if b, _ := os.ReadFile(victim); string(b) != "keep me" {
+		t.Fatalf("the link's target was overwritten: %q", b)
+	}
+	// A document outside every workspace folder gets no page beside it.
+	outside := t.TempDir()
+	out := filepath.Join(outside, "far.loop")
+	os.WriteFile(out, []byte("sample 1 ms\nblock p = 0.5/(z-0.5)\nloop l {\n  forward p\n}\n"), 0o644)
+	args["arguments"] = []any{map[string]any{"uri": pathURI(out), "write": true}}
+	if err := c.call(protocol.MethodWorkspaceExecuteCommand, args, nil); err == nil || !strings.Contains(err.Error(), "outside the workspace") {
+		t.Fatalf("write outside the workspace: %v", err)
+	}
+	if _, err := os.Stat(filepath.Join(outside, "far.html")); err == nil {
+		t.Fatal("page written outside the workspace")
+	}
+	// A plain write works and leaves no temporary file.
+	os.Remove(filepath.Join(c.root, "stable.html"))
+	var res plotResult
+	args["arguments"] = []any{map[string]any{"uri": uri, "write": true}}
+	if err := c.call(protocol.MethodWorkspaceExecuteCommand, args, &res); err != nil || len(res.Written) != 1 {
+		t.Fatalf("plain write: %v %v", err, res.Written)
+	}
+	entries, _ := os.ReadDir(c.root)
+	for _, e := range entries {
+		if strings.Contains(e.Name(), ".tmp-") {
+			t.Errorf("temporary file left: %s", e.Name())
+		}
+	}
+}
+
+// A FIFO reached by a request, or by a `use` in an open document, is
+// refused at once and says so; later requests are answered.
+func TestFIFONeverBlocks(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	fifo := filepath.Join(c.root, "pipe.loop")
+	if err := syscall.Mkfifo(fifo, 0o644); err != nil {
+		t.Skipf("no FIFOs: %v", err)
+	}
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		err := c.call(protocol.MethodTextDocumentHover, tdp(pathURI(fifo), protocol.Position{}), nil)
+		if err == nil || !strings.Contains(err.Error(), "FIFO") {
+			t.Errorf("hover on a FIFO: %v", err)
+		}
+		uri := c.open("user.loop", "use \"pipe.loop\"\nsample 1 ms\n")
+		ds := c.waitDiags(uri, hasCode("use-not-found"))
+		if d := findCode(ds, "use-not-found"); !strings.Contains(d.Message, "FIFO") {
+			t.Errorf("use of a FIFO: %s", d.Message)
+		}
+		var syms []protocol.SymbolInformation
+		if err := c.call(protocol.MethodWorkspaceSymbol, map[string]any{"query": ""}, &syms); err != nil {
+			t.Errorf("workspace symbols: %v", err)
+		}
+		var refs []protocol.Location
+		if err := c.call(protocol.MethodTextDocumentReferences, map[string]any{"textDocument": map[string]any{"uri": c.uri("stable.loop")},
+			"position": protocol.Position{Line: 0}, "context": map[string]any{"includeDeclaration": true}}, &refs); err != nil {
+			t.Errorf("references: %v", err)
+		}
+	}()
+	select {
+	case <-done:
+	case <-time.After(waitTimeout):
+		t.Fatal("a FIFO held the server")
+	}
+}
+
+// bigFile is n gain lines: a large document for the symbol requests.
+func bigFile(n int) string {
+	var b strings.Builder
+	for i := range n {
+		fmt.Fprintf(&b, "gain g%d = %d\n", i, i+1)
+	}
+	return b.String()
+}
+
+// A long request does not hold the read loop: a hover sent after the
+// symbols of a large document is answered first.
+func TestLongRequestDoesNotHoldReadLoop(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	big := c.open("big.loop", bigFile(55000))
+	small := c.open("stable.loop")
+	order := make(chan string, 2)
+	go func() {
+		c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil)
+		order <- "symbols"
+	}()
+	time.Sleep(5 * time.Millisecond) // let the symbols request go first on the wire
+	c.call(protocol.MethodTextDocumentHover, tdp(small, c.posOf(small, "loop", 0, 6)), nil)
+	order <- "hover"
+	if first := <-order; first != "hover" {
+		t.Fatalf("%s answered first: the read loop was held", first)
+	}
+	<-order
+}
+
+// An edit of a document cancels the requests still working on it
+// (ContentModified), rather than answering for text that is gone.
+func TestEditSupersedesRequest(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := bigFile(55000)
+	big := c.open("big.loop", text)
+	errc := make(chan error, 1)
+	go func() { errc <- c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil) }()
+	time.Sleep(5 * time.Millisecond)
+	c.replace(big, "gain a = 1\n")
+	err := <-errc
+	var je *jsonrpc2.Error
+	if err == nil || !asRPC(err, &je) || je.Code != -32801 {
+		t.Fatalf("symbols of a document edited meanwhile: %v, want ContentModified", err)
+	}
+}
+
+func asRPC(err error, je **jsonrpc2.Error) bool {
+	e, ok := err.(*jsonrpc2.Error)
+	*je = e
+	return ok
+}
+
+// A refused setting is shown to the user and the old settings stay.
+func TestBadSettingsShown(t *testing.T) {
+	c := newClient(t, clientOptions{init: map[string]any{"initializationOptions": map[string]any{"gainMarginDb": "NaN"}}})
+	select {
+	case m := <-c.shown:
+		if !strings.Contains(m, "gainMarginDb") {
+			t.Errorf("message %q", m)
+		}
+	case <-time.After(waitTimeout):
+		t.Fatal("no window/showMessage for a bad initializationOption")
+	}
+	for _, bad := range []map[string]any{{"phaseMarginDeg": 400}, {"tolerance": -1}, {"ringside": map[string]any{"trigger": "sometimes"}}} {
+		c.notify(protocol.MethodWorkspaceDidChangeConfiguration, map[string]any{"settings": bad})
+		select {
+		case m := <-c.shown:
+			if !strings.Contains(m, "stay") {
+				t.Errorf("message %q", m)
+			}
+		case <-time.After(waitTimeout):
+			t.Fatalf("no window/showMessage for %v", bad)
+		}
+	}
+	c.mu.Lock()
+	st := c.server.ses.settings
+	c.mu.Unlock()
+	if st != defaultSettings() {
+		t.Errorf("settings changed to %+v", st)
+	}
+}
+
+// A lone CR ends a line (LSP 3.17): an edit at line 1 of a CR-only
+// document lands on line 1.
+func TestCROnlyDocument(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("cr.loop", "sample 1 ms\rgain k = 0.5\rblock p = k/(z - 0.5)\rloop l {\r  forward p\r}\r")
+	c.edit(uri, protocol.Range{Start: protocol.Position{Line: 1, Character: 9}, End: protocol.Position{Line: 1, Character: 12}}, "0.25")
+	var doc json.RawMessage
+	if err := c.call("ringside/documentText", map[string]any{"uri": uri}, &doc); err != nil {
+		t.Fatal(err)
+	}
+	var got struct {
+		Text string `json:"text"`
+	}
+	json.Unmarshal(doc, &got)
+	if !strings.Contains(got.Text, "gain k = 0.25\r") {
+		t.Fatalf("edit landed elsewhere: %q", got.Text)
+	}
+	ds := c.waitDiags(uri, anyDiags)
+	for _, d := range ds {
+		if d.Severity == protocol.DiagnosticSeverityError {
+			t.Errorf("error in a CR-only file: %s", d.Message)
+		}
+	}
+}

@@ -1,0 +1,111 @@
+package syntax
+
+import (
+	"strings"
+	"testing"
+)
+
+// Renaming k to e3 in `2k` must not give the number 2e3: the rename keeps
+// the tree (here by a space) or is refused.
+func TestRenameKeepsTheTree(t *testing.T) {
+	src := []byte("gain k = 0.5\nblock c2 = 2k\nblock c3 = .5k + k\nloop l {\n  forward c2 k\n}\n")
+	f, _ := Parse("", src)
+	spans := nameSpans(f)["k"]
+	edits, err := Rename(src, spans, "k", "e3")
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, _ := ApplyEdits(src, edits)
+	if strings.Contains(string(out), "2e3") || strings.Contains(string(out), ".5e3") {
+		t.Fatalf("rename re-lexed a number:\n%s", out)
+	}
+	if err := SameTree(src, out, map[string]string{"k": "e3"}); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	for _, bad := range []string{"s", "z", "via", "max", "loop", "2x", "a-b", "", "é"} {
+		if _, err := Rename(src, spans, "k", bad); err == nil {
+			t.Errorf("rename to %q accepted", bad)
+		}
+	}
+}
+
+func TestSameTreeSeesChanges(t *testing.T) {
+	a := []byte("block b = 2 k\n")
+	for _, b := range []string{"block b = 2e3\n", "block b = 2 + k\n", "block b = 2 k via zoh\n", "block b = 2 k\nblock c = 1\n"} {
+		if SameTree(a, []byte(b), map[string]string{"k": "e3"}) == nil {
+			t.Errorf("%q read as the same tree as %q", b, a)
+		}
+	}
+	if err := SameTree(a, []byte("block   b = 2*e3 # note\n"), map[string]string{"k": "e3"}); err != nil {
+		t.Errorf("layout and '*' versus side by side: %v", err)
+	}
+}
+
+// A fix that leaves a syntax error, or edits the byte order mark, is refused.
+func TestCheckFix(t *testing.T) {
+	src := []byte("\ufeffgain k = 1\nblock p = k/(z - 0.5)\n")
+	f, _ := Parse("", src)
+	ok := []Edit{{Span{3, 3}, "sample 1 ms\n"}}
+	if err := CheckFix(f, ok); err != nil {
+		t.Errorf("sample line after the mark refused: %v", err)
+	}
+	for _, bad := range [][]Edit{
+		{{Span{0, 0}, "sample 1 ms\n"}},                    // before the mark
+		{{Span{12, 12}, "gain = \n"}},                      // a broken statement
+		{{Span{Pos(len(src) - 2), Pos(len(src) - 1)}, ""}}, // drops ')'
+	} {
+		if err := CheckFix(f, bad); err == nil {
+			t.Errorf("fix %+v accepted", bad)
+		}
+	}
+}
+
+// "\n", "\r\n" and a lone "\r" are all line ends (LSP 3.17); a leading byte
+// order mark has no column on the command line.
+func TestLinesLineEnds(t *testing.T) {
+	for _, src := range []string{"ab\ncd\nef", "ab\r\ncd\r\nef", "ab\rcd\ref", "ab\ncd\ref", "\ufeffab\rcd\r\nef"} {
+		l := NewLines([]byte(src))
+		if l.Count() != 3 {
+			t.Errorf("%q: %d lines, want 3", src, l.Count())
+			continue
+		}
+		e := Pos(strings.Index(src, "e"))
+		if line, col := l.LineCol(e); line != 3 || col != 1 {
+			t.Errorf("%q: e at %d:%d, want 3:1", src, line, col)
+		}
+		if line, col := l.LineCol(Pos(strings.Index(src, "a"))); line != 1 || col != 1 {
+			t.Errorf("%q: a at %d:%d, want 1:1 (the mark has no column)", src, line, col)
+		}
+		// The editor counts a mark it sent as a character of its text.
+		want := 1 + strings.Count(src, "\ufeff")
+		if ln, col := l.UTF16(Pos(strings.Index(src, "b"))); ln != 0 || col != want {
+			t.Errorf("%q: b at %d:%d (UTF-16), want 0:%d", src, ln, col, want)
+		}
+		if end := l.LineEnd(0); src[end-1] != 'b' {
+			t.Errorf("%q: line 0 ends at %d", src, end)
+		}
+	}
+	f, errs := Parse("", []byte("gain a = 1\rblock b = a z^-1\r# note\rloop l {\r  forward b\r}\r"))
+	if len(errs) > 0 || len(f.Stmts) != 3 {
+		t.Fatalf("CR-only file: %d statements, errors %v", len(f.Stmts), errs)
+	}
+}
+
+func TestSyntaxErrorCap(t *testing.T) {
+	_, errs := Parse("", []byte(strings.Repeat("@", 100000)))
+	if len(errs) != MaxErrors+1 || !strings.Contains(errs[MaxErrors].Msg, "99899 more") {
+		t.Fatalf("%d errors, last %q", len(errs), errs[len(errs)-1].Msg)
+	}
+}
+
+func TestFormatKeepsMarkAndLineBreaks(t *testing.T) {
+	out, err := Format([]byte("\ufeffgain  a = 1\rblock b = a z^-1\r"))
+	if err != nil || !strings.HasPrefix(string(out), "\ufeffgain a = 1\n") {
+		t.Fatalf("%q, %v", out, err)
+	}
+	for src, want := range map[string]string{"a\r\nb": "\r\n", "a\rb\n": "\r", "a\nb\r": "\n", "ab": "\n"} {
+		if got := LineBreak([]byte(src)); got != want {
+			t.Errorf("LineBreak(%q) = %q, want %q", src, got, want)
+		}
+	}
+}
