@@ -171,3 +171,23 @@ func TestImportDirection(t *testing.T) {
 		return strings.HasPrefix(p, "ringside/server") || strings.HasPrefix(p, "go.lsp.dev") || strings.Contains(p, "jsonrpc")
 	})
 }
+
+// failWriter fails every write, like a full disk or a closed pipe.
+type failWriter struct{}
+
+func (failWriter) Write([]byte) (int, error) { return 0, os.ErrClosed }
+
+// Every output path reports a failed write or encoding with exit status 2;
+// nothing vanishes silently.
+func TestOutputErrorsExit2(t *testing.T) {
+	dir := t.TempDir()
+	f := filepath.Join(dir, "a.loop")
+	os.WriteFile(f, []byte("sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n}\n"), 0o644)
+	for _, args := range [][]string{{"check", "--root", dir, f}, {"check", "--format", "json", "--root", dir, f},
+		{"check", "--format", "sarif", "--root", dir, f}, {"fmt", f}, {"plot", "--root", dir, f}} {
+		var errb bytes.Buffer
+		if code := run(args, nil, failWriter{}, &errb); code != 2 || errb.Len() == 0 {
+			t.Errorf("%v: exit %d, stderr %q", args, code, errb.String())
+		}
+	}
+}

@@ -98,3 +98,20 @@ func TestCorpusIsValid(t *testing.T) {
 		t.Errorf("corpus has %d of %d stable loops; want a mix", stable, len(r.Loops))
 	}
 }
+
+// BenchmarkCheckEdit measures what an editor pays after one gain of a
+// 200-loop file changes: a check through the memo, where every loop but
+// the edited one (and every gain but the edited one) is reused.
+func BenchmarkCheckEdit(b *testing.B) {
+	src := withDelay(corpus(200, 1))
+	i := strings.Index(src, "gain kp100 = ")
+	j := i + strings.IndexByte(src[i:], '\n')
+	texts := [][]byte{[]byte(src[:i] + "gain kp100 = 0.45" + src[j:]), []byte(src[:i] + "gain kp100 = 0.4" + src[j:])}
+	memo := NewMemo()
+	env := Env{Roots: []string{"/bench"}, Memo: memo}
+	Check(context.Background(), "/bench/corpus.loop", texts[1], env)
+	b.ResetTimer()
+	for n := 0; n < b.N; n++ {
+		Check(context.Background(), "/bench/corpus.loop", texts[n%2], env)
+	}
+}

@@ -102,7 +102,7 @@ func (c *checker) continuousChecks(b *Block) {
 		return
 	}
 	nyq := math.Pi / c.res.SampleT // rad/s
-	pr, err := roots.Find(b.Cont.Den)
+	pr, err := c.findRoots(b.Cont.Den)
 	if err != nil {
 		return
 	}
@@ -121,8 +121,8 @@ func (c *checker) commonRoots(b *Block, r poly.Rational, v byte, span syntax.Spa
 	if r.Num.Degree() < 1 || r.Den.Degree() < 1 {
 		return
 	}
-	nr, err1 := roots.Find(r.Num)
-	dr, err2 := roots.Find(r.Den)
+	nr, err1 := c.findRoots(r.Num)
+	dr, err2 := c.findRoots(r.Den)
 	if err1 != nil || err2 != nil {
 		return
 	}

@@ -121,7 +121,7 @@ func (c *checker) run(ctx context.Context) {
 			loops[i] = &Loop{Name: ls.Name.Name, Stmt: ls, NotReached: true}
 			return
 		}
-		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.loop(ev, ls) })
+		loops[i] = lc.memoLoop(ev, ls, func() *Loop { return lc.guardedLoop(ev, ls) })
 	})
 	for i, lc := range own {
 		base := len(c.diags.list)
@@ -136,6 +136,22 @@ func (c *checker) run(ctx context.Context) {
 	c.quietIntegrators()
 	c.gainLimits(ctx)
 	c.summaries()
+}
+
+// guardedLoop analyses one loop; a panic inside the numerics (a bug, or a
+// library failing on a pathological matrix) becomes an error on the loop
+// with no verdict, never a crash of the check or a guessed figure.
+func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
+	defer func() {
+		if r := recover(); r != nil {
+			c.diags.list = nil
+			c.pending = nil
+			c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric,
+				fmt.Sprintf("loop %s: the analysis failed inside its numerics (%v); no verdict: please report this file", ls.Name.Name, r))
+			l = &Loop{Name: ls.Name.Name, Stmt: ls}
+		}
+	}()
+	return c.loop(ev, ls)
 }
 
 // usedBlocks fills in the blocks of used files (transfer function, poles,
@@ -158,7 +174,7 @@ func (c *checker) usedBlocks(ev *evaluator) {
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
-	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags}
+	return &evaluator{scope: c.res.Scope, gains: gains, t: c.res.SampleT, memo: map[string]*blockValue{}, diags: diags, numbers: c.memo}
 }
 
 // samples reads the sample period: this file's own, else one shared by the
@@ -341,11 +357,11 @@ func (c *checker) gainValues() {
 		switch {
 		case g.Min != nil && g.Max != nil && *g.Min > *g.Max:
 			c.diags.add(g.Path, syntax.Span{From: s.Min.From, To: s.Max.To}, Error, CodeGainRangeEmpty,
-				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, fmtNum(*g.Min), fmtNum(*g.Max)))
+				fmt.Sprintf("gain %s has min %s above max %s: no value is allowed", name, s.Min, s.Max))
 		case g.Min != nil && g.Value < *g.Min:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, fmtNum(g.Value), fmtNum(*g.Min)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is below its declared min %s", name, s.Value, s.Min))
 		case g.Max != nil && g.Value > *g.Max:
-			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, fmtNum(g.Value), fmtNum(*g.Max)))
+			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, s.Value, s.Max))
 		}
 	}
 }

@@ -225,6 +225,7 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 		{"via", "sample 1 ms\nblock p = 5 / (s + 5)\nloop l {\n  forward p\n  feedback d\n}\nblock d = z^-1\n", CodeNoVia},
 		{"sample", "block p = 5 / (s + 5) via zoh\n", CodeNoSample},
 		{"sample after BOM", "\ufeffblock p = 5 / (s + 5) via zoh\n", CodeNoSample},
+		{"flip sign in a CRLF file", "sample 1 ms\r\nblock p = -0.8 / (z - 0.5)\r\nloop l {\r\n  forward p\r\n}\r\n", CodePoleOutside},
 		{"sample in a CR file", "block p = 5 / (s + 5) via zoh\rloop l {\r  forward p\r}\r", CodeNoSample},
 		{"flip sign", "sample 1 ms\nblock p = 0.8 / (z - 0.5)\nloop l {\n  forward p\n  sign positive\n}\n", CodePoleOutside},
 		{"sign", "sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n  sign negtive\n}\n", CodeBadSign},
@@ -241,6 +242,9 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 			}
 			for _, fx := range d.Fixes {
 				out := applyEdits(c.src, fx.Edits)
+				if strings.Contains(c.src, "\r\n") && strings.Count(out, "\n") != strings.Count(out, "\r\n") {
+					t.Errorf("fix %q mixed line breaks into a CRLF file: %q", fx.Title, out)
+				}
 				if _, errs := syntax.Parse("", []byte(out)); len(errs) > 0 {
 					t.Errorf("fix %q gave text that does not parse: %v\n%q", fx.Title, errs, out)
 				}

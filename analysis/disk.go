@@ -1,12 +1,13 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
 
 	"ringside/analysis/diskmargin"
-	"ringside/analysis/poly"
+	"ringside/analysis/lti"
 )
 
 // DiskMargin is a loop's symmetric disk margin and the frequency where
@@ -16,26 +17,26 @@ type DiskMargin struct {
 	PeakHz float64
 }
 
-// openResponse is the evaluator of L(e^{jθ}) the disk margin reads: here
-// the open loop's numerator and denominator; any evaluation of the loop
-// (factored blocks, a state-space form) can take its place.
-func openResponse(open poly.Rational) diskmargin.Response {
-	return func(th float64) complex128 {
-		z := cmplx.Rect(1, th)
-		return open.Num.EvalC(z) / open.Den.EvalC(z)
-	}
+// modelResponse is the evaluator of L(e^{jθ}) the disk margin reads: the
+// loop's model, block by block (cancelled pairs cancel exactly); any other
+// evaluation of the loop can take its place.
+func modelResponse(m *lti.Loop) diskmargin.Response {
+	return func(th float64) complex128 { return m.At(cmplx.Rect(1, th)) }
 }
 
 // diskMargin computes the symmetric disk margin of a stable loop.
 func (c *checker) diskMargin(l *Loop) {
-	if !l.Stable {
+	if !l.Stable || l.Model == nil {
 		return
 	}
 	poles := make([]complex128, len(l.Poles))
 	for i, p := range l.Poles {
 		poles[i] = p.Z
 	}
-	m, err := diskmargin.Compute(openResponse(l.Open), poles)
+	m, err := diskmargin.Compute(modelResponse(l.Model), poles)
+	if errors.Is(err, diskmargin.ErrUnbounded) {
+		return // no finite figure: the JSON has null, the loop is static
+	}
 	if err != nil {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: disk margin could not be computed: %v", l.Name, err))
 		return

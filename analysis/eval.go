@@ -30,6 +30,8 @@ type evaluator struct {
 	sweepGain string
 	sweepK    float64
 	base      *evaluator
+	// numbers keeps discretizations between checks (nil: none).
+	numbers *memoRun
 	// assigned sets several gains at once (a point of a box of varying
 	// gains); like a sweep, blocks that depend on none are taken from base.
 	assigned map[string]float64
@@ -187,7 +189,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			}
 			opt.PrewarpHz = hz
 		}
-		tf, err := discretize.Discretize(r, opt)
+		tf, err := ev.numbers.discretize(r, opt)
 		if err != nil {
 			ev.report(d.Path, st.Via.Span, Error, CodeDiscretize, fmt.Sprintf("cannot discretize block %s by %s: %v", d.Name, m.Title(), err))
 			return bv

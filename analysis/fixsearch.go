@@ -3,7 +3,6 @@ package analysis
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
 	"sort"
 	"strconv"
@@ -110,7 +109,9 @@ func (c *checker) trialAt(name string, k float64, loops []*Loop) trial {
 	ev := c.base.sweep(name, k)
 	for _, l := range loops {
 		lc := *c
-		lc.diags, lc.pending, lc.trial = &diagList{}, nil, true
+		// A trial's numbers are for this search only: the memo keeps what
+		// the next check may read again, not every trial value's roots.
+		lc.diags, lc.pending, lc.trial, lc.memo = &diagList{}, nil, true, nil
 		tl := lc.loop(ev, l.Stmt)
 		if !tl.OK || !tl.Stable {
 			t.stable = false
@@ -192,22 +193,20 @@ func scanPoints(lo, hi float64) []float64 {
 	return pts
 }
 
-// scan evaluates the scan points nearest to k0 first, a processor's worth
-// at a time, and stops after the first batch holding a value that meets
-// every requirement (the nearest such point is then known); only when
-// none does is the whole range scanned, to find the best compromise.
-// Points not evaluated are left out; the result is in ascending order.
+// scan evaluates the scan points nearest to k0 first and stops at the
+// first value that meets every requirement (the nearest such point is then
+// known); only when none does is the whole range scanned, to find the best
+// compromise. Trials run one at a time: the loops of the file are already
+// analysed side by side, and a search's garbage stays small. Points not
+// evaluated are left out; the result is in ascending order.
 func scan(pts []float64, k0 float64, at func(float64) trial) []trial {
 	order := append([]float64(nil), pts...)
 	sort.SliceStable(order, func(i, j int) bool { return math.Abs(order[i]-k0) < math.Abs(order[j]-k0) })
-	batch := max(runtime.GOMAXPROCS(0), 2)
 	var done []trial
-	for from := 0; from < len(order); from += batch {
-		part := order[from:min(from+batch, len(order))]
-		ts := make([]trial, len(part))
-		parallel(len(part), func(i int) { ts[i] = at(part[i]) })
-		done = append(done, ts...)
-		if slices.ContainsFunc(ts, func(t trial) bool { return t.stable && len(t.missed) == 0 }) {
+	for _, k := range order {
+		t := at(k)
+		done = append(done, t)
+		if t.stable && len(t.missed) == 0 {
 			break
 		}
 	}
@@ -347,12 +346,12 @@ func (f *GainFit) Meets() string {
 	return fmt.Sprintf("stable, the fewest requirements missed: still misses %s", strings.Join(f.Missed, ", "))
 }
 
-// MaxFitSearches bounds the gain fix searches of one check (8): each costs
+// MaxFitSearches bounds the gain fix searches of one check (4): each costs
 // a few dozen loop analyses, and a generated file with hundreds of failing
 // loops must still check in a fraction of a second. Gains past the bound,
 // in source order of their loops' diagnostics, get the gain margin's safe
 // value, whose title says the other requirements were not checked.
-const MaxFitSearches = 8
+const MaxFitSearches = 4
 
 // fit runs the search for gain g once per check, within MaxFitSearches;
 // searched is false when the bound stopped it.
@@ -361,6 +360,9 @@ func (c *checker) fit(g *Gain) (searched bool) {
 		return !g.fitSkipped
 	}
 	g.fitDone = true
+	if !c.writtenRequirements(g) {
+		return true // only rules of thumb: the gain margin's safe value is the fix
+	}
 	if c.fitSearches >= MaxFitSearches {
 		g.fitSkipped = true
 		return false
@@ -368,6 +370,27 @@ func (c *checker) fit(g *Gain) (searched bool) {
 	c.fitSearches++
 	g.Fit = c.fitGain(g)
 	return true
+}
+
+// writtenRequirements reports whether a loop that gain g reaches has a
+// require line: the search is for written requirements; loops held only
+// to the default rules of thumb get the gain margin's safe value, as a
+// generated file of hundreds of such loops must check quickly.
+func (c *checker) writtenRequirements(g *Gain) bool {
+	if g.Limits == nil {
+		return false
+	}
+	for _, l := range c.res.Loops {
+		if !contains(g.Limits.Loops, l.Name) {
+			continue
+		}
+		for _, q := range l.Requirements {
+			if q.Item != nil {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // gainFix is the "set the gain" quick-fix: the searched value when the

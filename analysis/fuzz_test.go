@@ -109,6 +109,8 @@ func fuzzLoopFile(data []byte) []byte {
 			fmt.Fprintf(&b, " max %s", f.number())
 		case 2:
 			fmt.Fprintf(&b, " min %s max %s", f.number(), f.number())
+		case 3:
+			fmt.Fprintf(&b, " vary %s to %s", f.number(), f.number())
 		}
 		b.WriteString("\n")
 	}
@@ -225,6 +227,17 @@ func FuzzCheck(f *testing.F) {
 				{"gain crossover", m.GainCrossoverHz}, {"delay margin", m.DelayMarginS}, {"delay margin samples", m.DelayMarginSamples},
 				{"peak sensitivity", m.PeakSensitivityDB}, {"peak sensitivity Hz", m.PeakSensitivityHz}} {
 				bad(l.Name+": "+p.n, p.v)
+			}
+			if d := l.Disk; d != nil {
+				bad(l.Name+": disk margin", &d.Alpha)
+				bad(l.Name+": disk margin phase", &d.PhaseDeg)
+			}
+			if rb := l.Robust; rb != nil && rb.Worst != nil {
+				if math.IsNaN(rb.WorstRadius) {
+					t.Fatalf("%s: worst radius NaN over the range\n%s", l.Name, src)
+				}
+				bad(l.Name+": smallest gain margin over the range", rb.GainMarginDB)
+				bad(l.Name+": smallest phase margin over the range", rb.PhaseMarginDeg)
 			}
 			r, md := l.MaxRadius, l.MinDamping
 			bad(l.Name+": max radius", &r)

@@ -111,3 +111,14 @@ func TestUseNonRegular(t *testing.T) {
 		t.Fatal("a use of a FIFO or /dev/zero did not return")
 	}
 }
+
+// Messages quote the user's numbers as written, sign and exponent kept.
+func TestMessagesQuoteAsWritten(t *testing.T) {
+	r := checkSrc(t, "sample -2.5 ms\ngain k = 1e-3 max 5e-4\ngain j = 1 min 2.50 max -1\n", nil)
+	want := map[string]string{CodeBadUnit: "-2.5 ms", CodeGainRange: "1e-3 is above its declared max 5e-4", CodeGainRangeEmpty: "min 2.50 above max -1"}
+	for code, text := range want {
+		if d := findDiag(r, code); d == nil || !strings.Contains(d.Message, text) {
+			t.Errorf("%s: %v, want a message quoting %q", code, d, text)
+		}
+	}
+}

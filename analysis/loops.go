@@ -473,7 +473,7 @@ func (c *checker) flipSignFix(x *Diagnostic, l *Loop, fwd, fb []element) {
 	}
 	if !found {
 		at := l.Stmt.LBrace + 1
-		edit = Edit{Path: c.res.Path, Span: syntax.Span{From: at, To: at}, NewText: "\n  sign " + want}
+		edit = Edit{Path: c.res.Path, Span: syntax.Span{From: at, To: at}, NewText: syntax.LineBreak(c.res.File.Src) + "  sign " + want} // the file's own line break
 	}
 	x.Message += fmt.Sprintf("; with sign %s it would be stable: check the sign of the measurement", want)
 	x.Fixes = append(x.Fixes, Fix{Title: "Flip the feedback sign to " + note, Edits: []Edit{edit}})

@@ -3,10 +3,12 @@ package analysis
 import (
 	"encoding/binary"
 	"math"
-	"sort"
 	"sync"
 
+	"ringside/analysis/discretize"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 	"ringside/analysis/step"
 	"ringside/syntax"
 )
@@ -62,10 +64,34 @@ type memoFile struct {
 	used  uint64 // commit count when last committed
 	loops map[string]*loopEntry
 	gains map[string]*GainLimits
+	// nums holds results of pure numeric functions of coefficients:
+	// roots of block polynomials, discretizations.
+	nums map[string]numResult
+}
+
+type numResult struct {
+	roots roots.Result
+	tf    poly.Rational
+	err   error
 }
 
 func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}}
+	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}}
+}
+
+func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
+func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
+func numsOf(f *memoFile) map[string]numResult    { return f.nums }
+
+// lookup finds key among this check's entries, then the previous check's.
+func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	if v, ok := of(r.next)[key]; ok {
+		return v, true
+	}
+	v, ok := of(r.old)[key]
+	return v, ok
 }
 
 // memoRun is one check's view of the memo: what the previous check of the
@@ -157,6 +183,26 @@ func (k *keyBuf) poly(p poly.Poly) {
 	}
 }
 
+func (k *keyBuf) complexes(zs []complex128) {
+	*k = binary.AppendUvarint(*k, uint64(len(zs)))
+	for _, z := range zs {
+		k.num(real(z))
+		k.num(imag(z))
+	}
+}
+
+// factored adds a factored form (gain, zeros, poles, error bound).
+func (k *keyBuf) factored(f lti.Factored, err error) {
+	if err != nil {
+		k.str("no factored form: " + err.Error())
+		return
+	}
+	k.num(f.Gain)
+	k.complexes(f.Zeros)
+	k.complexes(f.Poles)
+	k.num(f.Err)
+}
+
 func (k *keyBuf) options(o Options) {
 	k.num(o.GainMarginDB)
 	k.num(o.PhaseMarginDeg)
@@ -192,9 +238,13 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 		k.str(c.declText(e.decl))
 		k.poly(e.tf.Num)
 		k.poly(e.tf.Den)
+		k.factored(e.fac, e.facErr)
 		if e.block != nil {
 			for _, g := range sortedKeys(ev.memo[e.name].gains) {
 				k.str(g)
+				if d := c.res.Scope[g]; d != nil {
+					k.str(c.declText(d)) // its range too
+				}
 			}
 		}
 		k.str("")
@@ -240,29 +290,25 @@ func (c *checker) memoLoop(ev *evaluator, ls *syntax.LoopStmt, compute func() *L
 	if key == "" {
 		return analyse()
 	}
-	c.memo.mu.Lock()
-	e := c.memo.next.loops[key]
-	if e == nil {
-		e = c.memo.old.loops[key]
-	}
-	c.memo.mu.Unlock()
-	if e != nil {
+	if e, ok := lookup(c.memo, loopsOf, key); ok {
 		if l, ok := c.replay(e, ls); ok {
-			c.memo.mu.Lock()
-			c.memo.next.loops[key] = e
-			c.memo.loopKeys[l] = key
-			c.memo.mu.Unlock()
+			c.memo.keepLoop(key, e, l)
 			return l
 		}
 	}
 	l := analyse()
 	if e, ok := c.record(l, ls); ok {
-		c.memo.mu.Lock()
-		c.memo.next.loops[key] = e
-		c.memo.loopKeys[l] = key
-		c.memo.mu.Unlock()
+		c.memo.keepLoop(key, e, l)
 	}
 	return l
+}
+
+// keepLoop keeps entry e for the next check and notes l's key.
+func (r *memoRun) keepLoop(key string, e *loopEntry, l *Loop) {
+	r.mu.Lock()
+	r.next.loops[key] = e
+	r.loopKeys[l] = key
+	r.mu.Unlock()
 }
 
 // eachSpan calls f with a pointer to every span of a diagnostic, with the
@@ -370,9 +416,9 @@ func (c *checker) replay(e *loopEntry, ls *syntax.LoopStmt) (*Loop, bool) {
 }
 
 // gainKey is the key of a gain's limits over loops, or "" when not to be
-// memoised: the gain's value and range, each loop's key, and every block
-// that depends on the gain as written with the values of what it names.
-func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl) string {
+// memoised: the gain's value, each loop's key, and every block that
+// depends on the gain as written with the values of what it names.
+func (c *checker) gainKey(g *Gain, loops []*Loop, deps *gainDeps) string {
 	if c.memo == nil {
 		return ""
 	}
@@ -380,6 +426,9 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl)
 	k.str(g.Name)
 	k.str(g.Path)
 	k.num(g.Value)
+	if d := c.res.Scope[g.Name]; d != nil {
+		k.str(c.declText(d))
+	}
 	c.memo.mu.Lock()
 	for _, l := range loops {
 		key, ok := c.memo.loopKeys[l]
@@ -390,65 +439,73 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, dependents map[string][]*Decl)
 		k.str(key)
 	}
 	c.memo.mu.Unlock()
-	for _, d := range dependents[g.Name] {
-		k.str(d.Name)
-		k.str(c.declText(d))
-		syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
-			ref, ok := n.(*syntax.NameRef)
-			if !ok {
-				return true
-			}
-			k.str(ref.Name)
-			if v, isGain := c.gains[ref.Name]; isGain {
-				k.num(v)
-			} else if bv := c.base.memo[ref.Name]; bv != nil {
-				k.poly(bv.tf.Num)
-				k.poly(bv.tf.Den)
-				k.poly(bv.cont.Num)
-				k.poly(bv.cont.Den)
-			}
-			return true
-		})
+	for _, name := range deps.blocks[g.Name] {
+		k.str(deps.keys[name])
 	}
 	return string(k)
 }
 
-// dependents lists, per gain, the blocks in scope that depend on it.
-func (c *checker) dependents() map[string][]*Decl {
-	out := map[string][]*Decl{}
+// gainDeps lists, per gain, the blocks in scope that depend on it, and
+// each such block's part of a key: its statement as written with the
+// values of the gains and blocks it names.
+type gainDeps struct {
+	blocks map[string][]string
+	keys   map[string]string
+}
+
+func (c *checker) dependents() *gainDeps {
+	deps := &gainDeps{blocks: map[string][]string{}, keys: map[string]string{}}
 	if c.memo == nil {
-		return out
+		return deps
 	}
 	for _, name := range sortedDecls(c.res.Scope) {
 		d := c.res.Scope[name]
-		if d.Block == nil {
+		bv := c.base.memo[name]
+		if d.Block == nil || bv == nil || len(bv.gains) == 0 {
 			continue
 		}
-		if bv := c.base.memo[name]; bv != nil {
-			for g := range bv.gains {
-				out[g] = append(out[g], d)
-			}
+		for g := range bv.gains {
+			deps.blocks[g] = append(deps.blocks[g], name)
 		}
+		deps.keys[name] = c.blockKey(d)
 	}
-	for _, ds := range out {
-		sort.Slice(ds, func(i, j int) bool { return ds[i].Name < ds[j].Name })
-	}
-	return out
+	return deps
+}
+
+// blockKey is a block's statement as written with the values of the gains
+// and blocks it names.
+func (c *checker) blockKey(d *Decl) string {
+	var k keyBuf
+	k.str(d.Name)
+	k.str(c.declText(d))
+	syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
+		ref, ok := n.(*syntax.NameRef)
+		if !ok {
+			return true
+		}
+		k.str(ref.Name)
+		if v, isGain := c.gains[ref.Name]; isGain {
+			k.num(v)
+		} else if bv := c.base.memo[ref.Name]; bv != nil {
+			k.poly(bv.tf.Num)
+			k.poly(bv.tf.Den)
+			k.poly(bv.cont.Num)
+			k.poly(bv.cont.Den)
+			k.factored(bv.fac, bv.facErr)
+		}
+		return true
+	})
+	return string(k)
 }
 
 // memoLimits computes a gain's limits through the memo.
-func (c *checker) memoLimits(g *Gain, loops []*Loop, dependents map[string][]*Decl, compute func() *GainLimits) *GainLimits {
-	key := c.gainKey(g, loops, dependents)
+func (c *checker) memoLimits(g *Gain, loops []*Loop, deps *gainDeps, compute func() *GainLimits) *GainLimits {
+	key := c.gainKey(g, loops, deps)
 	if key == "" {
 		return compute()
 	}
-	c.memo.mu.Lock()
-	lim := c.memo.next.gains[key]
-	if lim == nil {
-		lim = c.memo.old.gains[key]
-	}
-	c.memo.mu.Unlock()
-	if lim == nil {
+	lim, ok := lookup(c.memo, gainsOf, key)
+	if !ok {
 		lim = compute()
 	}
 	c.memo.mu.Lock()
@@ -481,4 +538,52 @@ func cloneDiag(x Diagnostic) Diagnostic {
 		x.Fixes[j].Edits = append([]Edit(nil), x.Fixes[j].Edits...)
 	}
 	return x
+}
+
+// number returns the memoised result of key, or computes and keeps it. The
+// functions memoised are pure, and their results are never modified.
+func (r *memoRun) number(key string, compute func() numResult) numResult {
+	if r == nil {
+		return compute()
+	}
+	v, ok := lookup(r, numsOf, key)
+	if !ok {
+		v = compute()
+	}
+	r.mu.Lock()
+	r.next.nums[key] = v
+	r.mu.Unlock()
+	return v
+}
+
+// findRoots is roots.Find through the memo.
+func (c *checker) findRoots(p poly.Poly) (roots.Result, error) {
+	if c.memo == nil {
+		return roots.Find(p)
+	}
+	k := keyBuf("roots")
+	k.poly(p)
+	v := c.memo.number(string(k), func() numResult {
+		res, err := roots.Find(p)
+		return numResult{roots: res, err: err}
+	})
+	return v.roots, v.err
+}
+
+// discretize is discretize.Discretize through the memo.
+func (r *memoRun) discretize(h poly.Rational, opt discretize.Options) (poly.Rational, error) {
+	if r == nil {
+		return discretize.Discretize(h, opt)
+	}
+	k := keyBuf("discretize")
+	k.poly(h.Num)
+	k.poly(h.Den)
+	k.num(float64(opt.Method))
+	k.num(opt.T)
+	k.num(opt.PrewarpHz)
+	v := r.number(string(k), func() numResult {
+		tf, err := discretize.Discretize(h, opt)
+		return numResult{tf: tf, err: err}
+	})
+	return v.tf, v.err
 }

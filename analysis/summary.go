@@ -24,6 +24,9 @@ func (l *Loop) Verdict() string {
 	} else {
 		b.WriteString(", PM ∞")
 	}
+	if l.Robust != nil {
+		b.WriteString("; " + l.Robust.Verdict())
+	}
 	return b.String()
 }
 

@@ -4,9 +4,10 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"strings"
 
-	"ringside/analysis/freq"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/robust"
 	"ringside/analysis/roots"
@@ -25,12 +26,20 @@ type Robust struct {
 	Names  []string  // the varying gains, sorted
 	Ranges []Range   // their ranges, in the order of Names
 	Worst  []float64 // the point with the largest closed-loop pole radius
-	// WorstRadius is that radius (+Inf where a pole goes to infinity).
+	// WorstRadius is that radius.
 	WorstRadius float64
-	// GainMarginDB and PhaseMarginDeg are the smallest over MarginPoints
-	// (the box's corners, its worst point and, for one gain, points along
-	// its range); nil when the box is not robustly stable or no point has
-	// a crossing.
+	// NominalOnly: no point of the range could be examined (see Why);
+	// Worst is then the nominal point.
+	NominalOnly bool
+	// IllPosed is a point where a closed-loop pole goes to infinity (the
+	// characteristic polynomial loses degree: an ill-posed loop); nil when
+	// none was met.
+	IllPosed []float64
+	// GainMarginDB and PhaseMarginDeg are the smallest found over
+	// MarginPoints (the box's corners, its worst point and, for one gain
+	// with the exact method, its samples along the range): not a bound, a
+	// margin may dip lower between them; nil when the box is not robustly
+	// stable or no point has a crossing.
 	GainMarginDB, PhaseMarginDeg *float64
 	MarginPoints                 int
 	// Interval is, for one gain with the exact method, its stable interval
@@ -43,10 +52,12 @@ type Robust struct {
 }
 
 // WorstText writes the worst point as "kplant = 50, tau = 0.3".
-func (r *Robust) WorstText() string {
-	parts := make([]string, len(r.Names))
-	for i, n := range r.Names {
-		parts[i] = n + " = " + fmtNum(r.Worst[i])
+func (r *Robust) WorstText() string { return pointText(r.Names, r.Worst) }
+
+func pointText(names []string, x []float64) string {
+	parts := make([]string, len(names))
+	for i, n := range names {
+		parts[i] = n + " = " + fmtNum(x[i])
 	}
 	return strings.Join(parts, ", ")
 }
@@ -60,31 +71,29 @@ func (r *Robust) RangesText() string {
 	return strings.Join(parts, ", ")
 }
 
-// varyRange reads a gain's `vary A to B` and checks A ≤ value ≤ B; it is
-// called for every gain in scope, reports only for this file's gains.
+// varyRange reads a gain's `vary A to B` and checks A ≤ value ≤ B. It is
+// called for every gain in scope; a range that fails is dropped (the gain
+// is then fixed at its value) and reported only for this file's gains.
 func (c *checker) varyRange(g *Gain, report bool) {
 	v := g.Stmt.Vary
 	if v == nil || v.Lo == nil || v.Hi == nil {
 		return
 	}
-	g.Vary = &Range{v.Lo.Value, v.Hi.Value}
-	if !report {
-		return
-	}
-	for _, n := range []*syntax.Number{v.Lo, v.Hi} {
-		if n.Unit != "" {
-			c.diags.add(g.Path, n.UnitSpan, Error, CodeBadUnit, fmt.Sprintf("gain %s is a plain number; remove the unit %q", g.Name, n.Unit))
+	lo, hi := v.Lo.Value, v.Hi.Value
+	add := func(span syntax.Span, code, msg string) {
+		if report {
+			c.diags.add(g.Path, span, Error, code, msg)
 		}
 	}
 	switch {
-	case g.Vary.Lo > g.Vary.Hi:
-		c.diags.add(g.Path, v.Span, Error, CodeGainRangeEmpty,
-			fmt.Sprintf("gain %s varies from %s to %s: the lower end is above the upper one; write the smaller value first", g.Name, fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi)))
-		g.Vary = nil
-	case g.Stmt.Value != nil && (g.Value < g.Vary.Lo || g.Value > g.Vary.Hi):
-		c.diags.add(g.Path, g.Stmt.Value.Span, Error, CodeGainRange,
-			fmt.Sprintf("gain %s = %s lies outside its range %s to %s: the nominal value must be one of the values that may occur", g.Name, fmtNum(g.Value), fmtNum(g.Vary.Lo), fmtNum(g.Vary.Hi)))
-		g.Vary = nil
+	case lo > hi:
+		add(v.Span, CodeGainRangeEmpty,
+			fmt.Sprintf("gain %s varies from %s to %s: the lower end is above the upper one; write the smaller value first", g.Name, fmtNum(lo), fmtNum(hi)))
+	case g.Stmt.Value != nil && (g.Value < lo || g.Value > hi):
+		add(g.Stmt.Value.Span, CodeGainRange,
+			fmt.Sprintf("gain %s = %s lies outside its range %s to %s: the nominal value must be one of the values that may occur", g.Name, fmtNum(g.Value), fmtNum(lo), fmtNum(hi)))
+	default:
+		g.Vary = &Range{lo, hi}
 	}
 }
 
@@ -116,7 +125,7 @@ func (c *checker) robustLoops(ctx context.Context) {
 		lc := *c
 		lc.diags = &diagList{}
 		own[i] = lc.diags
-		lc.robustLoop(l, vs)
+		lc.robustLoop(ctx, l, vs)
 	})
 	for _, d := range own {
 		if d != nil {
@@ -127,17 +136,71 @@ func (c *checker) robustLoops(ctx context.Context) {
 
 // family is the box of a loop's varying gains, with other gains set by
 // fixed (nil: as declared).
-func (c *checker) family(l *Loop, vs []*Gain, fixed map[string]float64) robust.Family {
-	f := robust.Family{Tolerance: c.env.Options.Tolerance}
+func (c *checker) family(ctx context.Context, l *Loop, vs []*Gain, fixed map[string]float64) robust.Family {
+	f := robust.Family{Tolerance: c.env.Options.Tolerance, Stop: func() bool { return ctx.Err() != nil }}
 	for _, g := range vs {
 		f.Names = append(f.Names, g.Name)
 		f.Lo, f.Hi = append(f.Lo, g.Vary.Lo), append(f.Hi, g.Vary.Hi)
 	}
-	f.Char = func(x []float64) (poly.Poly, bool) {
-		char, _, ok := c.loopWith(l, c.base.assign(c.point(f.Names, x, fixed)))
-		return char, ok && char.Finite()
+	// The exact methods work on the expanded characteristic polynomial,
+	// trusted up to MaxAffineDegree (as for the gain limits); beyond it the
+	// grid decides on the loop's model alone.
+	if l.Char.Degree() <= MaxAffineDegree {
+		f.Char = func(x []float64) (poly.Poly, bool) {
+			p, ok := c.atPoint(l, c.point(f.Names, x, fixed), false)
+			return p.char, ok && p.char.Finite()
+		}
+	}
+	f.Eval = func(x []float64) (float64, lti.Verdict, bool) {
+		p, ok := c.atPoint(l, c.point(f.Names, x, fixed), true)
+		if !ok || p.model == nil {
+			return 0, 0, false
+		}
+		ps, err := p.model.Poles()
+		if err != nil {
+			return 0, 0, false
+		}
+		v, _ := lti.Decide(ps, c.env.Options.Tolerance)
+		return maxPoleRadius(ps), v, true
 	}
 	return f
+}
+
+// pointLoop is a loop evaluated at one point of its box.
+type pointLoop struct {
+	char  poly.Poly
+	open  poly.Rational
+	model *lti.Loop // nil when some block has no factored form
+}
+
+// atPoint evaluates a loop with the gains of values set, on the loop's own
+// path: its elements, their expanded polynomials (polys) and, when asked,
+// its model.
+func (c *checker) atPoint(l *Loop, values map[string]float64, withModel bool) (pointLoop, bool) {
+	ev := c.base.assign(values)
+	sh := shapeOf(l.Stmt)
+	fwd, ok1 := c.elements(ev, sh.fwd, false)
+	fb, ok2 := c.elements(ev, sh.fb, false)
+	if !ok1 || !ok2 {
+		return pointLoop{}, false
+	}
+	var p pointLoop
+	p.open, p.char, _ = polys(tfs(fwd), tfs(fb), sh.positive)
+	if !withModel {
+		return p, true
+	}
+	if m, err := model(fwd, fb, sh.positive); err == nil {
+		p.model = m
+	}
+	return p, true
+}
+
+func maxPoleRadius(ps []lti.Pole) float64 {
+	r := 0.0
+	for _, p := range ps {
+		r = math.Max(r, cmplx.Abs(p.Z))
+	}
+	return r
 }
 
 func (c *checker) point(names []string, x []float64, fixed map[string]float64) map[string]float64 {
@@ -151,9 +214,14 @@ func (c *checker) point(names []string, x []float64, fixed map[string]float64) m
 	return values
 }
 
-func (c *checker) robustLoop(l *Loop, vs []*Gain) {
-	f := c.family(l, vs, nil)
+func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
+	f := c.family(ctx, l, vs, nil)
 	res := robust.Analyse(f)
+	if res.Stable != nil && *res.Stable && l.Undecided {
+		// The nominal point lies in the box; its own verdict could not be
+		// decided, so neither can the box's.
+		res.Stable, res.Why = nil, "the loop's verdict at its nominal values is undecided (a pole's error bound straddles the circle)"
+	}
 	r := &Robust{Stable: res.Stable, Method: res.Method, Exact: res.Exact, Why: res.Why, Names: f.Names,
 		Worst: res.Worst, WorstRadius: res.WorstRadius}
 	for _, g := range vs {
@@ -167,51 +235,75 @@ func (c *checker) robustLoop(l *Loop, vs []*Gain) {
 		}
 	}
 	l.Robust = r
+	r.IllPosed = res.IllPosed
 	if r.Worst == nil {
+		// Nothing finite was examined: the nominal point, which the loop's
+		// own analysis covers, is the only one known.
+		r.Worst, r.WorstRadius, r.NominalOnly = c.nominal(f.Names), l.MaxRadius, true
+	} else {
+		c.robustFigures(l, r, res)
+	}
+	switch {
+	case r.Stable == nil && r.NominalOnly:
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeRangeUndecided,
 			fmt.Sprintf("loop %s: stability over %s is not established: %s", l.Name, r.RangesText(), res.Why))
-		return
-	}
-	c.robustFigures(l, r, marginPoints(f, res))
-	switch {
 	case r.Stable == nil:
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeRangeUndecided,
 			fmt.Sprintf("loop %s: stability over %s is not established (%s): %s; the largest closed-loop pole radius found is %s at %s. Treat the range as unproven: test the plant at those values, or model the dependence so that it enters affinely",
 				l.Name, r.RangesText(), res.Method, res.Why, FormatRadius(r.WorstRadius), r.WorstText()))
 	case !*r.Stable:
-		c.rangeUnstable(l, r, vs)
+		c.rangeUnstable(ctx, l, r, vs)
 	}
 }
 
-// marginPoints are where margins are computed: the corners, the worst
-// point and, for one gain, the points examined along its range.
-func marginPoints(f robust.Family, res robust.Result) [][]float64 {
-	n := 1 << len(f.Names)
-	if len(f.Names) == 1 {
-		n = len(res.Points)
+// nominal is the declared values of the named gains.
+func (c *checker) nominal(names []string) []float64 {
+	x := make([]float64, len(names))
+	for i, n := range names {
+		x[i] = c.gains[n]
 	}
-	pts := append([][]float64(nil), res.Points[:min(n, len(res.Points))]...)
-	return append(pts, res.Worst)
+	return x
 }
 
-// robustFigures evaluates the loop at the examined points: the smallest
-// margins (over stable points only, and only when the box is stable), the
-// closed-loop poles and open loops for the plots.
-func (c *checker) robustFigures(l *Loop, r *Robust, margins [][]float64) {
+// robustFigures evaluates the loop at the points the robust analysis
+// examined and at the worst point: closed-loop poles and open loops for the
+// plots everywhere; margins at the corners and the worst point (for one
+// gain with the exact method, also at its samples along the range), over
+// stable points only and only when the whole box is stable.
+func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 	stable := r.Stable != nil && *r.Stable
-	for _, x := range margins {
-		char, open, ok := c.loopWith(l, c.base.assign(c.point(r.Names, x, nil)))
+	corners := 1 << len(r.Names)
+	if len(r.Names) == 1 && res.Exact {
+		corners = len(res.Points) // a handful of samples along the one range
+	}
+	pts := append(append([][]float64(nil), res.Points...), res.Worst)
+	for i, x := range pts {
+		margins := stable && (i < corners || i == len(pts)-1)
+		// With an exact method the expanded polynomial is trusted (degree
+		// ≤ MaxAffineDegree): its roots place the plot's points; margins
+		// and the grid's points take the model.
+		p, ok := c.atPoint(l, c.point(r.Names, x, nil), margins || !res.Exact)
 		if !ok {
 			continue
 		}
-		r.Family = append(r.Family, open)
-		if rs, err := roots.Find(char); err == nil {
-			r.Region = append(r.Region, rs.Roots...)
-		}
-		if !stable {
+		if p.model == nil {
+			if rs, ok := roots.Companion(p.char); ok && res.Exact {
+				r.Family, r.Region = append(r.Family, p.open), append(r.Region, rs...)
+			}
 			continue
 		}
-		m, err := freq.Compute(open, c.res.SampleT)
+		ps, err := p.model.Poles()
+		if err != nil {
+			continue
+		}
+		r.Family = append(r.Family, p.open)
+		for _, q := range ps {
+			r.Region = append(r.Region, q.Z)
+		}
+		if !margins {
+			continue
+		}
+		m, err := p.model.Margins(c.res.SampleT, ps)
 		if err != nil {
 			continue
 		}
@@ -235,35 +327,39 @@ func minPtr(a, b *float64) *float64 {
 // rangeUnstable reports a box that is not robustly stable, naming the worst
 // point, with fixes that set a tunable gain of the loop to a value for
 // which the whole box is stable (exact methods only).
-func (c *checker) rangeUnstable(l *Loop, r *Robust, vs []*Gain) {
+func (c *checker) rangeUnstable(ctx context.Context, l *Loop, r *Robust, vs []*Gain) {
 	nominal := "it is stable at its nominal values"
 	if !l.Stable {
 		nominal = "it is not stable at its nominal values either"
 	}
-	radius := "a closed-loop pole goes to infinity (the polynomial loses degree)"
-	if !math.IsInf(r.WorstRadius, 1) {
-		radius = "its largest closed-loop pole has radius " + FormatRadius(r.WorstRadius)
+	msg := fmt.Sprintf("loop %s is NOT stable over the range %s: at %s its largest closed-loop pole has radius %s; %s, but the plant you get may be any point of the range (method: %s)",
+		l.Name, r.RangesText(), r.WorstText(), FormatRadius(r.WorstRadius), nominal, r.Method)
+	if r.IllPosed != nil {
+		msg += fmt.Sprintf("; at %s a closed-loop pole goes to infinity (1 + L(∞) = 0: the loop is ill-posed there)", pointText(r.Names, r.IllPosed))
 	}
-	msg := fmt.Sprintf("loop %s is NOT stable over the range %s: at %s %s; %s, but the plant you get may be any point of the range (method: %s)",
-		l.Name, r.RangesText(), r.WorstText(), radius, nominal, r.Method)
 	if len(r.Names) == 1 && (r.IntervalLo != nil || r.IntervalHi != nil) {
 		msg += fmt.Sprintf("; stable only for %s", stableText(r.Names[0], r.IntervalLo, r.IntervalHi))
 	}
 	x := c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeRangeUnstable, msg)
 	var hints []string
+	tunable := 0
 	for _, name := range l.Gains {
 		d := c.res.Scope[name]
 		if d == nil || d.Gain == nil || d.Gain.Vary != nil || d.Gain.Stmt.Value == nil || len(x.Fixes) >= 3 {
 			continue
 		}
-		if fix, hint, ok := c.narrowFix(l, vs, d.Gain); ok {
+		tunable++
+		if fix, hint, ok := c.narrowFix(ctx, l, vs, d.Gain); ok {
 			x.Fixes = append(x.Fixes, fix)
 			hints = append(hints, hint)
 		}
 	}
-	if len(hints) > 0 {
+	switch {
+	case len(hints) > 0:
 		x.Message += "; " + strings.Join(hints, "; or ")
-	} else if r.Exact {
+	case tunable == 0:
+		x.Message += "; the loop has no tunable gain to narrow: change the controller or narrow the range"
+	case r.Exact:
 		x.Message += "; no smaller value of one tunable gain makes the whole range stable: change the controller's structure or narrow the range"
 	}
 }
@@ -289,13 +385,13 @@ var narrowFactors = []float64{0.9, 0.8, 0.7, 0.6, 0.5, 0.4, 0.3, 0.2, 0.1, 0.05,
 // from the stability boundary by the loop's required gain margin where
 // that still holds, rounds it to three significant figures towards zero
 // and verifies the rounded value.
-func (c *checker) narrowFix(l *Loop, vs []*Gain, g *Gain) (Fix, string, bool) {
+func (c *checker) narrowFix(ctx context.Context, l *Loop, vs []*Gain, g *Gain) (Fix, string, bool) {
 	k0 := g.Value
 	if k0 == 0 {
 		return Fix{}, "", false
 	}
 	stableAt := func(k float64) bool {
-		res := robust.Analyse(c.family(l, vs, map[string]float64{g.Name: k}))
+		res := robust.Analyse(c.family(ctx, l, vs, map[string]float64{g.Name: k}))
 		return res.Exact && res.Stable != nil && *res.Stable
 	}
 	fail, pass := 1.0, 0.0
@@ -342,6 +438,17 @@ func towardZero(v float64) float64 {
 	return roundDown(v)
 }
 
+// Verdict is the verdict over the range in a few words (lens, titles).
+func (r *Robust) Verdict() string {
+	switch {
+	case r.Stable == nil:
+		return "over the range: undecided"
+	case *r.Stable:
+		return "over the range: stable"
+	}
+	return "over the range: NOT STABLE"
+}
+
 // Lines describes the analysis over the box in plain words (the loop
 // hover); every figure is the one the JSON and diagnostics carry.
 func (r *Robust) Lines() []string {
@@ -356,8 +463,14 @@ func (r *Robust) Lines() []string {
 	if r.Why != "" {
 		out = append(out, "Why undecided: "+r.Why+".")
 	}
-	if r.Worst != nil {
+	switch {
+	case r.NominalOnly:
+		out = append(out, fmt.Sprintf("Only the nominal point (%s) was analysed: largest closed-loop pole radius %s.", r.WorstText(), FormatRadius(r.WorstRadius)))
+	default:
 		out = append(out, fmt.Sprintf("Worst point: %s, largest closed-loop pole radius %s.", r.WorstText(), FormatRadius(r.WorstRadius)))
+	}
+	if r.IllPosed != nil {
+		out = append(out, fmt.Sprintf("Ill-posed at %s: a closed-loop pole goes to infinity.", pointText(r.Names, r.IllPosed)))
 	}
 	if len(r.Names) == 1 && (r.IntervalLo != nil || r.IntervalHi != nil) {
 		out = append(out, fmt.Sprintf("Stable interval in this loop: %s.", stableText(r.Names[0], r.IntervalLo, r.IntervalHi)))
@@ -370,7 +483,7 @@ func (r *Robust) Lines() []string {
 		if r.PhaseMarginDeg != nil {
 			pm = fmtMetric("phase_margin", *r.PhaseMarginDeg)
 		}
-		out = append(out, fmt.Sprintf("Smallest margins over %d points of the range (corners and worst point): gain %s, phase %s.", r.MarginPoints, gm, pm))
+		out = append(out, fmt.Sprintf("Smallest margins found over %d points of the range (corners and worst point): gain %s, phase %s.", r.MarginPoints, gm, pm))
 	}
 	return out
 }

@@ -207,3 +207,41 @@ func TestRangeGridUndecided(t *testing.T) {
 		t.Fatalf("want an unstable grid verdict with a witness, got %+v", rb)
 	}
 }
+
+// TestVaryInUsedFile: a varying gain declared in a used file makes the
+// loops of the checking file robust-checked; a broken range there leaves
+// the gain fixed (and is reported only in its own file).
+func TestVaryInUsedFile(t *testing.T) {
+	plant := "sample 1 ms\ngain kp = 40 vary 30 to 50\ngain kbad = 1 vary 2 to 0\nblock plant = kp * kbad * 0.001 / (z - 0.95)\n"
+	main := "use \"plant.loop\"\ngain kc = 22\nloop hot {\n  forward kc plant\n  feedback d\n}\nblock d = 1 / z\n"
+	r := checkSrc(t, main, map[string]string{"plant.loop": plant})
+	rb := loopNamed(t, r, "hot").Robust
+	if rb == nil || len(rb.Names) != 1 || rb.Names[0] != "kp" || rb.Stable == nil || *rb.Stable {
+		t.Fatalf("want kp alone varying and the range unstable, got %+v", rb)
+	}
+	if d := findDiag(r, CodeGainRangeEmpty); d != nil {
+		t.Errorf("the used file's range error is reported in the checking file: %s", d.Message)
+	}
+}
+
+// TestRangeHighDegreeUsesModel: above MaxAffineDegree the expanded
+// polynomial is not trusted, so the grid decides on the loop's model
+// (eigenvalues with error bounds) and a stable box stays undecided.
+func TestRangeHighDegreeUsesModel(t *testing.T) {
+	src := "sample 1 ms\ngain k = 1 vary 0.8 to 1.2\nblock lag = 0.5 / (z - 0.5)\nblock chain = k * 0.1 * lag * lag * lag * lag * lag * lag * lag * lag * lag * lag * lag * lag\nloop long {\n  forward chain\n}\n"
+	r := checkSrc(t, src, nil)
+	l := loopNamed(t, r, "long")
+	if l.Char.Degree() <= MaxAffineDegree {
+		t.Fatalf("degree %d: the case must exceed %d", l.Char.Degree(), MaxAffineDegree)
+	}
+	rb := l.Robust
+	if rb == nil || rb.Stable != nil || rb.Exact || !strings.HasPrefix(rb.Method, "grid") || !strings.Contains(rb.Why, "too high a degree") {
+		t.Fatalf("want an undecided grid verdict on the model, got %+v", rb)
+	}
+	// The worst point: 1 + L = 0 is (z − 0.5)^12 = −0.1·k·0.5^12, so the
+	// poles are 0.5 + 0.5·(0.1k)^(1/12)·e^{jπ(2m+1)/12}: their largest radius
+	// grows with k, and the worst point is the top of the range.
+	if rb.Worst[0] != 1.2 {
+		t.Errorf("worst point %v, want k = 1.2", rb.Worst)
+	}
+}

@@ -41,7 +41,22 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 	if inComment {
 		return protocol.CompletionList{Items: []protocol.CompletionItem{}}, nil
 	}
-	inLoop := insideLoop(src, pos)
+	items := completionItems(toks, lastIsNumber, insideLoop(src, pos), func() *analysis.Result {
+		res, err := sn.check(ctx, path, false)
+		if err != nil {
+			return nil
+		}
+		return res
+	})
+	if items == nil {
+		items = []protocol.CompletionItem{}
+	}
+	return protocol.CompletionList{Items: items}, nil
+}
+
+// completionItems lists what fits after the line's tokens before the
+// cursor; scope gives the analysis for names in scope (nil: none).
+func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *analysis.Result) []protocol.CompletionItem {
 	var items []protocol.CompletionItem
 	add := func(kind protocol.CompletionItemKind, detail string, words ...string) {
 		for _, w := range words {
@@ -49,8 +64,8 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 		}
 	}
 	names := func() {
-		res, err := sn.check(ctx, path, false)
-		if err != nil {
+		res := scope()
+		if res == nil {
 			return
 		}
 		var list []string
@@ -94,8 +109,12 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 			add(protocol.CompletionItemKindUnit, "unit", unitsMetric[toks[1]]...)
 		case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
 			add(protocol.CompletionItemKindUnit, "unit", unitsFreq...)
-		case first == "gain":
+		case first == "gain" && len(toks) >= 2 && toks[len(toks)-2] == "vary":
+			add(protocol.CompletionItemKindKeyword, "end of the range", "to")
+		case first == "gain" && (contains(toks, "min") || contains(toks, "max")):
 			add(protocol.CompletionItemKindKeyword, "range", "min", "max")
+		case first == "gain" && !contains(toks, "vary"):
+			add(protocol.CompletionItemKindKeyword, "range", "min", "max", "vary")
 		case first == "block":
 			add(protocol.CompletionItemKindKeyword, "discretization", "via")
 		}
@@ -112,10 +131,7 @@ func (s *Server) completion(ctx context.Context, params json.RawMessage) (any, e
 			add(protocol.CompletionItemKindKeyword, "discretization", "via")
 		}
 	}
-	if items == nil {
-		items = []protocol.CompletionItem{}
-	}
-	return protocol.CompletionList{Items: items}, nil
+	return items
 }
 
 // lineTokens splits the line before the cursor with the syntax lexer: the

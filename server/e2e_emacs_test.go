@@ -14,9 +14,6 @@ import (
 // loop-mode, and through eglot the hover (plain-text columns), each
 // quick-fix once, and ringside-plot writing and opening the page.
 func TestEmacsEndToEnd(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds the command and starts an editor")
-	}
 	emacs := editorOrSkip(t, "emacs", "RINGSIDE_REQUIRE_EMACS")
 	dir := t.TempDir()
 	bin := serverBinary(t, dir)

@@ -187,7 +187,9 @@ func TestCompletion(t *testing.T) {
 		{"", "block", "forward"},
 		{"block p = 1 / (s + 1) via ", "zoh foh tustin matched", "block"},
 		{"sample 1 ", "ms", "dB"},
-		{"gain k2 = 1 ", "max", ""},
+		{"gain k2 = 1 ", "min max vary", ""},
+		{"gain k2 = 1 vary 0.5 ", "to", "max"},
+		{"gain k2 = 1 max 3 ", "min", "vary"},
 		{"block q = ki * ", "belt d kp s z", "zoh"},
 		{"block q = 2 / (s + 1) via tustin ", "prewarp", ""},
 	} {
@@ -205,7 +207,7 @@ func TestCompletion(t *testing.T) {
 	}{
 		{"  ", "forward feedback sign require", "block"},
 		{"  sign ", "negative positive", ""},
-		{"  require ", "gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling", ""},
+		{"  require ", "gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling disk_margin", ""},
 		{"  require overshoot <= 10 ", "%", "ms"},
 		{"  feedback ", "belt d ki kp", "s"},
 	} {

@@ -134,14 +134,18 @@ func diffEdits(m *Mapper, old, new []byte, from syntax.Pos) []protocol.TextEdit 
 	return edits
 }
 
-// splitLines splits s after each "\n", keeping the breaks.
+// splitLines splits s after each line break ("\n", "\r\n" or a lone
+// "\r"), keeping the breaks.
 func splitLines(s string) []string {
 	var out []string
 	for len(s) > 0 {
-		i := strings.IndexByte(s, '\n')
+		i := strings.IndexAny(s, "\r\n")
 		if i < 0 {
 			out = append(out, s)
 			break
+		}
+		if s[i] == '\r' && i+1 < len(s) && s[i+1] == '\n' {
+			i++
 		}
 		out = append(out, s[:i+1])
 		s = s[i+1:]

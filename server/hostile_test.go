@@ -131,7 +131,7 @@ func bigFile(n int) string {
 // symbols of a large document is answered first.
 func TestLongRequestDoesNotHoldReadLoop(t *testing.T) {
 	c := newClient(t, clientOptions{})
-	big := c.open("big.loop", bigFile(55000))
+	big := c.open("big.loop", bigFile(45000))
 	small := c.open("stable.loop")
 	order := make(chan string, 2)
 	go func() {
@@ -151,7 +151,7 @@ func TestLongRequestDoesNotHoldReadLoop(t *testing.T) {
 // (ContentModified), rather than answering for text that is gone.
 func TestEditSupersedesRequest(t *testing.T) {
 	c := newClient(t, clientOptions{})
-	text := bigFile(55000)
+	text := bigFile(45000)
 	big := c.open("big.loop", text)
 	errc := make(chan error, 1)
 	go func() { errc <- c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil) }()
@@ -222,5 +222,33 @@ func TestCROnlyDocument(t *testing.T) {
 		if d.Severity == protocol.DiagnosticSeverityError {
 			t.Errorf("error in a CR-only file: %s", d.Message)
 		}
+	}
+}
+
+// An open buffer over the size limit is not served: memory stays bounded.
+func TestOversizeBufferRefused(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("huge.loop", bigFile(70000))
+	err := c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(uri), nil)
+	if err == nil || !strings.Contains(err.Error(), "limit") {
+		t.Fatalf("symbols of a 1.3 MB buffer: %v", err)
+	}
+}
+
+// Formatting a CR-only document keeps its line breaks and edits only the
+// lines that change.
+func TestFormatCROnlyDocument(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	uri := c.open("crf.loop", "sample 1 ms\rgain   k = 0.5\rblock p = k / (z - 0.5)\r")
+	var edits []protocol.TextEdit
+	if err := c.call(protocol.MethodTextDocumentFormatting, map[string]any{"textDocument": map[string]any{"uri": uri}, "options": map[string]any{"tabSize": 2, "insertSpaces": true}}, &edits); err != nil {
+		t.Fatal(err)
+	}
+	if len(edits) != 1 || edits[0].Range.Start.Line != 1 {
+		t.Fatalf("edits %+v, want one on line 1", edits)
+	}
+	c.applyEdit(&protocol.WorkspaceEdit{Changes: map[protocol.DocumentURI][]protocol.TextEdit{uri: edits}})
+	if got := c.text(uri); got != "sample 1 ms\rgain k = 0.5\rblock p = k / (z - 0.5)\r" {
+		t.Fatalf("formatted %q", got)
 	}
 }

@@ -17,7 +17,7 @@ import (
 var keywords = map[string]bool{
 	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
 	"forward": true, "feedback": true, "sign": true, "require": true,
-	"via": true, "prewarp": true, "min": true, "max": true,
+	"via": true, "prewarp": true, "min": true, "max": true, "vary": true, "to": true,
 }
 
 // targetAt resolves the request position to a target in the quick result.

@@ -247,6 +247,11 @@ type cached struct {
 // for it instead of computing it again.
 func (sn *snapshot) check(ctx context.Context, path string, full bool) (*analysis.Result, error) {
 	s := sn.s
+	if sn.settings.Trigger != "save" {
+		// The live analysis is the full one: a quick one beside it would
+		// be work done twice.
+		full = true
+	}
 	key := cacheKey{path: path, full: full, gen: sn.gen}
 	keys := []cacheKey{key}
 	if !full {
@@ -378,6 +383,11 @@ func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*sna
 	m, src, err := sn.mapper(path)
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
+	}
+	if len(src) > analysis.MaxFileSize {
+		// An open buffer may be larger than any file the server reads;
+		// answering for it would cost memory without bound.
+		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "%s is over the %d-byte limit for a .loop file; not served", baseName(path), analysis.MaxFileSize)
 	}
 	return sn, path, m, src, nil
 }
@@ -567,11 +577,16 @@ func (s *Server) didSave(params json.RawMessage) error {
 		return err
 	}
 	s.mu.Lock()
+	replaced := false
 	if d, ok := s.ses.docs[path]; ok && p.Text != nil && *p.Text != string(d.text) {
 		s.ses.docs[path] = &document{uri: d.uri, path: path, version: d.version, text: []byte(*p.Text)}
+		replaced = true
 	}
 	s.ses.gen++
 	s.mu.Unlock()
+	if replaced {
+		s.supersede(path)
+	}
 	s.changed(path, saved)
 	return nil
 }

@@ -45,7 +45,7 @@ var reserved = map[string]bool{
 	"s": true, "z": true,
 	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
 	"forward": true, "feedback": true, "sign": true, "require": true,
-	"via": true, "prewarp": true, "min": true, "max": true,
+	"via": true, "prewarp": true, "min": true, "max": true, "vary": true, "to": true,
 }
 
 var nameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)

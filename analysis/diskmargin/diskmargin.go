@@ -62,37 +62,64 @@ const (
 // closed-loop pole on it): it has no disk margin.
 var ErrOnCircle = errors.New("diskmargin: 1 + L vanishes on the unit circle")
 
+// ErrUnbounded reports L = 1 on the whole circle (a static loop of gain
+// one): |S − 1/2| vanishes everywhere and no disk of changes destabilises
+// it, so there is no finite alpha.
+var ErrUnbounded = errors.New("diskmargin: L = 1 at every frequency, the disk margin is unbounded")
+
 // Compute returns the disk margin of L. closedPoles are the closed-loop
 // poles (the grid is refined near those close to the circle); the caller
 // must know the loop to be stable, since alpha says nothing otherwise.
+// The grid is walked with a window of three points, so a check of many
+// loops allocates next to nothing here.
 func Compute(L Response, closedPoles []complex128) (Margin, error) {
 	f := func(th float64) float64 { return distance(L(th)) }
-	grid := searchGrid(closedPoles)
-	vals := make([]float64, len(grid))
-	for i, th := range grid {
-		vals[i] = f(th)
-		if math.IsInf(vals[i], 1) || math.IsNaN(vals[i]) {
-			return Margin{}, ErrOnCircle
-		}
-	}
+	var th, v [3]float64 // the last three grid points, oldest first
+	n := 0
 	best, bestTh := -1.0, 0.0
-	for i := range grid {
-		if (i > 0 && vals[i] < vals[i-1]) || (i < len(grid)-1 && vals[i] < vals[i+1]) {
-			continue // not a local maximum of the grid
+	// peak considers the middle point of the window (or an end of the
+	// grid) as a local maximum and refines it.
+	peak := func(i int, interior bool) {
+		if interior && (v[i] < v[i-1] || v[i] < v[i+1] || v[i] == v[i-1] && v[i] == v[i+1]) {
+			return // not a local maximum, or a flat stretch (nothing to refine)
 		}
-		th, v := grid[i], vals[i]
-		if i > 0 && i < len(grid)-1 {
-			t := search.GoldenMax(f, grid[i-1], grid[i+1], AngleTol)
-			if ft := f(t); ft > v {
-				th, v = t, ft
+		t, val := th[i], v[i]
+		if interior {
+			if u := search.GoldenMax(f, th[i-1], th[i+1], AngleTol); f(u) > val {
+				t, val = u, f(u)
 			}
 		}
-		if v > best {
-			best, bestTh = v, th
+		if val > best {
+			best, bestTh = val, t
 		}
 	}
-	if math.IsInf(best, 1) || math.IsNaN(best) {
+	bad := false
+	walkGrid(closedPoles, func(t float64) {
+		val := f(t)
+		if math.IsInf(val, 1) || math.IsNaN(val) {
+			bad = true
+		}
+		th[0], th[1], th[2] = th[1], th[2], t
+		v[0], v[1], v[2] = v[1], v[2], val
+		n++
+		switch {
+		case n == 2 && v[1] >= v[2]: // θ = 0, the first point
+			peak(1, false)
+		case n >= 3:
+			peak(1, true)
+		}
+	})
+	if n >= 2 && v[2] >= v[1] { // θ = π, the last point
+		peak(2, false)
+	}
+	if best < 0 && n > 0 { // flat everywhere: any point is the peak
+		best, bestTh = v[2], th[2]
+	}
+	if bad || math.IsInf(best, 1) || math.IsNaN(best) {
 		return Margin{}, ErrOnCircle
+	}
+	if best == 0 {
+		return Margin{}, ErrUnbounded
 	}
 	return FromAlpha(1/best, bestTh), nil
 }
@@ -120,29 +147,38 @@ func distance(l complex128) float64 {
 	return cmplx.Abs(1-l) / (2 * cmplx.Abs(1+l))
 }
 
-func searchGrid(poles []complex128) []float64 {
-	g := make([]float64, 0, GridPoints+64)
-	for i := 0; i <= GridPoints; i++ {
-		g = append(g, math.Pi*float64(i)/GridPoints)
-	}
+// walkGrid calls visit on the search grid in increasing order: GridPoints
+// uniform angles over [0, π] merged with geometric clusters around the
+// closed-loop poles within NearCircle of the circle (down to a 16th of the
+// pole's distance to it), points closer than 1e-14 rad merged.
+func walkGrid(poles []complex128, visit func(th float64)) {
+	var extra []float64
 	for _, p := range poles {
 		d := math.Abs(cmplx.Abs(p) - 1)
 		if d >= NearCircle {
 			continue
 		}
 		phi := math.Abs(cmplx.Phase(p))
-		g = append(g, phi)
+		extra = append(extra, phi)
 		for s := math.Max(d, 1e-12) / 16; s < 2*NearCircle; s *= 1.5 {
-			g = append(g, phi-s, phi+s)
+			extra = append(extra, phi-s, phi+s)
 		}
 	}
-	sort.Float64s(g)
-	out := g[:0]
-	for _, th := range g {
-		if th < 0 || th > math.Pi || (len(out) > 0 && th-out[len(out)-1] < 1e-14) {
-			continue
+	sort.Float64s(extra)
+	last := math.Inf(-1)
+	emit := func(th float64) {
+		if th < 0 || th > math.Pi || th-last < 1e-14 {
+			return
 		}
-		out = append(out, th)
+		last = th
+		visit(th)
 	}
-	return out
+	j := 0
+	for i := 0; i <= GridPoints; i++ {
+		u := math.Pi * float64(i) / GridPoints
+		for ; j < len(extra) && extra[j] < u; j++ {
+			emit(extra[j])
+		}
+		emit(u)
+	}
 }

@@ -168,3 +168,12 @@ func highFirst(p poly.Poly) []float64 {
 	}
 	return out
 }
+
+// TestZeroLoop: L ≡ 0 (an open loop) has S = 1, |S − 1/2| = 1/2 at every
+// frequency, so alpha = 2 exactly and the gain range is unbounded.
+func TestZeroLoop(t *testing.T) {
+	m, err := Compute(func(float64) complex128 { return 0 }, nil)
+	if err != nil || m.Alpha != 2 || m.GainLowDB != nil || m.GainHighDB != nil || math.Abs(m.PhaseDeg-90) > 1e-12 {
+		t.Errorf("L = 0: %+v, %v; want alpha 2, unbounded gains, ±90°", m, err)
+	}
+}

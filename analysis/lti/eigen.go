@@ -217,8 +217,7 @@ func clusters(vals []complex128, xs, ys [][]complex128, radius []float64, eta fl
 	for i := range parent {
 		parent[i] = i
 	}
-	var find func(int) int
-	find = func(i int) int {
+	find := func(i int) int {
 		for parent[i] != i {
 			parent[i] = parent[parent[i]]
 			i = parent[i]

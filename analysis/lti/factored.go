@@ -4,7 +4,6 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
-	"sort"
 
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
@@ -235,18 +234,6 @@ func ldexpC(c complex128, k int) complex128 {
 // that want coefficients; the numerics never use them).
 func (f Factored) Rational() poly.Rational {
 	return poly.R(poly.FromRoots(f.Zeros).Scale(f.Gain), poly.FromRoots(f.Poles))
-}
-
-// sortRoots orders roots by real part then imaginary part, so that a
-// conjugate pair is adjacent (lower half first) — a canonical order for
-// matching.
-func sortRoots(zs []complex128) {
-	sort.Slice(zs, func(i, j int) bool {
-		if real(zs[i]) != real(zs[j]) {
-			return real(zs[i]) < real(zs[j])
-		}
-		return imag(zs[i]) < imag(zs[j])
-	})
 }
 
 const eps = 0x1p-52

@@ -17,8 +17,6 @@ type System struct {
 	D    float64
 }
 
-func (s System) at(i, j int) float64 { return s.A[i*s.N+j] }
-
 // section is one real first- or second-order factor: num/den with den monic
 // of degree 1 or 2 and num of degree ≤ deg den (lowest power first), and the
 // poles it was built from.

@@ -3,9 +3,10 @@
 // Bode plot of the open loop L with its margins, and the closed-loop step
 // response; and an HTML page that gathers every loop of a file.
 //
-// Everything drawn comes from analysis.Result; the only numerics here are
-// the open-loop roots (roots.Find on L's numerator and denominator) and
-// the frequency response on a plotting grid (freq.Response).
+// Everything drawn comes from analysis.Result, open-loop poles and zeros
+// included (the blocks' own, from the loop's model); the only numerics here
+// are the frequency response on a plotting grid (freq.Response) and, for a
+// loop without a model, the roots of L's polynomials.
 package plot
 
 import (

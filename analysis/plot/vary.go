@@ -16,7 +16,7 @@ import (
 
 // colRange is the colour of what a loop's varying gains sweep: the region of
 // closed-loop poles and the envelope of the Bode curves (light blue).
-var colRange = color.NRGBA{R: 0x5a, G: 0x9b, B: 0xe0, A: 0xa0}
+var colRange = color.RGBA{R: 0x8c, G: 0xb8, B: 0xe8, A: 0xff}
 
 // addRegion draws the closed-loop poles at the points of the box the robust
 // analysis examined (corners, samples along the edges or the grid, the

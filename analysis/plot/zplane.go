@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"ringside/analysis"
+	"ringside/analysis/lti"
 	"ringside/analysis/pole"
 	"ringside/analysis/roots"
 )
@@ -163,12 +164,28 @@ func dampingCurve(zeta float64) plotter.XYs {
 	return out
 }
 
-func newZPlane(l *analysis.Loop) (*zPlane, error) {
-	open, err := openRoots(l.Open.Den, "poles")
-	if err != nil {
-		return nil, err
+// openPolesZeros returns L's poles and zeros: those of its blocks, as the
+// analysis found them (L is their product, nothing cancelled), or the roots
+// of L's polynomials for a loop without a block model.
+func openPolesZeros(l *analysis.Loop) (poles, zeros []complex128, err error) {
+	if m := l.Model; m != nil {
+		for _, b := range append(append([]lti.Factored(nil), m.Forward...), m.Feedback...) {
+			poles = append(poles, b.Poles...)
+			if !b.IsZero() {
+				zeros = append(zeros, b.Zeros...)
+			}
+		}
+		return poles, zeros, nil
 	}
-	zeros, err := openRoots(l.Open.Num, "zeros")
+	if poles, err = openRoots(l.Open.Den, "poles"); err != nil {
+		return nil, nil, err
+	}
+	zeros, err = openRoots(l.Open.Num, "zeros")
+	return poles, zeros, err
+}
+
+func newZPlane(l *analysis.Loop) (*zPlane, error) {
+	open, zeros, err := openPolesZeros(l)
 	if err != nil {
 		return nil, err
 	}

@@ -20,6 +20,11 @@ type Robust struct {
 	Why    string                `json:"why,omitempty"`
 	Ranges map[string][2]float64 `json:"ranges"`
 	Worst  *RobustWorst          `json:"worst"`
+	// IllPosedAt is a point where a closed-loop pole goes to infinity.
+	IllPosedAt map[string]float64 `json:"ill_posed_at,omitempty"`
+	// NominalOnly: no point of the range could be examined; worst is the
+	// nominal point.
+	NominalOnly bool `json:"nominal_only,omitempty"`
 }
 
 // RobustWorst is the point of the box with the largest closed-loop pole
@@ -48,6 +53,13 @@ func robust(l *analysis.Loop) *Robust {
 	for i, n := range r.Names {
 		out.Ranges[n] = [2]float64{r.Ranges[i].Lo, r.Ranges[i].Hi}
 	}
+	if r.IllPosed != nil {
+		out.IllPosedAt = map[string]float64{}
+		for i, n := range r.Names {
+			out.IllPosedAt[n] = r.IllPosed[i]
+		}
+	}
+	out.NominalOnly = r.NominalOnly
 	if r.Worst != nil {
 		w := &RobustWorst{Values: map[string]float64{}, MaxRadius: finite(r.WorstRadius),
 			GainMarginDB: finitePtr(r.GainMarginDB), PhaseMarginDeg: finitePtr(r.PhaseMarginDeg)}

@@ -38,6 +38,7 @@ import (
 
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/internal/search"
+	"ringside/analysis/lti"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 )
@@ -47,12 +48,28 @@ type Family struct {
 	Names  []string  // the varying gains
 	Lo, Hi []float64 // the box: Lo[i] < Hi[i]
 	// Char returns the closed-loop characteristic polynomial at a point of
-	// the box; ok is false when the loop cannot be formed there.
+	// the box, for the exact methods; ok is false when the loop cannot be
+	// formed there. Nil when the expanded polynomial is not to be trusted
+	// (a degree so high that its roots are ill-conditioned): the grid then
+	// decides alone.
 	Char func(x []float64) (p poly.Poly, ok bool)
+	// Eval returns, from the loop's own model, the largest closed-loop pole
+	// radius at a point and the verdict there (eigenvalues with error
+	// bounds: lti.Undecided when a bound straddles the circle). The grid
+	// uses it; nil: the grid takes the roots of Char, decided by Tolerance.
+	Eval func(x []float64) (radius float64, v lti.Verdict, ok bool)
 	// Tolerance: a pole with radius ≥ 1 − Tolerance counts as on or outside
 	// the circle (the checker's verdict tolerance).
 	Tolerance float64
+	// Stop, when set and true, ends the analysis early with no verdict
+	// (a cancelled request, a spent time budget).
+	Stop func() bool
 }
+
+func (f Family) stopped() bool { return f.Stop != nil && f.Stop() }
+
+// stoppedWhy is Result.Why of an analysis ended by Family.Stop.
+const stoppedWhy = "the analysis was stopped (cancelled or out of its time budget) before it finished"
 
 // Result is the verdict over the box and its worst point.
 type Result struct {
@@ -61,17 +78,26 @@ type Result struct {
 	Method string
 	Exact  bool   // the method proves or refutes stability (affine cases)
 	Why    string // why Stable is nil
-	// Worst is the point with the largest closed-loop pole radius found,
-	// WorstRadius that radius (+Inf where the degree drops: a pole at
-	// infinity).
+	// Worst is the point with the largest finite closed-loop pole radius
+	// found, WorstRadius that radius.
 	Worst       []float64
 	WorstRadius float64
+	// IllPosed is a point where the characteristic polynomial loses
+	// degree (a pole at infinity: the loop is ill-posed there); nil when
+	// none was met. Such a box is not stable.
+	IllPosed []float64
 	// Points are the points of the box examined (corners first), for
 	// margins and plots; at most MaxPoints.
 	Points [][]float64
 	// Interval is, for one gain with the exact method, the gain's stable
 	// interval (nil ends: unbounded).
 	Interval *gainlimit.Interval
+
+	// Grid bookkeeping: the first point certainly not stable (the worst
+	// point, of the largest radius, is then not stable either unless its own
+	// verdict was undecided) and how many points were undecided.
+	witness   []float64
+	undecided int
 }
 
 const (
@@ -90,8 +116,12 @@ const (
 	// loops tried; see the tests' numpy cross-check at 1e-6).
 	RefineTol = 1e-10
 	// MaxGridPoints bounds the grid method (points of the box evaluated
-	// before refinement); see GridSize.
-	MaxGridPoints = 4096
+	// before refinement; each is a full evaluation of the loop, a
+	// discretization included); see GridSize.
+	MaxGridPoints = 1024
+	// MaxGridGains is the most varying gains the grid takes (3^6 = 729
+	// points); beyond it a box without an exact method is undecided.
+	MaxGridGains = 6
 	// MaxPoints bounds Result.Points.
 	MaxPoints = 256
 	// MaxGains is the most varying gains in one loop: the edge count
@@ -100,8 +130,8 @@ const (
 	// compassLevels: the compass search halves its step from half a grid
 	// spacing this many times (to 1/8192 of a spacing).
 	compassLevels = 13
-	// maxCompassMoves bounds the compass search's evaluations loop.
-	maxCompassMoves = 2000
+	// maxCompassEvals bounds the compass search's evaluations of the loop.
+	maxCompassEvals = 400
 )
 
 // Analyse decides stability over the box.
@@ -110,10 +140,12 @@ func Analyse(f Family) Result {
 	if n == 0 || n > MaxGains {
 		return Result{Method: "none", Why: fmt.Sprintf("%d varying gains in one loop; at most %d are analysed", n, MaxGains), WorstRadius: math.NaN()}
 	}
-	if m, ok, why := fit(f); ok {
-		return m.edges(f)
-	} else if why != "" {
-		return Result{Method: "none", Why: why, WorstRadius: math.NaN()}
+	if f.Char != nil {
+		if m, ok, why := fit(f); ok {
+			return m.edges(f)
+		} else if why != "" {
+			return Result{Method: "none", Why: why, WorstRadius: math.NaN()}
+		}
 	}
 	return grid(f)
 }
@@ -271,6 +303,9 @@ func (m affine) edges(f Family) Result {
 	}
 	var cands []edgeBest
 	for _, e := range es {
+		if f.stopped() {
+			return Result{Method: res.Method, Why: stoppedWhy, WorstRadius: math.NaN()}
+		}
 		d := e.dim
 		// c = A + k·B along the edge, k the gain's own value.
 		x0 := append([]float64(nil), e.base...)
@@ -287,12 +322,14 @@ func (m affine) edges(f Family) Result {
 		cands = append(cands, m.sampleEdge(f, e, &res, ok, iv))
 	}
 	m.refineWorst(f, cands, &res)
+	if !res.Exact {
+		res.Method += "; not exact on every edge (some interval ends found by bisection)"
+	}
 	switch {
-	case res.WorstRadius >= 1-f.Tolerance:
-		stable = false // a point with a pole on or outside the circle
+	case res.WorstRadius >= 1-f.Tolerance || res.IllPosed != nil:
+		stable = false // a point with a pole on or outside the circle, or at infinity
 	case !res.Exact:
 		res.Why = "an edge's stable interval could not be computed exactly (its ends were found by bisection) and no point with a pole on or outside the circle was found"
-		res.Method += "; not exact on every edge"
 		return res
 	}
 	res.Stable = &stable
@@ -348,7 +385,10 @@ func (m affine) sampleEdge(f Family, e edge, res *Result, stable bool, iv *gainl
 	}
 	best := edgeBest{e: e, rad: -1}
 	for i, t := range ts {
-		if v := m.edgeRadius(f, e, t); v > best.rad {
+		v := m.edgeRadius(f, e, t)
+		if math.IsInf(v, 1) {
+			res.offer(e.point(f, t), v)
+		} else if v > best.rad {
 			best.t, best.rad = t, v
 		}
 		if i < EdgeSamples && i%4 == 2 {
@@ -359,11 +399,7 @@ func (m affine) sampleEdge(f Family, e edge, res *Result, stable bool, iv *gainl
 }
 
 func (m affine) edgeRadius(f Family, e edge, t float64) float64 {
-	v := radius(m.at(e.point(f, t)), m.deg)
-	if math.IsNaN(v) {
-		return math.Inf(1)
-	}
-	return v
+	return radius(m.at(e.point(f, t)), m.deg)
 }
 
 // refineEdges is how many edges, best sample first, golden section refines.
@@ -376,18 +412,41 @@ const refineEdges = 3
 func (m affine) refineWorst(f Family, cands []edgeBest, res *Result) {
 	sort.Slice(cands, func(i, j int) bool { return cands[i].rad > cands[j].rad })
 	for k, c := range cands {
-		if k < refineEdges && !math.IsInf(c.rad, 1) {
+		if c.rad < 0 {
+			continue // no finite sample on this edge
+		}
+		if k < refineEdges {
 			h := 1 / float64(EdgeSamples-1)
-			r := func(t float64) float64 { return m.edgeRadius(f, c.e, t) }
+			r := func(t float64) float64 {
+				v := m.edgeRadius(f, c.e, t)
+				if math.IsInf(v, 1) || math.IsNaN(v) {
+					return -1 // golden section keeps to the finite side
+				}
+				return v
+			}
 			t := search.GoldenMax(r, math.Max(c.t-h, 0), math.Min(c.t+h, 1), RefineTol)
 			if v := r(t); v > c.rad {
 				c.t, c.rad = t, v
 			}
 		}
-		if c.rad > res.WorstRadius {
-			res.WorstRadius, res.Worst = c.rad, c.e.point(f, c.t)
-		}
+		res.offer(c.e.point(f, c.t), c.rad)
 	}
+}
+
+// offer records a point and its radius: the worst point when it beats it,
+// the ill-posed point when the radius is infinite; NaN (no roots) is not
+// recorded.
+func (r *Result) offer(x []float64, v float64) bool {
+	switch {
+	case math.IsInf(v, 1):
+		if r.IllPosed == nil {
+			r.IllPosed = x
+		}
+	case v > r.WorstRadius:
+		r.WorstRadius, r.Worst = v, x
+		return true
+	}
+	return false
 }
 
 func (r *Result) add(x []float64) {
@@ -398,7 +457,7 @@ func (r *Result) add(x []float64) {
 
 // GridSize is the number of grid points per gain for n varying gains: the
 // most that keeps the n-dimensional grid within MaxGridPoints, at least 3
-// (so 8 gains take 6,561 points) and at most 129.
+// and at most 129: 129, 32, 10, 5, 4, 3 for n = 1 … 6.
 func GridSize(n int) int {
 	k := int(math.Floor(math.Pow(MaxGridPoints, 1/float64(n)) + 1e-9))
 	return min(max(k, 3), 129)
@@ -408,6 +467,9 @@ func GridSize(n int) int {
 // point by compass search. It can refute stability, never prove it.
 func grid(f Family) Result {
 	n := len(f.Names)
+	if n > MaxGridGains {
+		return Result{Method: "none", WorstRadius: math.NaN(), Why: fmt.Sprintf("%d varying gains enter the loop other than affinely (a product of varying gains, or a gain inside a discretized s block); no exact method applies and a grid is limited to %d gains", n, MaxGridGains)}
+	}
 	k := GridSize(n)
 	total := 1
 	for i := 0; i < n; i++ {
@@ -418,48 +480,30 @@ func grid(f Family) Result {
 	for i := range dims {
 		dims[i] = fmt.Sprint(k)
 	}
-	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined by compass search near the worst point to 1/%d of a spacing; a grid cannot prove stability between its points",
-		strings.Join(dims, "×"), total, k-1, 1<<compassLevels)
-	deg := -1
-	eval := func(x []float64) (float64, bool) {
-		p, ok := f.Char(x)
-		if !ok {
-			return 0, false
-		}
-		if deg < 0 {
-			deg = p.Degree()
-		}
-		v := radius(p, deg)
-		if math.IsNaN(v) {
-			return 0, false
-		}
-		return v, true
-	}
-	// The degree to keep: the largest at any corner.
-	for _, x := range corners(f.Lo, f.Hi) {
-		if p, ok := f.Char(x); ok {
-			deg = max(deg, p.Degree())
-		}
-	}
+	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
+		strings.Join(dims, "×"), total, k-1, 1<<compassLevels, maxCompassEvals)
+	eval := f.evaluator()
 	for _, x := range corners(f.Lo, f.Hi) {
 		res.add(x)
 	}
 	idx := make([]int, n)
 	for c := 0; c < total; c++ {
+		if c%64 == 0 && f.stopped() {
+			return Result{Method: res.Method, Why: stoppedWhy, WorstRadius: math.NaN()}
+		}
 		x := make([]float64, n)
 		for i := range x {
 			x[i] = f.Lo[i] + float64(idx[i])/float64(k-1)*(f.Hi[i]-f.Lo[i])
 		}
-		v, ok := eval(x)
+		v, verdict, ok := eval(x)
 		if !ok {
 			res.Method = "grid"
 			res.Why = "the loop cannot be formed at " + pointText(f.Names, x)
 			res.WorstRadius = math.NaN()
 			return res
 		}
-		if v > res.WorstRadius {
-			res.WorstRadius, res.Worst = v, x
-		}
+		res.offer(x, v)
+		res.count(x, verdict)
 		if c%max(total/64, 1) == 0 {
 			res.add(x)
 		}
@@ -471,31 +515,90 @@ func grid(f Family) Result {
 		}
 	}
 	res.compass(f, eval, k)
-	if res.WorstRadius >= 1-f.Tolerance {
+	if res.witness != nil || res.IllPosed != nil {
 		st := false
 		res.Stable = &st
 		return res
 	}
-	res.Why = fmt.Sprintf("the closed-loop poles depend on %s other than affinely (a product of varying gains, or a gain inside a discretized s block), so no exact method applies; every one of the %d grid points is stable, which does not prove the points between them are", strings.Join(f.Names, ", "), total)
+	why := "no exact method applies"
+	if f.Char != nil {
+		why = fmt.Sprintf("the closed-loop poles depend on %s other than affinely (a product of varying gains, or a gain inside a discretized s block), so no exact method applies", strings.Join(f.Names, ", "))
+	} else {
+		why = "the loop's characteristic polynomial is of too high a degree for the exact methods to be trusted, so no exact method applies"
+	}
+	if res.undecided > 0 {
+		res.Why = fmt.Sprintf("%s; %d of the %d grid points are stable and at %d the verdict is undecided (a pole's error bound straddles the circle)", why, total-res.undecided, total, res.undecided)
+	} else {
+		res.Why = fmt.Sprintf("%s; every one of the %d grid points is stable, which does not prove the points between them are", why, total)
+	}
 	return res
+}
+
+// pointEval is the loop at one point: its largest pole radius and verdict.
+type pointEval func(x []float64) (float64, lti.Verdict, bool)
+
+// evaluator returns Eval, or the roots of Char decided by Tolerance.
+func (f Family) evaluator() pointEval {
+	if f.Eval != nil {
+		return f.Eval
+	}
+	deg := -1
+	for _, x := range corners(f.Lo, f.Hi) { // the degree to keep: the largest at any corner
+		if p, ok := f.Char(x); ok {
+			deg = max(deg, p.Degree())
+		}
+	}
+	return func(x []float64) (float64, lti.Verdict, bool) {
+		p, ok := f.Char(x)
+		if !ok {
+			return 0, 0, false
+		}
+		v := radius(p, deg)
+		switch {
+		case math.IsNaN(v):
+			return 0, 0, false
+		case v >= 1-f.Tolerance:
+			return v, lti.Unstable, true
+		}
+		return v, lti.Stable, true
+	}
+}
+
+// count records a grid point's verdict: the first point certainly on or
+// outside the circle is the witness that the box is not stable.
+func (r *Result) count(x []float64, v lti.Verdict) {
+	switch v {
+	case lti.Unstable, lti.Marginal:
+		if r.witness == nil {
+			r.witness = x
+		}
+	case lti.Undecided:
+		r.undecided++
+	}
 }
 
 // compass improves the worst point by coordinate steps, halving the step
 // when no move helps.
-func (r *Result) compass(f Family, eval func([]float64) (float64, bool), k int) {
-	if r.Worst == nil || math.IsInf(r.WorstRadius, 1) {
+func (r *Result) compass(f Family, eval pointEval, k int) {
+	if r.Worst == nil {
 		return
 	}
 	n := len(f.Names)
 	step := 0.5 / float64(k-1)
-	for level, moves := 0, 0; level < compassLevels && moves < maxCompassMoves; moves++ {
+	evals := 0
+	for level := 0; level < compassLevels && evals < maxCompassEvals && !f.stopped(); {
 		moved := false
 		for i := 0; i < n && !moved; i++ {
 			for _, s := range []float64{1, -1} {
 				x := append([]float64(nil), r.Worst...)
 				x[i] = math.Min(math.Max(x[i]+s*step*(f.Hi[i]-f.Lo[i]), f.Lo[i]), f.Hi[i])
-				if v, ok := eval(x); ok && v > r.WorstRadius {
-					r.WorstRadius, r.Worst, moved = v, x, true
+				evals++
+				v, verdict, ok := eval(x)
+				if ok {
+					r.count(x, verdict)
+				}
+				if ok && r.offer(x, v) {
+					moved = true
 					break
 				}
 			}

@@ -38,7 +38,7 @@
   '("sample" "use" "gain" "block" "loop" "forward" "feedback" "sign" "require")
   "Words that start a statement of a .loop file.")
 
-(defconst loop-modifier-keywords '("via" "min" "max" "prewarp")
+(defconst loop-modifier-keywords '("via" "min" "max" "prewarp" "vary" "to")
   "Words that qualify a statement.")
 
 (defconst loop-methods '("zoh" "foh" "tustin" "matched")
@@ -49,7 +49,7 @@
 
 (defconst loop-metrics
   '("gain_margin" "phase_margin" "delay_margin" "radius" "damping"
-    "peak_sensitivity" "overshoot" "settling")
+    "peak_sensitivity" "overshoot" "settling" "disk_margin")
   "Metrics named in `require' lines.")
 
 (defconst loop-number-regexp

@@ -3,7 +3,7 @@
 # the Go benchmarks of ./analysis/ (and ./server/ when its latency benchmarks
 # compile), summarised by benchstat when it can be fetched through the Go
 # module proxy (raw output otherwise), then the ringside-vs-scipy table of
-# compare.sh.
+# compare.sh and the memory and growth table of memory.sh.
 #
 #   bash testdata/perf/bench.sh                 # COUNT=3, SIZES="10 100 1000"
 #   COUNT=1 SIZES="10 100" bash testdata/perf/bench.sh
@@ -40,3 +40,6 @@ fi
 echo
 echo "## ringside check vs numpy/scipy"
 bash testdata/perf/compare.sh
+echo
+echo "## ringside check: peak memory and growth"
+bash testdata/perf/memory.sh

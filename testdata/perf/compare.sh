@@ -3,8 +3,11 @@
 # reference (scipy_check.py) on the same generated corpora, with a check that
 # both agree on every loop's stability and margins. Prints markdown tables.
 #
-#   bash testdata/perf/compare.sh            # 10, 100, 1000 loops
-#   SIZES="10 100 1000 10000" bash testdata/perf/compare.sh
+#   bash testdata/perf/compare.sh            # 200 and 2000 loops
+#   SIZES="200 2000 20000" bash testdata/perf/compare.sh
+#
+# Every loop is third order: a PI controller around a second-order discrete
+# plant (gen_corpus.py --pi), up to 2,000 loops a file.
 #
 # Two corpora per size: "gains" (controller gains on `gain` lines, so
 # ringside also computes every gain's stable interval and safe value, which
@@ -17,7 +20,7 @@
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 PY=${RINGSIDE_PYTHON:-/usr/bin/python3}
-SIZES=${SIZES:-"10 100 1000"}
+SIZES=${SIZES:-"200 2000"}
 HERE=testdata/perf
 BIN=/tmp/ringside
 WORK=$(mktemp -d)
@@ -26,20 +29,22 @@ trap 'rm -rf "$WORK"' EXIT
 "$PY" -c 'import numpy, scipy' 2>/dev/null || { echo "compare.sh: $PY lacks numpy/scipy (apt-get install python3-scipy)" >&2; exit 2; }
 go build -o "$BIN" .
 
-now() { echo "$EPOCHREALTIME"; }
-# best SECONDS-of-N-runs of a command
+# "WALL CPU" seconds of the best of N runs of a command (CPU = user +
+# system, from GNU time: less disturbed than wall time by other work on a
+# shared machine).
 timeit() {
   local runs=$1; shift
-  local best=
+  local best= cpu=
   for _ in $(seq "$runs"); do
-    local t0 t1 rc=0
-    t0=$(now)
-    "$@" >/dev/null || rc=$?
-    t1=$(now)
+    local rc=0
+    /usr/bin/time -f '%e %U %S' -o "$WORK/time" "$@" >/dev/null || rc=$?
     if [ "$rc" -gt 1 ]; then echo "compare.sh: '$*' failed with status $rc" >&2; exit 2; fi
-    best=$(awk -v a="$t0" -v b="$t1" -v best="$best" 'BEGIN { d = b - a; if (best == "" || d < best) best = d; printf "%.3f", best }')
+    read -r w u s < <(tail -1 "$WORK/time")
+    if [ -z "$best" ] || awk -v a="$w" -v b="$best" 'BEGIN { exit !(a < b) }'; then
+      best=$w cpu=$(awk -v u="$u" -v s="$s" 'BEGIN { printf "%.2f", u + s }')
+    fi
   done
-  echo "$best"
+  echo "$best $cpu"
 }
 
 agree_all=0
@@ -51,11 +56,11 @@ for variant in gains literal; do
   prev_s= prev_r=
   for n in $SIZES; do
     dir="$WORK/$variant-$n"
-    "$PY" "$HERE/gen_corpus.py" "$n" "$dir" $flag
+    "$PY" "$HERE/gen_corpus.py" "$n" "$dir" --pi --per-file 2000 $flag
     runs=3
     [ "$n" -ge 1000 ] && runs=1
-    ts=$(timeit "$runs" "$PY" "$HERE/scipy_check.py" run "$dir" "$WORK/scipy-$variant-$n.json")
-    tr=$(cd "$dir" && timeit "$runs" sh -c "'$BIN' check --format json --root . . > '$WORK/ringside-$variant-$n.json'")
+    read -r ts cs < <(timeit "$runs" "$PY" "$HERE/scipy_check.py" run "$dir" "$WORK/scipy-$variant-$n.json")
+    read -r tr cr < <(cd "$dir" && timeit "$runs" sh -c "'$BIN' check --format json --root . . > '$WORK/ringside-$variant-$n.json'")
     if ! verdict=$("$PY" "$HERE/scipy_check.py" agree "$WORK/scipy-$variant-$n.json" "$WORK/ringside-$variant-$n.json"); then
       agree_all=1
     fi
@@ -64,9 +69,10 @@ for variant in gains literal; do
     gs=- gr=-
     [ -n "$prev_s" ] && gs=$(awk -v a="$prev_s" -v b="$ts" 'BEGIN { printf "×%.1f", b / a }')
     [ -n "$prev_r" ] && gr=$(awk -v a="$prev_r" -v b="$tr" 'BEGIN { printf "×%.1f", b / a }')
-    ratio=$(awk -v s="$ts" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
+    ratio=$(awk -v s="$ts" -v r="$tr" 'BEGIN { printf "%.3f (%.1f× faster)", r / s, s / r }')
     ratio_in=$(awk -v s="$tin" -v r="$tr" 'BEGIN { printf "%.2f", r / s }')
-    rows+=("| $n | $ts | $tin | $tr | $ratio | $ratio_in | $gs | $gr |")
+    ratio_cpu=$(awk -v s="$cs" -v r="$cr" 'BEGIN { if (r > 0) printf "%.1f×", s / r; else printf "-" }')
+    rows+=("| $n | $ts | $tin | $tr | $ratio | $ratio_in | $cs / $cr ($ratio_cpu) | $gs | $gr |")
     prev_s=$ts prev_r=$tr
   done
   echo
@@ -76,8 +82,8 @@ for variant in gains literal; do
     echo "Gains written as numbers inside blocks (no gain-limit search: the same work on both sides)"
   fi
   echo
-  echo "| loops | scipy s (process) | scipy s (analysis only) | ringside s | ringside / scipy process | ringside / scipy analysis | scipy growth per 10× | ringside growth per 10× |"
-  echo "|---:|---:|---:|---:|---:|---:|---:|---:|"
+  echo "| loops | scipy s (process) | scipy s (analysis only) | ringside s | ringside / scipy process | ringside / scipy analysis | CPU s scipy / ringside | scipy growth per 10× | ringside growth per 10× |"
+  echo "|---:|---:|---:|---:|---:|---:|---:|---:|---:|"
   printf '%s\n' "${rows[@]}"
 done
 echo

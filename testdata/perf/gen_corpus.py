@@ -8,11 +8,14 @@ z with the coefficients scipy produced (repr, so the exact doubles), and
 loops.json holds the same discrete numerators and denominators, so both
 tools analyse identical z transfer functions.
 
-Usage: gen_corpus.py N OUTDIR [--literal] [--seed S]
+Usage: gen_corpus.py N OUTDIR [--literal] [--pi] [--per-file K] [--seed S]
 
 --literal writes the controller gains as numbers inside the blocks (no
 `gain` lines), which skips ringside's per-gain stable-interval and safe-value
-search. Files hold at most 1000 loops each (ringside reads files up to 1 MiB).
+search. --pi makes every controller PI (every loop third order around the
+delay: the PI pole and the second-order plant); otherwise 30 % are P.
+Files hold at most K loops each (default 1000; ringside reads files up to
+1 MiB, which holds about 2,500 loops).
 """
 import argparse
 import json
@@ -30,6 +33,8 @@ def main():
     ap.add_argument("n", type=int)
     ap.add_argument("outdir")
     ap.add_argument("--literal", action="store_true")
+    ap.add_argument("--pi", action="store_true")
+    ap.add_argument("--per-file", type=int, default=PER_FILE)
     ap.add_argument("--seed", type=int, default=1)
     a = ap.parse_args()
     rng = np.random.default_rng(a.seed)
@@ -44,7 +49,7 @@ def main():
         bz, az, _ = cont2discrete((num_s, den_s), T, method="zoh")
         bz = np.trim_zeros(np.atleast_1d(np.squeeze(bz)), "f")
         az = np.atleast_1d(np.squeeze(az))
-        pi = rng.random() < 0.7
+        pi = rng.random() < 0.7 or a.pi
         kp = 0.05 + 4 * rng.random()
         ki = (1 + 60 * rng.random()) if pi else 0.0
         # Controller C(z) = kp + ki*T*z/(z-1) (backward-Euler integrator), or kp.
@@ -56,7 +61,7 @@ def main():
         name = f"l{i}"
         loops.append({
             "name": name,
-            "file": f"part_{i // PER_FILE:03d}.loop",
+            "file": f"part_{i // a.per_file:03d}.loop",
             "controller": {"num": list(map(float, cn)), "den": list(map(float, cd))},
             "plant": {"num": list(map(float, bz)), "den": list(map(float, az))},
             "feedback": {"num": [1.0], "den": [1.0, 0.0]},

@@ -7,10 +7,10 @@ syntax case match
 syntax iskeyword @,48-57,_,192-255
 
 syntax keyword loopStatement sample use gain block loop forward feedback sign require
-syntax keyword loopModifier via min max prewarp
+syntax keyword loopModifier via min max prewarp vary to
 syntax keyword loopMethod zoh foh tustin matched
 syntax keyword loopSign negative positive
-syntax keyword loopMetric gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling
+syntax keyword loopMetric gain_margin phase_margin delay_margin radius damping peak_sensitivity overshoot settling disk_margin
 
 " A number, optionally followed by a unit. Inside expressions `9s` means 9 * s,
 " so a unit only counts when a space separates it from the number.

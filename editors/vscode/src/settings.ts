@@ -16,7 +16,7 @@ export interface AnalysisOptions {
 export const defaultAnalysisOptions: AnalysisOptions = {
   gainMarginDb: 6,
   phaseMarginDeg: 30,
-  trigger: "save",
+  trigger: "change",
   tolerance: 1e-6,
 };
 
@@ -37,7 +37,7 @@ export function analysisOptions(read: SettingReader): AnalysisOptions {
   return {
     gainMarginDb: finiteOr(read("gainMarginDb"), d.gainMarginDb),
     phaseMarginDeg: finiteOr(read("phaseMarginDeg"), d.phaseMarginDeg),
-    trigger: trigger === "change" ? "change" : "save",
+    trigger: trigger === "save" ? "save" : "change",
     tolerance: tolerance > 0 ? tolerance : d.tolerance,
   };
 }

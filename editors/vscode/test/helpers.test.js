@@ -17,7 +17,7 @@ test("analysis options: settings pass through, bad values fall back to defaults"
   assert.deepEqual(analysisOptions(reader({ gainMarginDb: "8", phaseMarginDeg: NaN, trigger: "always", tolerance: -1 })), {
     gainMarginDb: 6,
     phaseMarginDeg: 30,
-    trigger: "save",
+    trigger: "change",
     tolerance: 1e-6,
   });
 });

@@ -64,7 +64,7 @@ test("the settings the README names are contributed with the stated defaults", (
   for (const { name, rest } of settings) {
     const m = /default `([^`]*)`/.exec(rest);
     assert.ok(m, `README gives no default for ${name}`);
-    // Defaults are written as JSON in the README: `6`, `"save"`, `1e-6`.
+    // Defaults are written as JSON in the README: `6`, `"change"`, `1e-6`.
     assert.deepEqual(props[name].default, JSON.parse(m[1]), `default of ${name}`);
   }
 });

@@ -2,7 +2,7 @@
 --
 -- require('ringside').setup{
 --   cmd = { 'ringside', 'serve' },           -- or a string: the binary, 'serve' is added
---   settings = { gainMarginDb = 6, phaseMarginDeg = 30, trigger = 'save', tolerance = 1e-6 },
+--   settings = { gainMarginDb = 6, phaseMarginDeg = 30, trigger = 'change', tolerance = 1e-6 },
 --   root_markers = { '.git' },
 --   keys = true,                             -- buffer-local maps on attach (false: none; a table: your own)
 --   open = nil,                              -- function(path) that shows the plot page; default: the system's opener
