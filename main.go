@@ -5,6 +5,7 @@
 //	ringside fmt [-w] FILE...
 //	ringside plot FILE [--loop NAME] [-o OUT]
 //	ringside serve [--stdio] [--log-file PATH] [--log-level LEVEL]
+//	ringside export [--lang c|json] [-o PATH] FILE
 package main
 
 import (
@@ -21,6 +22,7 @@ import (
 	"strings"
 
 	"ringside/analysis"
+	"ringside/analysis/export"
 	"ringside/analysis/plot"
 	"ringside/analysis/report"
 	"ringside/cliflag"
@@ -40,9 +42,12 @@ usage:
   ringside fmt [-w] FILE...
   ringside plot FILE [--loop NAME] [-o OUT.svg|OUT.png|OUT.html]
   ringside serve [--stdio] [--log-file PATH] [--log-level debug|info|warn|error]
+  ringside export [--lang c|json] [-o PATH] FILE
 
 check exits 0 when no file has errors, 1 when any has (or a loop regressed against --baseline),
 2 on usage errors or unreadable input. "ringside COMMAND --help" lists the flags of each command.
+export exits 0 when written, 1 when the file has errors (nothing is written), 2 on usage
+errors, unreadable input or a file without a realize line.
 `
 
 // checkMemoryLimit is the soft heap limit of `check` (GOMEMLIMIT
@@ -70,6 +75,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runPlot(args[1:], stdout, stderr)
 	case "serve":
 		return runServe(args[1:], stdin, stdout, stderr)
+	case "export":
+		return runExport(args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return 0
@@ -338,6 +345,62 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 	}
 	if err := fileio.WriteAtomic(*out, data, 0o644); err != nil {
 		fmt.Fprintf(stderr, "ringside plot: cannot write %s: %v\n", *out, err)
+		return exitUsage
+	}
+	return 0
+}
+
+// runExport writes the realized blocks of one file as a C99 header or JSON.
+func runExport(args []string, stdout, stderr io.Writer) int {
+	fset := cliflag.New("ringside export", "FILE", "Writes every realized block of FILE as a C99 header or as JSON.")
+	lang, out := new(string), new(string)
+	fset.Choice(lang, "lang", "c", []string{"c", "json"}, "output `LANG`: c (a C99 header) or json")
+	fset.String(out, "o", "output `PATH` inside the current folder (default: standard output)")
+	files, status := parseFlags(fset, args, stdout, stderr)
+	if status >= 0 {
+		return status
+	}
+	if len(files) != 1 {
+		fmt.Fprint(stderr, "ringside export: usage: ringside export [--lang c|json] [-o PATH] FILE\n")
+		return exitUsage
+	}
+	abs, _ := filepath.Abs(files[0])
+	src, err := readInput(abs)
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside export: cannot read %s: %v\n", files[0], err)
+		return exitUsage
+	}
+	cwd, _ := os.Getwd()
+	res := analysis.Check(context.Background(), abs, src, analysis.Env{Roots: []string{cwd}, Options: analysis.DefaultOptions()})
+	blocks, err := export.Blocks(res)
+	if err != nil {
+		var ee *export.Error
+		errors.As(err, &ee)
+		fmt.Fprintf(stderr, "ringside export: %s: %v\n", files[0], err)
+		return ee.Status
+	}
+	for _, n := range export.Unrealized(res) {
+		fmt.Fprintf(stderr, "ringside export: note: block %s is on a loop path but has no realize line; it is not exported\n", n)
+	}
+	var data []byte
+	if *lang == "json" {
+		data, err = export.JSON(res, blocks)
+	} else {
+		data = []byte(export.C(res, blocks, export.Source{Path: files[0], Content: src, Version: version}))
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside export: %v\n", err)
+		return 1
+	}
+	if *out == "" {
+		if _, err := stdout.Write(data); err != nil {
+			fmt.Fprintf(stderr, "ringside export: cannot write the output: %v\n", err)
+			return exitUsage
+		}
+		return 0
+	}
+	if err := export.WriteFile(cwd, *out, data); err != nil {
+		fmt.Fprintf(stderr, "ringside export: cannot write %s: %v\n", *out, err)
 		return exitUsage
 	}
 	return 0

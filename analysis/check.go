@@ -85,6 +85,7 @@ func (c *checker) run(ctx context.Context) {
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev
 	c.blocks(ev)
+	c.realizations(ev)
 	// Every block in scope is evaluated before the loops, which then only
 	// read the shared evaluator and can be analysed side by side.
 	for _, name := range sortedDecls(c.res.Scope) {

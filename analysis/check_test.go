@@ -229,6 +229,9 @@ func TestFixesClearTheirDiagnostic(t *testing.T) {
 		{"sample in a CR file", "block p = 5 / (s + 5) via zoh\rloop l {\r  forward p\r}\r", CodeNoSample},
 		{"flip sign", "sample 1 ms\nblock p = 0.8 / (z - 0.5)\nloop l {\n  forward p\n  sign positive\n}\n", CodePoleOutside},
 		{"sign", "sample 1 ms\nblock p = 0.5 / (z - 0.5)\nloop l {\n  forward p\n  sign negtive\n}\n", CodeBadSign},
+		{"realize block", "sample 50 us\nblock n = (z^2 - 1.997776z + 0.998001)(z^2 - 1.996402z + 0.998001) / ((z^2 - 1.991776z + 0.992016)(z^2 - 1.984411z + 0.986049))\nrealize n as direct in q3.12\n", CodeRealizeUnstable},
+		{"realize loop", "sample 50 us\nblock n = (z^2 - 1.997776z + 0.998001)(z^2 - 1.996402z + 0.998001) / ((z^2 - 1.991776z + 0.992016)(z^2 - 1.984411z + 0.986049))\nrealize n as direct in q3.12\nloop l {\n  forward n\n  feedback d\n  require gain_margin >= 6 dB\n}\nblock d = 0.001 / (z - 1)\n", CodeRealizeLoop},
+		{"realize range", "sample 1 ms\nblock lp = 0.02 / (z^2 - 1.8z + 0.82)\nrealize lp as direct in q0.15\n", CodeRealizeRange},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -48,6 +48,11 @@ const (
 	CodeSensitivityHigh = "sensitivity-high"
 	CodeOvershootHigh   = "overshoot-high"
 	CodeSettlingSlow    = "settling-slow"
+	CodeBadRealize      = "bad-realize"      // a realize line that cannot be used
+	CodeRealizeRange    = "realize-range"    // a coefficient outside the format's range
+	CodeRealizeUnstable = "realize-unstable" // rounding moves a block pole onto or outside the circle
+	CodeRealizeLoop     = "realize-loop"     // the loop with the realized block loses stability or a requirement
+	CodeRealizeHeadroom = "realize-headroom" // a fixed-point signal can overflow
 	CodeDiskMarginLow   = "disk-margin-low"
 	CodeRangeUnstable   = "range-unstable"  // a loop not stable over the range of its varying gains
 	CodeRangeUndecided  = "range-undecided" // stability over the range could not be established
@@ -116,6 +121,11 @@ var codeDescriptions = map[string]string{
 	CodeSensitivityHigh: "Peak sensitivity above its requirement.",
 	CodeOvershootHigh:   "Step overshoot above its requirement.",
 	CodeSettlingSlow:    "Step settling time above its requirement.",
+	CodeBadRealize:      "A realize line that cannot be used (unknown block, structure or format, twice).",
+	CodeRealizeRange:    "A realized coefficient outside the range of its format.",
+	CodeRealizeUnstable: "Rounding moves a block pole onto or outside the unit circle.",
+	CodeRealizeLoop:     "The loop with a realized block is unstable or misses a requirement the ideal loop meets.",
+	CodeRealizeHeadroom: "A fixed-point signal of a realized block can overflow.",
 	CodeDiskMarginLow:   "Disk margin below its requirement.",
 	CodeRangeUnstable:   "A loop that is not stable for every value of its varying gains.",
 	CodeRangeUndecided:  "Stability over the range of the varying gains could not be established.",

@@ -11,7 +11,8 @@ import (
 	"ringside/syntax"
 )
 
-// MaxBlockDegree bounds the degree of any block or loop polynomial. The root
+// MaxBlockDegree bounds the degree of any block polynomial (a loop's
+// order is bounded by MaxLoopDegree). The root
 // finder is validated to degree 64 (roots.MaxDegree); a controller or plant
 // beyond that is not a hand-written model, and powers nested without limit
 // would otherwise grow polynomials without bound.

@@ -95,7 +95,8 @@ func (f *fuzzReader) poly(v string) string {
 // fuzzLoopFile builds a .loop file from fuzz bytes: a sample line, gains,
 // blocks in s (with a method) or z (possibly sharing a factor between
 // numerator and denominator, and using gains), loops over them, and
-// requirements; the rest of the bytes are appended as free text.
+// requirements, and realize lines; the rest of the bytes are appended as
+// free text.
 func fuzzLoopFile(data []byte) []byte {
 	f := &fuzzReader{b: data}
 	var b strings.Builder
@@ -162,6 +163,11 @@ func fuzzLoopFile(data []byte) []byte {
 			fmt.Fprintf(&b, "  require %s\n", metrics[f.byte()%8])
 		}
 		b.WriteString("}\n")
+	}
+	structures := []string{"direct", "sections", "delta", "tiers"}
+	formats := []string{"q15", "q1.14", "q3.12", "float32", "float64", "q31.32", "q0.3", "q40.30"}
+	for i, n := 0, int(f.byte()%3); i < n; i++ {
+		fmt.Fprintf(&b, "realize b%d as %s in %s\n", f.byte()%byte(nb), structures[f.byte()%4], formats[f.byte()%8])
 	}
 	b.Write(data[min(f.i, len(data)):])
 	return []byte(b.String())

@@ -56,6 +56,27 @@ func (c *checker) stableAt(name string, k float64, loops []*Loop) bool {
 	return true
 }
 
+// unstableAt reports whether some loop certainly has a pole outside the
+// circle with the gain at k.
+func (c *checker) unstableAt(name string, k float64, loops []*Loop) bool {
+	for _, l := range loops {
+		if _, _, v := c.decideAt(l, name, k); v == lti.Unstable {
+			return true
+		}
+	}
+	return false
+}
+
+// verifiedEnds checks the interval (lo, hi) just inside each end (a
+// thousandth of the span in): no pole may be certainly outside there. (Just
+// inside a boundary a pole is close to the circle, and may be within the
+// on-circle tolerance; only a pole certainly outside reveals a missed
+// boundary.)
+func (c *checker) verifiedEnds(name string, lo, hi *float64, loops []*Loop) bool {
+	return !(lo != nil && c.unstableAt(name, inner(lo, hi, 1e-3), loops) ||
+		hi != nil && c.unstableAt(name, inner(lo, hi, 1-1e-3), loops))
+}
+
 // excess is the smallest amount, in dB, by which the loops using gain name
 // exceed their required gain margin with the gain set to k (+Inf when no
 // loop has a phase crossing), and NaN when some loop is not certainly
@@ -139,7 +160,7 @@ func sortedRoots(zs []complex128) []complex128 {
 // an isolated unstable value). Between consecutive candidates no pole
 // meets the circle, so stability is constant there; one eigenvalue check
 // per span decides it, and the chosen interval's ends are verified by an
-// eigenvalue check just inside each end. ok is false when some loop does
+// eigenvalue check just inside each end (verifiedEnds). ok is false when some loop does
 // not scale with the gain, or a check disagrees with the candidates.
 func (c *checker) scalingInterval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, bool) {
 	cands := []float64{0}
@@ -177,7 +198,7 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		if math.IsNaN(k) || math.IsInf(k, 0) {
 			continue
 		}
-		if len(ks) > 0 && math.Abs(k-ks[len(ks)-1]) <= scalingTol*math.Max(1, math.Abs(k)) {
+		if len(ks) > 0 && math.Abs(k-ks[len(ks)-1]) <= scalingTol*math.Abs(k) {
 			continue
 		}
 		if k == 0 && c.stableAt(name, k, loops) {
@@ -228,9 +249,7 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 	if contains != cur {
 		return gainlimit.Interval{}, false
 	}
-	// Verify just inside each end (a thousandth of the span in).
-	if s.lo != nil && !c.stableAt(name, inner(s.lo, s.hi, 1e-3), loops) ||
-		s.hi != nil && !c.stableAt(name, inner(s.lo, s.hi, 1-1e-3), loops) {
+	if !c.verifiedEnds(name, s.lo, s.hi, loops) {
 		return gainlimit.Interval{}, false
 	}
 	return gainlimit.Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: contains, Found: true}, true

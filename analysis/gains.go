@@ -40,14 +40,8 @@ func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Ratio
 // loopWith evaluates a loop's characteristic polynomial and open loop with
 // the gains ev sets.
 func (c *checker) loopWith(l *Loop, ev *evaluator) (poly.Poly, poly.Rational, bool) {
-	sh := shapeOf(l.Stmt)
-	fwd, ok1 := c.elements(ev, sh.fwd, false)
-	fb, ok2 := c.elements(ev, sh.fb, false)
-	if !ok1 || !ok2 {
-		return nil, poly.Rational{}, false
-	}
-	open, char, _ := polys(tfs(fwd), tfs(fb), sh.positive)
-	return char, open, true
+	p, ok := c.atPoint(l, ev, false)
+	return p.char, p.open, ok
 }
 
 // affine returns a, b with char(k) = a + k·b when that holds.
@@ -223,8 +217,7 @@ func (c *checker) affineInterval(name string, k0 float64, loops []*Loop) (gainli
 	if len(loops) > 1 && !out.ContainsCurrent {
 		return out, false // nearest intervals of different loops need not overlap
 	}
-	if out.Found && (out.Lo != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1e-3), loops) ||
-		out.Hi != nil && !c.stableAt(name, inner(out.Lo, out.Hi, 1-1e-3), loops)) {
+	if out.Found && !c.verifiedEnds(name, out.Lo, out.Hi, loops) {
 		return out, false
 	}
 	return out, true

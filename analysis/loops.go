@@ -13,6 +13,13 @@ import (
 	"ringside/syntax"
 )
 
+// MaxLoopDegree bounds a loop's order (the number of its closed-loop
+// poles). Nothing is solved as one polynomial of that degree: the limit
+// bounds the work of the eigenvalue problem (O(n³)), the frequency grid and
+// the step simulation, and leaves room for long delays (z^-50) around a
+// plant of order 30 or more.
+const MaxLoopDegree = 160
+
 // CancelTolerance: a block pole and a zero in the same loop closer than this
 // (relative to max(1, |pole|)) cancel in L. The mode is then a closed-loop
 // pole whose weight in the output is of the order of the distance: hidden
@@ -198,43 +205,51 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 		}
 	}
 	l.Gains = sortedKeys(gains)
+	c.analyse(l, sh, fwd, fb)
+	c.realizedLoop(l, sh, fwd, fb)
+	return l
+}
+
+// analyse computes a loop's figures from its resolved elements and reports
+// on them: the ideal loop, and the loop with realized blocks swapped in.
+func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	l.Open, l.Char, l.Closed = polys(tfs(fwd), tfs(fb), sh.positive)
 	if msg := degenerate(l, append(append([]element{}, fwd...), fb...)); msg != "" {
-		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric,
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric,
 			fmt.Sprintf("loop %s cannot be analysed: %s; no verdict is given. Rescale the blocks (write the gain separately from the poles)", l.Name, msg))
-		return l
+		return
 	}
-	if deg := l.Char.Degree(); deg > MaxBlockDegree {
-		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxBlockDegree))
-		return l
+	if deg := l.Char.Degree(); deg > MaxLoopDegree {
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeTooComplex, fmt.Sprintf("loop %s has a characteristic polynomial of degree %d, above the limit of %d", l.Name, deg, MaxLoopDegree))
+		return
 	}
 	if c.env.Options.Quick {
-		return l
+		return
 	}
 	if !c.algebraic(l, fwd, fb) {
-		return l
+		return
 	}
 	mod, err := model(fwd, fb, sh.positive)
 	if err != nil {
-		c.diags.add(c.res.Path, ls.Name.Span, Error, CodeNumeric, fmt.Sprintf("loop %s: closed-loop poles could not be computed (%v); no verdict", l.Name, err))
-		return l
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric, fmt.Sprintf("loop %s: closed-loop poles could not be computed (%v); no verdict", l.Name, err))
+		return
 	}
 	l.Model = mod
 	poles, ok := c.closedPoles(l)
 	if !ok {
-		return l
+		return
 	}
 	l.OK = true
 	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
 	m, err := mod.Margins(c.res.SampleT, poles)
 	if err != nil {
-		c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
+		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
 	l.Margins = m
 	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
 		st, err := mod.Step(c.res.SampleT, l.MaxRadius)
 		if err != nil {
-			c.diags.add(c.res.Path, ls.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
+			c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
 		} else {
 			l.Step = &st
 		}
@@ -244,7 +259,6 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
-	return l
 }
 
 // degenerate explains why the products of a loop's polynomials cannot be

@@ -28,6 +28,10 @@ type Options struct {
 	// Tolerance is how close to the unit circle a pole's radius must be
 	// to count as on it: |r − 1| <= Tolerance.
 	Tolerance float64
+	// NoStepSamples drops the step response's samples from the result
+	// (its figures stay): for a holder of many results that draws no plot,
+	// such as an editor's diagnostics.
+	NoStepSamples bool
 	// Quick skips the loop numerics (closed-loop poles, margins, step
 	// response, gain limits): what an editor runs on every keystroke.
 	Quick bool
@@ -160,6 +164,9 @@ type Block struct {
 	// Gains lists the gain names the block depends on (directly or
 	// through the blocks it uses).
 	Gains []string
+	// Realization is how the block runs on the target (its `realize`
+	// line); nil without one.
+	Realization *Realization
 }
 
 // Loop is a feedback loop and everything computed for it.
@@ -205,6 +212,9 @@ type Loop struct {
 	// Disk is the symmetric disk margin; nil unless the loop is stable
 	// (disk.go).
 	Disk *DiskMargin
+	// Realized holds the figures of the loop with every realized block in
+	// its rounded form; nil when no block of the loop is realized.
+	Realized *RealizedLoop
 }
 
 // HiddenMode is a block pole cancelled by a zero in the loop: invisible in

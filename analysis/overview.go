@@ -6,7 +6,8 @@ import "math"
 // "UNSTABLE", "NOT STABLE" (a pole on the circle), "UNDECIDED", "not
 // analysed", or, for a loop stable at the nominal values of its varying
 // gains but not over their whole range, "UNSTABLE over range" (or
-// "UNDECIDED over range").
+// "UNDECIDED over range"), or for one stable only with its ideal blocks,
+// not with the realized ones, "UNSTABLE realized".
 func (l *Loop) Status() string {
 	switch {
 	case l.NotReached || !l.OK:
@@ -17,6 +18,8 @@ func (l *Loop) Status() string {
 		return "UNDECIDED over range"
 	case l.Stable && l.Robust != nil && !*l.Robust.Stable:
 		return "UNSTABLE over range"
+	case l.Stable && l.Realized != nil && l.Realized.Figures != nil && l.Realized.Figures.OK && !l.Realized.Figures.Stable:
+		return "UNSTABLE realized"
 	case l.Stable:
 		return "stable"
 	case l.Marginal:
@@ -26,8 +29,8 @@ func (l *Loop) Status() string {
 }
 
 // ShownStable reports whether the analysis shows the loop stable: every
-// closed-loop pole inside the circle, decided, and over the whole range
-// of its varying gains.
+// closed-loop pole inside the circle, decided, over the whole range of
+// its varying gains, and with its realized blocks in place.
 func (l *Loop) ShownStable() bool {
 	return l.Status() == "stable"
 }

@@ -147,12 +147,12 @@ func (c *checker) family(ctx context.Context, l *Loop, vs []*Gain, fixed map[str
 	// grid decides on the loop's model alone.
 	if l.Char.Degree() <= MaxAffineDegree {
 		f.Char = func(x []float64) (poly.Poly, bool) {
-			p, ok := c.atPoint(l, c.point(f.Names, x, fixed), false)
+			p, ok := c.atPoint(l, c.base.assign(c.point(f.Names, x, fixed)), false)
 			return p.char, ok && p.char.Finite()
 		}
 	}
 	f.Eval = func(x []float64) (float64, lti.Verdict, bool) {
-		p, ok := c.atPoint(l, c.point(f.Names, x, fixed), true)
+		p, ok := c.atPoint(l, c.base.assign(c.point(f.Names, x, fixed)), true)
 		if !ok || p.model == nil {
 			return 0, 0, false
 		}
@@ -173,11 +173,10 @@ type pointLoop struct {
 	model *lti.Loop // nil when some block has no factored form
 }
 
-// atPoint evaluates a loop with the gains of values set, on the loop's own
-// path: its elements, their expanded polynomials (polys) and, when asked,
-// its model.
-func (c *checker) atPoint(l *Loop, values map[string]float64, withModel bool) (pointLoop, bool) {
-	ev := c.base.assign(values)
+// atPoint evaluates a loop with the gains ev sets, on the loop's own path:
+// its elements, their expanded polynomials (polys) and, when asked, its
+// model.
+func (c *checker) atPoint(l *Loop, ev *evaluator, withModel bool) (pointLoop, bool) {
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
@@ -282,7 +281,7 @@ func (c *checker) robustFigures(l *Loop, r *Robust, res robust.Result) {
 		// With an exact method the expanded polynomial is trusted (degree
 		// ≤ MaxAffineDegree): its roots place the plot's points; margins
 		// and the grid's points take the model.
-		p, ok := c.atPoint(l, c.point(r.Names, x, nil), margins || !res.Exact)
+		p, ok := c.atPoint(l, c.base.assign(c.point(r.Names, x, nil)), margins || !res.Exact)
 		if !ok {
 			continue
 		}

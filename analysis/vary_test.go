@@ -95,6 +95,9 @@ type robustRef struct {
 // not beat the edges: the largest radius of an affine family lies on an edge
 // (the edge theorem for the disk |z| < r).
 func TestRobustAgainstNumpy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("numpy cross-check skipped with -short")
+	}
 	py := scipyref.Python(t)
 	script, err := filepath.Abs("../testdata/crosscheck/robust_ref.py")
 	if err != nil {

@@ -58,7 +58,7 @@ func (s *Server) executeCommand(ctx context.Context, params json.RawMessage) (an
 		return nil, err
 	}
 	async(ctx)
-	res, err := sn.check(ctx, path, true)
+	res, err := sn.plotCheck(ctx, path)
 	if err != nil {
 		return nil, err
 	}

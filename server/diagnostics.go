@@ -60,11 +60,12 @@ func (sn *snapshot) protocolDiagnostic(res *analysis.Result, d analysis.Diagnost
 // mapperFor returns a mapper for a file the result read, over the very text
 // its spans refer to.
 func (sn *snapshot) mapperFor(res *analysis.Result, path string) *Mapper {
-	if f, ok := res.Files[path]; ok && f != nil {
-		return NewMapper(f.Src, sn.encoding)
+	f := res.Files[path]
+	if f == nil && path == res.Path {
+		f = res.File
 	}
-	if path == res.Path && res.File != nil {
-		return NewMapper(res.File.Src, sn.encoding)
+	if f != nil {
+		return fileMapper(f, sn.encoding)
 	}
 	m, _, err := sn.mapper(path)
 	if err != nil {

@@ -192,6 +192,9 @@ func TestCompletion(t *testing.T) {
 		{"gain k2 = 1 max 3 ", "min", "vary"},
 		{"block q = ki * ", "belt d kp s z", "zoh"},
 		{"block q = 2 / (s + 1) via tustin ", "prewarp", ""},
+		{"realize ", "d", "forward"},
+		{"realize d as ", "direct sections delta", "zoh"},
+		{"realize d as sections in ", "float64 float32 q15 q31 q1.14", "zoh"},
 	} {
 		text := base + tc.line
 		uri := c.open("comp.loop", text)
@@ -286,7 +289,7 @@ func TestFormatting(t *testing.T) {
 
 func TestSemanticTokens(t *testing.T) {
 	c := newClient(t, clientOptions{})
-	uri := c.open("sem.loop", "# é\nsample 1 ms\ngain kp = 2\nblock c = kp * z^-1 via zoh\nloop l {\n  forward c\n  require overshoot <= 5 %\n}\n")
+	uri := c.open("sem.loop", "# é\nsample 1 ms\ngain kp = 2\nblock c = kp * z^-1 via zoh\nloop l {\n  forward c\n  require overshoot <= 5 %\n}\nrealize c as sections in q1.14\n")
 	var st protocol.SemanticTokens
 	if err := c.call(protocol.MethodSemanticTokensFull, docParams(uri), &st); err != nil {
 		t.Fatal(err)
@@ -308,7 +311,8 @@ func TestSemanticTokens(t *testing.T) {
 		got = append(got, string(r[col:col+st.Data[i+2]])+"="+tokenTypes[st.Data[i+3]])
 	}
 	joined := strings.Join(got, " ")
-	for _, want := range []string{"# é=comment", "sample=keyword", "1=number", "ms=type", "kp=parameter", "c=function", "z=keyword", "zoh=enumMember", "l=variable", "forward=keyword", "overshoot=property", "<==operator", "%=type"} {
+	for _, want := range []string{"# é=comment", "sample=keyword", "1=number", "ms=type", "kp=parameter", "c=function", "z=keyword", "zoh=enumMember", "l=variable", "forward=keyword", "overshoot=property", "<==operator", "%=type",
+		"realize=keyword", "as=keyword", "sections=enumMember", "in=keyword", "q1.14=type"} {
 		if !strings.Contains(" "+joined+" ", " "+want+" ") {
 			t.Errorf("semantic tokens lack %q:\n%s", want, joined)
 		}
@@ -493,5 +497,47 @@ func TestDocumentText(t *testing.T) {
 	}
 	if err := c.call(lspext.MethodDocumentText, map[string]any{"uri": "untitled:x"}, nil); rpcCode(err) != jsonrpc2.InvalidParams {
 		t.Errorf("documentText of a non-file URI: %v, want InvalidParams", err)
+	}
+}
+
+// Hover on a realize line shows the rounded coefficients, the pole shift
+// and the headroom computed by the analysis.
+func TestRealizeHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := "sample 1 ms\nblock lp = 0.02 / (z^2 - 1.8z + 0.82)\nrealize lp as direct in q1.14\n"
+	uri := c.open("rz.loop", text)
+	var h protocol.Hover
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(2, 3)), &h); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"realize lp", "direct in q1.14", "0.0200195", "-1.79999", "max pole shift", "no overflow for inputs up to"} {
+		if !strings.Contains(h.Contents.Value, want) {
+			t.Errorf("hover lacks %q:\n%s", want, h.Contents.Value)
+		}
+	}
+	// The block's own hover carries the pole shift too. In q1.14, a1 = −1.8
+	// rounds to −29491/16384 and a2 = 0.82 to 13435/16384, so the poles
+	// 0.9 ± 0.1j move to a1/−2 ± j·√(a2 − a1²/4) = 0.8999939 ± 0.1000915j:
+	// a shift of 9.17e-5 (quadratic formula).
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(1, 7)), &h); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(h.Contents.Value, "**realized** as direct in q1.14: max pole shift 9.1714e-5, rounded poles inside the unit circle; no overflow for inputs up to |x| = 1.7717") {
+		t.Errorf("block hover:\n%s", h.Contents.Value)
+	}
+}
+
+// The loop hover adds the loop's figures with its realized blocks in place.
+func TestRealizedLoopHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := "sample 1 ms\nblock lp = 0.1 / (z - 0.9)\nrealize lp as direct in q0.3\nloop coarse {\n  forward lp\n}\n"
+	uri := c.open("rzl.loop", text)
+	var h protocol.Hover
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(3, 6)), &h); err != nil {
+		t.Fatal(err)
+	}
+	// q0.3: z − 0.875 + 0.125 closes at z = 0.75.
+	if !strings.Contains(h.Contents.Value, "**realized** (lp as direct in q0.3): stable, largest pole radius 0.75") {
+		t.Errorf("loop hover:\n%s", h.Contents.Value)
 	}
 }

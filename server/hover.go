@@ -35,13 +35,20 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 	if err != nil {
 		return nil, err
 	}
+	if rs := realizeAt(res, pos); rs != nil && rs.Block != nil {
+		r, err := m.SpanRange(rs.Span)
+		if err != nil {
+			return nil, err
+		}
+		return protocol.Hover{Contents: protocol.MarkupContent{Kind: "markdown", Value: realizeHover(res, rs)}, Range: &r}, nil
+	}
 	t := resolveAt(res, pos)
 	if t == nil {
 		return nil, nil
 	}
 	var md string
 	if t.decl != nil && t.decl.Block != nil {
-		md = blockHover(t.decl.Block, res.SampleT)
+		md = blockHover(t.decl.Block, res.SampleT) + realizedBlockText(t.decl.Block)
 	} else {
 		full, err := sn.check(ctx, path, true)
 		if err != nil {
@@ -53,7 +60,7 @@ func (s *Server) hover(ctx context.Context, params json.RawMessage) (any, error)
 		}
 		switch {
 		case t.loop != nil:
-			md = loopHover(t.loop)
+			md = loopHover(t.loop) + realizedLoopText(t.loop)
 		case t.lstmt != nil:
 			md = fmt.Sprintf("**loop %s**: not analysed", t.name)
 		case t.decl != nil && t.decl.Gain != nil:
@@ -428,6 +435,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 		fmt.Fprintf(&w, "The current value is **unstable**; the nearest stable range is %s < %s < %s (%s), loops %s.\n", lo, g.Name, hi, method, strings.Join(lim.Loops, ", "))
 	default:
 		fmt.Fprintf(&w, "No value found that makes loops %s stable.\n", strings.Join(lim.Loops, ", "))
+	}
+	if g.Vary != nil { // uncertain: nobody sets it, the loops' hovers give the range verdicts
+		return w.String()
 	}
 	if v, ok := lim.SafeValue(); ok {
 		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %s.\n", g.Name, analysis.FormatNumber(v))

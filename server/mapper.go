@@ -33,6 +33,24 @@ func NewMapper(src []byte, encoding string) *Mapper {
 	return &Mapper{src: src, lines: syntax.NewLines(src), encoding: encoding}
 }
 
+// fileMapper is a mapper over a parsed file's text, reusing the line
+// table the parser built for it.
+func fileMapper(f *syntax.File, encoding string) *Mapper {
+	if f.Lines == nil {
+		return NewMapper(f.Src, encoding)
+	}
+	m := NewMapper(nil, encoding)
+	m.src, m.lines = f.Src, f.Lines
+	return m
+}
+
+// edit updates m, a mapper its caller owns, to src: the text after the
+// bytes of span were replaced by n new ones (see syntax.Lines.Edit).
+func (m *Mapper) edit(src []byte, span syntax.Span, n int) {
+	m.src = src
+	m.lines.Edit(src, span.From, span.To, n)
+}
+
 // OffsetPosition converts a byte offset to a position. An offset inside a
 // multi-byte character maps to the start of that character; an offset
 // outside the text is an error naming the valid range.

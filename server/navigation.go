@@ -18,6 +18,7 @@ var keywords = map[string]bool{
 	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
 	"forward": true, "feedback": true, "sign": true, "require": true,
 	"via": true, "prewarp": true, "min": true, "max": true, "vary": true, "to": true,
+	"realize": true,
 }
 
 // targetAt resolves the request position to a target in the quick result.

@@ -106,6 +106,11 @@ func refsTo(f *syntax.File, scope map[string]*analysis.Decl, decl *analysis.Decl
 				}
 			}
 			return false
+		case *syntax.RealizeStmt:
+			if n.Block != nil && n.Block.Name == decl.Name && same(n.Block.Name) {
+				out = append(out, n.Block.Span)
+			}
+			return false
 		}
 		return true
 	})

@@ -82,6 +82,8 @@ func (s *Server) semanticTokens(ctx context.Context, params json.RawMessage) (an
 			if n.Value != nil {
 				kinds[n.Value.From] = tokEnumMember
 			}
+		case *syntax.RealizeStmt:
+			realizeKinds(n, res, kinds, units)
 		case *syntax.RequireItem:
 			if n.Metric != nil {
 				kinds[n.Metric.From] = tokProperty

@@ -437,3 +437,28 @@ func TestCodeActionEachFixOnce(t *testing.T) {
 		t.Errorf("%d actions set krate, want 1: %+v", set, actions)
 	}
 }
+
+// delayMs is read like the other settings: 0 is allowed (analyse at once),
+// a negative, oversized or non-numeric value is refused and changes nothing.
+func TestDelaySetting(t *testing.T) {
+	st, err := parseSettings(defaultSettings(), json.RawMessage(`{"ringside": {"delayMs": 0}}`))
+	if err != nil || st.DelayMs != 0 {
+		t.Errorf("delayMs 0: %+v, %v", st, err)
+	}
+	if defaultSettings().Trigger != "change" {
+		t.Errorf("default trigger %q, want change (the full analysis while typing)", defaultSettings().Trigger)
+	}
+	for _, bad := range []string{`-1`, `60001`, `"soon"`} {
+		if _, err := parseSettings(defaultSettings(), json.RawMessage(`{"delayMs": `+bad+`}`)); err == nil || !strings.Contains(err.Error(), "delayMs") {
+			t.Errorf("delayMs %s accepted (%v)", bad, err)
+		}
+	}
+	s := &Server{cfg: Config{Debounce: DefaultDebounce}, ses: newSession()}
+	if d := s.delay(); d != DefaultDebounce {
+		t.Errorf("delay without the setting: %v", d)
+	}
+	s.ses.settings.DelayMs = 20
+	if d := s.delay(); d != 20*time.Millisecond {
+		t.Errorf("delay with delayMs 20: %v", d)
+	}
+}

@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"time"
 
@@ -308,7 +309,9 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 	}
 	env := analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(!full)}
 	if full {
-		env.Memo = sn.s.ses.memo
+		// Results held for diagnostics and views keep no step samples
+		// (half their size); the plot command computes what it draws.
+		env.Memo, env.Options.NoStepSamples = sn.s.ses.memo, true
 	}
 	res = analysis.Check(ctx, path, src, env)
 	if ctx.Err() != nil {
@@ -317,11 +320,26 @@ func (sn *snapshot) analyse(ctx context.Context, path string, full bool, mine *c
 	return res, nil
 }
 
+// plotCheck analyses path with the step samples a plot draws (the results
+// the session keeps have none): on a user's request only, never cached.
+func (sn *snapshot) plotCheck(ctx context.Context, path string) (*analysis.Result, error) {
+	src, err := sn.read(path)
+	if err != nil {
+		return nil, err
+	}
+	res := analysis.Check(ctx, path, src, analysis.Env{Roots: sn.roots, Read: sn.read, Options: sn.settings.options(false)})
+	if ctx.Err() != nil {
+		return nil, errCancelled
+	}
+	return res, nil
+}
+
 // cacheLimit bounds the analysis results kept for reuse. A result of a
-// 200-loop file holds about 1.3 MB (trees, transfer functions, poles), so
-// results are kept for the few files in use at the moment, not for every
-// open one; published diagnostics do not need them.
-const cacheLimit = 4
+// 200-loop file holds about 1.7 MB (trees, transfer functions, poles; no
+// step samples), so results are kept for the files in use at the moment,
+// not for every open one; published diagnostics do not need them, and the
+// memo keeps what edits reuse.
+const cacheLimit = 2
 
 // remember caches c under key, dropping stale generations and then the
 // oldest entries beyond cacheLimit.
@@ -548,21 +566,25 @@ func (s *Server) didChange(params json.RawMessage) error {
 
 // applyChanges applies LSP content changes in order to a copy of text.
 func applyChanges(text []byte, changes []lspext.TextDocumentContentChangeEvent, encoding string) ([]byte, error) {
+	// One private copy, edited in place, and its line index kept up to
+	// date change by change: many changes in one notification cost the
+	// lines they move, not a copy and a rescan of the whole text each.
+	text = append([]byte(nil), text...)
+	var m *Mapper
 	for i, c := range changes {
 		if c.Range == nil {
-			text = []byte(c.Text)
+			text, m = []byte(c.Text), nil
 			continue
 		}
-		m := NewMapper(text, encoding)
+		if m == nil {
+			m = NewMapper(text, encoding)
+		}
 		span, err := m.RangeSpan(*c.Range)
 		if err != nil {
 			return nil, fmt.Errorf("change %d: %v", i, err)
 		}
-		next := make([]byte, 0, len(text)-int(span.To-span.From)+len(c.Text))
-		next = append(next, text[:span.From]...)
-		next = append(next, c.Text...)
-		next = append(next, text[span.To:]...)
-		text = next
+		text = slices.Replace(text, int(span.From), int(span.To), []byte(c.Text)...)
+		m.edit(text, span, len(c.Text))
 	}
 	return text, nil
 }

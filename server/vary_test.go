@@ -2,6 +2,7 @@ package server
 
 import (
 	"encoding/json"
+	"fmt"
 	"os"
 	"strings"
 	"testing"
@@ -41,8 +42,8 @@ func TestVaryInEditor(t *testing.T) {
 			t.Errorf("loop hover lacks %q:\n%s", want, loop)
 		}
 	}
-	if g := hover(c.posOf(uri, "kflow = 1", 0, 1)); !strings.Contains(g, "varies 0.6 to 1.4") {
-		t.Errorf("gain hover:\n%s", g)
+	if g := hover(c.posOf(uri, "kflow = 1", 0, 1)); !strings.Contains(g, "varies 0.6 to 1.4") || strings.Contains(g, "Keeps the required gain margin") {
+		t.Errorf("gain hover (a varying gain has no safe value):\n%s", g)
 	}
 	var actions []protocol.CodeAction
 	if err := c.call(protocol.MethodTextDocumentCodeAction, protocol.CodeActionParams{TextDocument: protocol.TextDocumentIdentifier{URI: uri}, Range: d.Range,
@@ -66,5 +67,35 @@ func TestVaryInEditor(t *testing.T) {
 	}
 	if loop := hover(c.posOf(uri, "loop residual", 0, 7)); !strings.Contains(loop, "stable for every value") {
 		t.Errorf("after the fix the loop hover says:\n%s", loop)
+	}
+}
+
+// varyDoc is one pump loop l0 whose plant gain, leakage and pole vary (the
+// first n of them), with the controller gain kp0 that the latency harness
+// edits.
+func varyDoc(n int) string {
+	ranges := []string{" vary 30 to 50", " vary 0 to 2", " vary 0.93 to 0.97"}
+	var b strings.Builder
+	b.WriteString("sample 1 ms\n")
+	for i, g := range []string{"k = 40", "c = 1", "a = 0.95"} {
+		b.WriteString("gain " + g)
+		if i < n {
+			b.WriteString(ranges[i])
+		}
+		b.WriteString("\n")
+	}
+	b.WriteString("gain kp0 = 0.5\nblock plant = (k * 0.001z + c * 0.0001) / (z * (z - a))\nblock ctrl = kp0 * z / (z - 1)\nloop l0 {\n  forward ctrl plant\n}\n")
+	return b.String()
+}
+
+// BenchmarkVaryLatency: the editor's round trip (a gain edit to its full
+// diagnostics) for one loop with no and with three varying gains; the
+// difference is what the range analysis adds in the editor. Run with
+// `go test -run ^$ -bench VaryLatency ./server/`.
+func BenchmarkVaryLatency(b *testing.B) {
+	for _, n := range []int{0, 3} {
+		b.Run(fmt.Sprintf("varying=%d/editGain", n), func(b *testing.B) {
+			benchLatency(b, varyDoc(n), 1, "editGain")
+		})
 	}
 }

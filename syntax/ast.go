@@ -136,17 +136,30 @@ type LoopStmt struct {
 	Items  []LoopItem
 }
 
+// RealizeStmt: "realize BLOCK as STRUCTURE in FORMAT", how a block runs on
+// the target. The structure and format are kept as written (analysis says
+// which exist); Format may be two tokens written together ("q3" ".12").
+type RealizeStmt struct {
+	Span
+	Block     *Ident
+	AsKw      Span
+	Structure *Ident
+	InKw      Span
+	Format    *Ident
+}
+
 // BadStmt covers a statement that could not be parsed.
 type BadStmt struct {
 	Span
 }
 
-func (*SampleStmt) stmtNode() {}
-func (*UseStmt) stmtNode()    {}
-func (*GainStmt) stmtNode()   {}
-func (*BlockStmt) stmtNode()  {}
-func (*LoopStmt) stmtNode()   {}
-func (*BadStmt) stmtNode()    {}
+func (*SampleStmt) stmtNode()  {}
+func (*UseStmt) stmtNode()     {}
+func (*GainStmt) stmtNode()    {}
+func (*BlockStmt) stmtNode()   {}
+func (*LoopStmt) stmtNode()    {}
+func (*RealizeStmt) stmtNode() {}
+func (*BadStmt) stmtNode()     {}
 
 // ---- loop items ----
 

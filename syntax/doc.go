@@ -19,8 +19,8 @@
 //     blanks; "\n", "\r\n" and a lone "\r" each end a line (as in LSP
 //     3.17), so CRLF and CR files read like LF files.
 //   - Inside '(' ... ')' line breaks are blanks, except that a line starting
-//     with a statement keyword (sample, use, gain, block, loop) or with '}'
-//     closes the statement, so a missing ')' costs one error.
+//     with a statement keyword (sample, use, gain, block, loop, realize) or
+//     with '}' closes the statement, so a missing ')' costs one error.
 //   - Keywords are context words: via, prewarp, min, max, vary, to and the statement
 //     and item keywords are ordinary names elsewhere. The only reserved
 //     names are s and z, which no gain, block or loop may be called. In an
@@ -33,6 +33,10 @@
 //   - Exponents are written in digits (z^2, z^-1, z^(-1)); '^' does not
 //     chain. See MaxExponent and MaxExprDepth for the limits.
 //   - Strings have no escapes and end at the line's end.
+//   - realize BLOCK as STRUCTURE in FORMAT: as and in are context words; a
+//     format such as q1.14 lexes as the name q1 and the number .14 and is
+//     one format when written without a blank between them. Which
+//     structures and formats exist is for analysis to say.
 //   - A loop body runs to its '}'; a line starting a top-level statement, or
 //     the end of the file, ends a loop whose '}' is missing.
 package syntax

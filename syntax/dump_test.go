@@ -54,6 +54,8 @@ func dumpStmt(s Stmt) string {
 			items = append(items, dumpItem(it))
 		}
 		return fmt.Sprintf("loop %s {%s} closed=%v", s.Name.Name, strings.Join(items, "; "), s.RBrace != NoPos)
+	case *RealizeStmt:
+		return "realize " + s.Block.Name + " as " + s.Structure.Name + " in " + s.Format.Name
 	case *BadStmt:
 		return "bad"
 	}

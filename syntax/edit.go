@@ -46,6 +46,7 @@ var reserved = map[string]bool{
 	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
 	"forward": true, "feedback": true, "sign": true, "require": true,
 	"via": true, "prewarp": true, "min": true, "max": true, "vary": true, "to": true,
+	"realize": true,
 }
 
 var nameRE = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
@@ -278,6 +279,16 @@ func (k keyer) stmt(st Stmt) {
 		k.num(st.Min)
 		k.w("max")
 		k.num(st.Max)
+		if st.Vary != nil {
+			k.w("vary")
+			k.num(st.Vary.Lo)
+			k.num(st.Vary.Hi)
+		}
+	case *RealizeStmt:
+		k.w("realize")
+		k.name(st.Block)
+		k.ident(st.Structure)
+		k.ident(st.Format)
 	case *BlockStmt:
 		k.w("block")
 		k.name(st.Name)
@@ -296,8 +307,12 @@ func (k keyer) stmt(st Stmt) {
 		}
 	case *BadStmt:
 		k.bad(st.Span)
+	default: // a statement kind this key does not know yet: its text, so any change shows
+		k.bad(spanOf(st))
 	}
 }
+
+func spanOf(n Node) Span { return Span{n.Pos(), n.End()} }
 
 func (k keyer) item(it LoopItem) {
 	switch it := it.(type) {
@@ -316,6 +331,8 @@ func (k keyer) item(it LoopItem) {
 		k.num(it.Value)
 	case *BadItem:
 		k.bad(it.Span)
+	default:
+		k.bad(spanOf(it))
 	}
 	k.w(";")
 }
@@ -352,5 +369,7 @@ func (k keyer) expr(e Expr) {
 		k.expr(e.X) // the tree already holds the grouping
 	case *BadExpr:
 		k.bad(e.Span)
+	default:
+		k.bad(spanOf(e))
 	}
 }

@@ -1,6 +1,8 @@
 package syntax
 
 import (
+	"fmt"
+	"math/rand"
 	"strings"
 	"testing"
 )
@@ -35,6 +37,18 @@ func TestSameTreeSeesChanges(t *testing.T) {
 		if SameTree(a, []byte(b), map[string]string{"k": "e3"}) == nil {
 			t.Errorf("%q read as the same tree as %q", b, a)
 		}
+	}
+	for _, c := range [][2]string{
+		{"gain k = 1 vary 0.5 to 2\n", "gain k = 1 vary 0.5 to 3\n"},
+		{"realize n as sections in q1.14\n", "realize n as direct in q1.14\n"},
+		{"realize n as sections in q1.14\n", "realize m as sections in q1.14\n"},
+	} {
+		if SameTree([]byte(c[0]), []byte(c[1]), nil) == nil {
+			t.Errorf("%q read as the same tree as %q", c[1], c[0])
+		}
+	}
+	if err := SameTree([]byte("realize n as sections in q1.14\n"), []byte("realize  m  as sections in q1.14\n"), map[string]string{"n": "m"}); err != nil {
+		t.Errorf("renamed realize line: %v", err)
 	}
 	if err := SameTree(a, []byte("block   b = 2*e3 # note\n"), map[string]string{"k": "e3"}); err != nil {
 		t.Errorf("layout and '*' versus side by side: %v", err)
@@ -106,6 +120,36 @@ func TestFormatKeepsMarkAndLineBreaks(t *testing.T) {
 	for src, want := range map[string]string{"a\r\nb": "\r\n", "a\rb\n": "\r", "a\nb\r": "\n", "ab": "\n"} {
 		if got := LineBreak([]byte(src)); got != want {
 			t.Errorf("LineBreak(%q) = %q, want %q", src, got, want)
+		}
+	}
+}
+
+// Lines.Edit gives the same index as indexing the edited text afresh,
+// across CR, LF, CRLF joined or split at the edit's edges, and a BOM.
+func TestLinesEdited(t *testing.T) {
+	rng := rand.New(rand.NewSource(7))
+	alphabet := []string{"a", "\r", "\n", "\r\n", "\ufeff", "é"}
+	gen := func(n int) string {
+		var b strings.Builder
+		for range n {
+			b.WriteString(alphabet[rng.Intn(len(alphabet))])
+		}
+		return b.String()
+	}
+	for range 3000 {
+		src := []byte(gen(rng.Intn(12)))
+		l := NewLines(src)
+		for range 5 {
+			a := rng.Intn(len(src) + 1)
+			b := a + rng.Intn(len(src)-a+1)
+			ins := gen(rng.Intn(4))
+			next := append(append(append([]byte(nil), src[:a]...), ins...), src[b:]...)
+			l.Edit(next, Pos(a), Pos(b), len(ins))
+			want := NewLines(next)
+			if fmt.Sprint(l.starts, l.bom) != fmt.Sprint(want.starts, want.bom) {
+				t.Fatalf("%q: [%d,%d) <- %q: starts %v bom %d, want %v bom %d", src, a, b, ins, l.starts, l.bom, want.starts, want.bom)
+			}
+			src = next
 		}
 	}
 }

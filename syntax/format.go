@@ -246,10 +246,11 @@ func (p *printer) stmt(i int, s Stmt) {
 			for p.ci < len(cs) && cs[p.ci].From < s.End() {
 				p.ci++
 			}
-			raw := strings.Split(string(p.f.Src[s.Pos():s.End()]), "\n")
+			// Split at every line break ("\r\n", "\r", "\n"): one output line per source line.
+			raw := strings.Split(strings.NewReplacer("\r\n", "\n", "\r", "\n").Replace(string(p.f.Src[s.Pos():s.End()])), "\n")
 			start := p.line(s.Pos())
 			for k, r := range raw {
-				p.add(outLine{code: strings.TrimRight(r, " \t\r"), raw: true, stmt: i, srcLine: start + k})
+				p.add(outLine{code: strings.TrimRight(r, " \t"), raw: true, stmt: i, srcLine: start + k})
 			}
 			return
 		}
@@ -289,6 +290,8 @@ func (p *printer) stmt(i int, s Stmt) {
 				l.rest += " prewarp " + numberText(s.Via.Prewarp)
 			}
 		}
+	case *RealizeStmt:
+		l.code = "realize " + s.Block.Name + " as " + s.Structure.Name + " in " + s.Format.Name
 	default:
 		l.code = string(p.f.Src[s.Pos():s.End()])
 		l.raw = true

@@ -66,6 +66,7 @@ func FuzzRename(f *testing.F) {
 	f.Add([]byte("\ufeffgain a = 1\rblock b = a(z-1)/z\r"), uint8(1), "a2")
 	f.Add([]byte("gain k = 1 max 3\nblock b = k z^-1 via zoh\n"), uint8(0), "via")
 	f.Add([]byte("block p = 3/(s+1) via zoh\nblock q = 2p\n"), uint8(0), "s")
+	f.Add([]byte("sample 1 ms\ngain k = 1 vary 0.5 to 2\nblock n = k/(z - 0.5)\nrealize n as sections in q1.14\n"), uint8(1), "e5")
 	f.Fuzz(func(t *testing.T, src []byte, pick uint8, newName string) {
 		file, _ := Parse("", src)
 		occ := nameSpans(file)
@@ -124,6 +125,10 @@ func nameSpans(f *File) map[string][]Span {
 		case *BlockStmt:
 			if n.Name != nil {
 				out[n.Name.Name] = append(out[n.Name.Name], n.Name.Span)
+			}
+		case *RealizeStmt:
+			if n.Block != nil {
+				out[n.Block.Name] = append(out[n.Block.Name], n.Block.Span)
 			}
 		case *NameRef:
 			out[n.Name] = append(out[n.Name], n.Span)

@@ -10,6 +10,7 @@ import (
 // ')' costs one error instead of swallowing the rest of the file.
 var stmtKeywords = map[string]bool{
 	"sample": true, "use": true, "gain": true, "block": true, "loop": true,
+	"realize": true,
 }
 
 // punct maps one-byte operators to their kinds.

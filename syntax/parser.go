@@ -149,12 +149,14 @@ func (p *parser) stmt() Stmt {
 			return p.block()
 		case "loop":
 			return p.loop()
+		case "realize":
+			return p.realize()
 		case "forward", "feedback", "sign", "require":
 			p.errorf(t.Span, "%s is only allowed inside a loop's braces", t.text)
 			p.next()
 			return p.badStmt(t.From)
 		}
-		p.errorf(t.Span, "unknown statement %s (want sample, use, gain, block or loop)%s", t.text, didYouMean(t.text, topKeywords))
+		p.errorf(t.Span, "unknown statement %s (want sample, use, gain, block, loop or realize)%s", t.text, didYouMean(t.text, topKeywords))
 	} else if t.kind == tRBrace {
 		p.errorf(t.Span, "unexpected '}' with no open loop")
 	} else {

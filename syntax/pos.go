@@ -2,6 +2,7 @@ package syntax
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"unicode/utf8"
 )
@@ -51,6 +52,31 @@ func BOMLen(src []byte) int {
 		return 3
 	}
 	return 0
+}
+
+// Edit updates l, the index of a text, to index src, that text after
+// replacing its bytes [from, to) by n new bytes (src[from:from+n]). It
+// costs the lines after the change (a shift), not the bytes of the text:
+// only the line starts next to the change are looked at again (whether a
+// byte begins a line depends on it and the byte before, so a "\r" and a
+// "\n" joining into one break across the edge are seen). l must be the
+// caller's own: it is changed in place.
+func (l *Lines) Edit(src []byte, from, to Pos, n int) {
+	a, b := int(from), int(to)
+	delta := n - (b - a)
+	lo := sort.SearchInts(l.starts, max(a, 1)) // starts before a are kept
+	hi := sort.SearchInts(l.starts, b+1)       // starts from b+1 on move by delta
+	var mid []int
+	for p := max(a, 1); p <= a+n && p <= len(src); p++ {
+		if c := src[p-1]; c == '\n' || c == '\r' && (p == len(src) || src[p] != '\n') {
+			mid = append(mid, p)
+		}
+	}
+	l.starts = slices.Replace(l.starts, lo, hi, mid...)
+	for i := lo + len(mid); i < len(l.starts); i++ {
+		l.starts[i] += delta
+	}
+	l.src, l.bom = src, BOMLen(src)
 }
 
 // Count is the number of lines (a file always has at least one).

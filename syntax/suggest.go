@@ -1,7 +1,7 @@
 package syntax
 
 // topKeywords are the statement keywords in the order messages list them.
-var topKeywords = []string{"sample", "use", "gain", "block", "loop"}
+var topKeywords = []string{"sample", "use", "gain", "block", "loop", "realize"}
 
 // didYouMean returns "; did you mean W?" for the keyword W closest to a
 // mistyped word (at most two edits away, and fewer edits than the word

@@ -41,6 +41,10 @@ func Children(n Node) []Node {
 		add(n.Name, n.Name != nil)
 		add(n.Expr, n.Expr != nil)
 		add(n.Via, n.Via != nil)
+	case *RealizeStmt:
+		add(n.Block, n.Block != nil)
+		add(n.Structure, n.Structure != nil)
+		add(n.Format, n.Format != nil)
 	case *Via:
 		add(n.Method, n.Method != nil)
 		add(n.Prewarp, n.Prewarp != nil)

@@ -94,6 +94,9 @@ func TestIntegratorPoleOnCircle(t *testing.T) {
 // (numpy on 400001 angles refined by scipy's bounded Brent minimiser) on
 // random stable loops of order 1 to 5, to 1e-6 relative in max|S − 1/2|.
 func TestCrossCheckNumpy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("numpy cross-check skipped with -short")
+	}
 	py := scipyref.Python(t)
 	script, err := filepath.Abs("../../testdata/crosscheck/diskmargin_ref.py")
 	if err != nil {

@@ -138,7 +138,7 @@ func RealAxisCrossings(f Factors) ([]float64, []float64, error) {
 	var ths, vals []float64
 	for _, th := range lp.realAxis(grid, pts.g, pts.gScale) {
 		N, D := lp.eval(th)
-		if lp.singular(N, D) {
+		if lp.singular(th, N, D) {
 			continue
 		}
 		ths, vals = append(ths, th), append(vals, real(N/D))

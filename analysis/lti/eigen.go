@@ -97,15 +97,11 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 	copy(w.a, a[:n*n])
 	balance(w.a, n)
 	copy(w.bal, w.a)
-	norm := 0.0
-	for _, v := range w.bal {
-		norm = math.Hypot(norm, v)
-	}
+	norm := frobenius(w.bal)
 	ga := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.a}
 	vl := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.vl}
 	vr := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.vr}
-	lwork := w.query(ga, vl, vr)
-	if lapack64.Geev(lapack.LeftEVCompute, lapack.RightEVCompute, ga, w.wr, w.wi, vl, vr, w.work[:lwork], lwork) != 0 {
+	if !w.geev(ga, vl, vr) {
 		return nil, errors.New("lti: the eigenvalue iteration did not converge")
 	}
 	vals := make([]complex128, n)
@@ -118,8 +114,10 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 			xs[j], ys[j] = column(w.vr, n, j, -1), column(w.vl, n, j, -1)
 		case w.wi[j] > 0:
 			xs[j], ys[j] = column(w.vr, n, j, j+1), column(w.vl, n, j, j+1)
-		default:
+		case j > 0 && w.wi[j-1] == -w.wi[j]:
 			xs[j], ys[j] = conjV(xs[j-1]), conjV(ys[j-1])
+		default: // NaN, or not Dgeev's pair layout: nothing to trust
+			return nil, errors.New("lti: the eigenvalue iteration gave non-finite values")
 		}
 	}
 	eta := float64(n) * eps * norm
@@ -129,9 +127,35 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 	eta += modelErr * math.Max(1, norm)
 	radius := make([]float64, n)
 	for j := range vals {
-		radius[j] = float64(n) * condition(xs[j], ys[j]) * eta
+		radius[j] = notNaN(float64(n) * condition(xs[j], ys[j]) * eta)
 	}
 	return clusters(vals, xs, ys, radius, eta), nil
+}
+
+// notNaN turns an undefined bound (0·∞ from an overflowed model) into +Inf:
+// nothing is known.
+func notNaN(b float64) float64 {
+	if math.IsNaN(b) {
+		return math.Inf(1)
+	}
+	return b
+}
+
+// frobenius is the Frobenius norm, scaled by the largest entry so that
+// neither the squares overflow nor underflow.
+func frobenius(a []float64) float64 {
+	m := 0.0
+	for _, v := range a {
+		m = math.Max(m, math.Abs(v))
+	}
+	if m == 0 || math.IsInf(m, 0) {
+		return m
+	}
+	s := 0.0
+	for _, v := range a {
+		s += (v / m) * (v / m)
+	}
+	return m * math.Sqrt(s)
 }
 
 // work holds the scratch of one eigenvalue computation.
@@ -143,6 +167,19 @@ func newWork(n int) *work {
 	buf := make([]float64, 4*n*n+3*n)
 	return &work{a: buf[:n*n], bal: buf[n*n : 2*n*n], vl: buf[2*n*n : 3*n*n], vr: buf[3*n*n : 4*n*n],
 		scale: buf[4*n*n : 4*n*n+n], wr: buf[4*n*n+n : 4*n*n+2*n], wi: buf[4*n*n+2*n:]}
+}
+
+// geev runs LAPACK's Dgeev; false when it does not converge, or panics on
+// entries far outside the range it scales for (seen with fuzzed models
+// spanning 1e-300 to 1e300), which then gives no eigenvalues, not a crash.
+func (w *work) geev(a, vl, vr blas64.General) (ok bool) {
+	defer func() {
+		if recover() != nil {
+			ok = false
+		}
+	}()
+	lwork := w.query(a, vl, vr)
+	return lapack64.Geev(lapack.LeftEVCompute, lapack.RightEVCompute, a, w.wr, w.wi, vl, vr, w.work[:lwork], lwork) == 0
 }
 
 func (w *work) query(a, vl, vr blas64.General) int {
@@ -175,12 +212,14 @@ func conjV(v []complex128) []complex128 {
 	return out
 }
 
+// normV is the 2-norm of v (sums of squares: eigenvectors and residuals
+// here are of modest size, and an overflow to +Inf only loosens a bound).
 func normV(v []complex128) float64 {
 	s := 0.0
 	for _, c := range v {
-		s = math.Hypot(s, cmplx.Abs(c))
+		s += real(c)*real(c) + imag(c)*imag(c)
 	}
-	return s
+	return math.Sqrt(s)
 }
 
 // residual is ‖A x − λ x‖/‖x‖ for row-major A.
@@ -192,9 +231,9 @@ func residual(a []float64, n int, lam complex128, x []complex128) float64 {
 			r += complex(a[i*n+j], 0) * x[j]
 		}
 		r -= lam * x[i]
-		s = math.Hypot(s, cmplx.Abs(r))
+		s += real(r)*real(r) + imag(r)*imag(r)
 	}
-	return s / normV(x)
+	return math.Sqrt(s) / normV(x)
 }
 
 // condition is ‖x‖‖y‖/|yᴴx| (+Inf when yᴴx vanishes: a defective eigenvalue).
@@ -248,7 +287,8 @@ func clusters(vals []complex128, xs, ys [][]complex128, radius []float64, eta fl
 		for _, i := range g {
 			enc = math.Max(enc, cmplx.Abs(vals[i]-c)+radius[i])
 		}
-		cb := math.Min(projectorNorm(xs, ys, g)*eta, enc)
+		cb := math.Min(notNaN(projectorNorm(xs, ys, g)*eta), notNaN(enc))
+		enc = notNaN(enc)
 		for range g {
 			out = append(out, Pole{Z: c, Bound: enc, CentroidBound: cb, Multiplicity: len(g)})
 		}

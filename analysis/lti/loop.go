@@ -47,7 +47,7 @@ func NewLoop(fwd, fb []Factored, positive bool) *Loop {
 	for _, b := range append(append([]Factored(nil), fwd...), fb...) {
 		l.full = l.full.Mul(b)
 	}
-	l.err = l.full.Err
+	l.err = notNaN(l.full.Err)
 	l.takeCommon()
 	return l
 }
@@ -68,22 +68,38 @@ func (l *Loop) takeCommon() {
 	var keep []complex128
 	type pair struct{ p, q complex128 }
 	var pairs []pair
+	// A complex pole is matched with its conjugate (the upper member
+	// decides), so both lists stay closed under conjugation.
 	for _, p := range l.full.Poles {
+		if imag(p) < 0 {
+			continue
+		}
 		best, bestD := -1, math.Inf(1)
 		for j, q := range zeros {
-			if used[j] {
+			if used[j] || (imag(q) == 0) != (imag(p) == 0) || imag(q) < 0 {
 				continue
 			}
 			if d := cmplx.Abs(p - q); d < bestD {
 				best, bestD = j, d
 			}
 		}
-		if best >= 0 && bestD <= CommonTol*math.Max(1, cmplx.Abs(p))+2*l.err {
+		mate := -1
+		if best >= 0 && imag(p) > 0 {
+			mate = conjIndex(zeros, used, zeros[best])
+		}
+		if best >= 0 && (imag(p) == 0 || mate >= 0) && bestD <= CommonTol*math.Max(1, cmplx.Abs(p))+2*l.err {
 			used[best] = true
 			pairs = append(pairs, pair{p, zeros[best]})
+			if mate >= 0 {
+				used[mate] = true
+				pairs = append(pairs, pair{cmplx.Conj(p), zeros[mate]})
+			}
 			continue
 		}
 		keep = append(keep, p)
+		if imag(p) > 0 {
+			keep = append(keep, cmplx.Conj(p))
+		}
 	}
 	var rest []complex128
 	for j, q := range zeros {
@@ -93,25 +109,49 @@ func (l *Loop) takeCommon() {
 	}
 	l.open = Factored{Gain: l.full.Gain, Zeros: rest, Poles: keep, Err: l.err}
 	// A near pair moves the closed-loop pole by |p − q|·|T'(p)|; keep it
-	// in the eigenvalue problem when that is not small.
-	for _, pq := range pairs {
-		d := cmplx.Abs(pq.p - pq.q)
-		b := l.err
-		if d > 0 {
+	// in the eigenvalue problem when that is not small. A complex pair and
+	// its mirror (adjacent in pairs) are kept or taken out together.
+	for i := 0; i < len(pairs); i++ {
+		group := pairs[i : i+1]
+		if imag(pairs[i].p) > 0 && i+1 < len(pairs) {
+			group = pairs[i : i+2]
+			i++
+		}
+		bounds := make([]float64, len(group))
+		keepIn := false
+		for j, pq := range group {
+			d := cmplx.Abs(pq.p - pq.q)
+			bounds[j] = l.err
+			if d == 0 {
+				continue
+			}
 			lp := l.open.At(pq.p)
 			t := 1.0
 			if !cmplx.IsInf(lp) {
 				t = cmplx.Abs(lp / (1 + lp))
 			}
-			if !(t <= maxCommonGain) {
+			keepIn = keepIn || !(t <= maxCommonGain)
+			bounds[j] = notNaN(l.err + d*t)
+		}
+		for j, pq := range group {
+			if keepIn {
 				l.open.Poles = append(l.open.Poles, pq.p)
 				l.open.Zeros = append(l.open.Zeros, pq.q)
 				continue
 			}
-			b += d * t
+			l.common = append(l.common, Pole{Z: pq.p, Bound: bounds[j], CentroidBound: bounds[j], Multiplicity: 1, Exact: true})
 		}
-		l.common = append(l.common, Pole{Z: pq.p, Bound: b, CentroidBound: b, Multiplicity: 1, Exact: true})
 	}
+}
+
+// conjIndex finds an unused zero equal to conj(q).
+func conjIndex(zeros []complex128, used []bool, q complex128) int {
+	for j, z := range zeros {
+		if !used[j] && z == cmplx.Conj(q) {
+			return j
+		}
+	}
+	return -1
 }
 
 // Open returns L with the common factors cancelled, the feedback sign
@@ -275,9 +315,22 @@ func dcGain(g, h Factored, sigma float64) (float64, error) {
 }
 
 // simulate runs x[k+1] = A x[k] + B, y[k] = C x[k] + D from x = 0 for K
-// samples.
+// samples, over A's nonzero entries only (a chain of delays or sections is
+// sparse: the work is the number of links, not n²).
 func simulate(s System, K int) ([]float64, error) {
 	n := s.N
+	type entry struct {
+		j int
+		a float64
+	}
+	rows := make([][]entry, n)
+	for i := 0; i < n; i++ {
+		for j, a := range s.A[i*n : (i+1)*n] {
+			if a != 0 {
+				rows[i] = append(rows[i], entry{j, a})
+			}
+		}
+	}
 	x, nx := make([]float64, n), make([]float64, n)
 	y := make([]float64, K)
 	for k := 0; k < K; k++ {
@@ -289,11 +342,10 @@ func simulate(s System, K int) ([]float64, error) {
 			return nil, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
 		}
 		y[k] = v
-		for i := 0; i < n; i++ {
+		for i, row := range rows {
 			acc := s.B[i]
-			row := s.A[i*n : (i+1)*n]
-			for j, a := range row {
-				acc += a * x[j]
+			for _, e := range row {
+				acc += e.a * x[e.j]
 			}
 			nx[i] = acc
 		}

@@ -23,6 +23,7 @@ var (
 	colMargin     = color.RGBA{R: 0xc0, G: 0x30, B: 0x90, A: 0xff}  // magenta: GM/PM
 	colBand       = color.NRGBA{R: 0x1a, G: 0x9f, B: 0x47, A: 0x40} // translucent green
 	colGrid       = color.RGBA{R: 0xdd, G: 0xdd, B: 0xdd, A: 0xff}
+	colRealized   = color.RGBA{R: 0xc0, G: 0x70, B: 0x00, A: 0xff} // orange: rounded (realized) poles
 )
 
 // Line widths and marker sizes, in points.

@@ -89,7 +89,7 @@ func (zp *zPlane) zoomed() (*zPlane, error) {
 		return nil, nil
 	}
 	z := &zPlane{closed: zp.closed, open: zp.open, zeros: zp.zeros, violating: zp.violating,
-		halfSpan: half, center: c, checks: zp.checks}
+		rounded: zp.rounded, realized: zp.realized, halfSpan: half, center: c, checks: zp.checks}
 	title := fmt.Sprintf("zoom ×%s near z = %s (view %s wide)", analysis.FormatNumber(roundSig(zp.halfSpan/half)),
 		analysis.FormatComplex(c), analysis.FormatNumber(roundSig(2*half)))
 	if err := z.build(title, func(r float64) plotter.XYs { return arcXYs(r, c, half) }); err != nil {

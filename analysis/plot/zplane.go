@@ -39,10 +39,13 @@ type zPlane struct {
 	open      []complex128 // poles of L
 	zeros     []complex128 // zeros of L
 	violating []complex128 // closed-loop poles that break a requirement
-	halfSpan  float64      // half-width of the square data region to show
-	center    complex128   // centre of that region (0 but in a zoomed view)
-	checks    poleChecks
-	loop      *analysis.Loop // for the full view's extras; nil in a zoom
+	// rounded are the poles of the realized blocks after rounding, and
+	// realized the closed-loop poles with them in place (realize lines).
+	rounded, realized []complex128
+	halfSpan          float64    // half-width of the square data region to show
+	center            complex128 // centre of that region (0 but in a zoomed view)
+	checks            poleChecks
+	loop              *analysis.Loop // for the full view's extras; nil in a zoom
 }
 
 // legendItem is one legend entry, drawn below the z-plane.
@@ -200,7 +203,8 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 			zp.violating = append(zp.violating, p.Z)
 		}
 	}
-	for _, set := range [][]complex128{zp.closed, zp.open, zp.zeros} {
+	zp.rounded, zp.realized = realizedPoles(l)
+	for _, set := range [][]complex128{zp.closed, zp.open, zp.zeros, zp.rounded, zp.realized} {
 		for _, z := range set {
 			zp.halfSpan = math.Max(zp.halfSpan, zMargin*math.Max(math.Abs(real(z)), math.Abs(imag(z))))
 		}
@@ -288,11 +292,42 @@ func (zp *zPlane) build(title string, circle func(r float64) plotter.XYs) error 
 	if err := scatter(zp.closed, draw.CircleGlyph{}, colClosedPole, markerSize, "closed-loop pole"); err != nil {
 		return err
 	}
+	if err := scatter(zp.rounded, draw.SquareGlyph{}, colRealized, markerSize-0.5, "rounded block pole (realize)"); err != nil {
+		return err
+	}
+	if err := scatter(zp.realized, draw.TriangleGlyph{}, colRealized, markerSize, "closed-loop pole, realized blocks"); err != nil {
+		return err
+	}
 	if err := scatter(zp.violating, ringGlyph{vg.Points(glyphStroke + 0.4)}, colViolation, violationSize, "breaks a requirement"); err != nil {
 		return err
 	}
 	zp.plot = p
 	return nil
+}
+
+// realizedPoles returns the rounded poles of the loop's realized blocks and
+// the closed-loop poles of the loop with them in place, as the analysis
+// computed them (finite ones only).
+func realizedPoles(l *analysis.Loop) (rounded, closed []complex128) {
+	if l.Realized == nil {
+		return nil, nil
+	}
+	finite := func(z complex128) bool { return !cmplx.IsNaN(z) && !cmplx.IsInf(z) }
+	for _, b := range l.Realized.Elements {
+		for _, z := range b.Poles {
+			if finite(z) {
+				rounded = append(rounded, z)
+			}
+		}
+	}
+	if f := l.Realized.Figures; f != nil && f.OK {
+		for _, p := range f.Poles {
+			if finite(p.Z) {
+				closed = append(closed, p.Z)
+			}
+		}
+	}
+	return rounded, closed
 }
 
 // setView sets the axis ranges so that one data unit has the same length

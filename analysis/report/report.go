@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"ringside/analysis"
+	"ringside/analysis/pole"
 )
 
 // Doc is the JSON document of `ringside check --format json`
@@ -78,6 +79,32 @@ type Loop struct {
 	Verdict            string        `json:"verdict"`
 	DiskMargin         *DiskMargin   `json:"disk_margin"`
 	Robust             *Robust       `json:"robust,omitempty"`
+	// Realized: the loop with its realized blocks in place (loop-format.md,
+	// version 2); absent when no block of the loop is realized.
+	Realized *RealizedLoop `json:"realized,omitempty"`
+}
+
+// RealizedLoop is the contract's loops[].realized.
+type RealizedLoop struct {
+	Stable         *bool    `json:"stable"`
+	MaxRadius      *float64 `json:"max_radius"`
+	GainMarginDB   *float64 `json:"gain_margin_db"`
+	PhaseMarginDeg *float64 `json:"phase_margin_deg"`
+	Blocks         []string `json:"blocks"`
+}
+
+// Realization is the contract's blocks[].realization.
+type Realization struct {
+	Structure    string      `json:"structure"`
+	Format       string      `json:"format"`
+	Coefficients [][]float64 `json:"coefficients"`
+	Poles        []Pole      `json:"poles"`
+	MaxPoleShift float64     `json:"max_pole_shift"`
+	Stable       bool        `json:"stable"`
+	// Delta is Δ of the delta form; MaxInput the largest input magnitude
+	// that cannot overflow a fixed-point realization (null otherwise).
+	Delta    *float64 `json:"delta,omitempty"`
+	MaxInput *float64 `json:"max_input"`
 }
 
 // Pole is one closed-loop (or block) pole or zero.
@@ -133,6 +160,8 @@ type Block struct {
 	Poles  []Pole    `json:"poles"`
 	Zeros  []Pole    `json:"zeros"`
 	DCGain *float64  `json:"dc_gain"`
+	// Realization is present for a block with a realize line.
+	Realization *Realization `json:"realization,omitempty"`
 }
 
 // finite returns a pointer to v, or nil when v is not a finite number: the
@@ -184,7 +213,9 @@ func buildFile(r *analysis.Result, display func(string) string) File {
 		f.Gains = append(f.Gains, out)
 	}
 	for _, b := range r.Blocks {
-		f.Blocks = append(f.Blocks, block(b))
+		out := block(b)
+		out.Realization = realization(b.Realization, r.SampleT)
+		f.Blocks = append(f.Blocks, out)
 	}
 	return f
 }
@@ -249,6 +280,41 @@ func loop(l *analysis.Loop) Loop {
 		out.Requirements = append(out.Requirements, Requirement{Metric: q.Metric, Op: q.Op, Want: q.Want, Got: finitePtr(q.Got), Met: q.Met, Default: q.Item == nil})
 	}
 	out.DiskMargin, out.Robust = diskMargin(l), robust(l)
+	out.Realized = realizedLoop(l.Realized)
+	return out
+}
+
+func realizedLoop(r *analysis.RealizedLoop) *RealizedLoop {
+	if r == nil {
+		return nil
+	}
+	out := &RealizedLoop{Blocks: r.Blocks}
+	if l := r.Figures; l.OK {
+		if !l.Undecided {
+			st := l.Stable
+			out.Stable = &st
+		}
+		out.MaxRadius = finite(l.MaxRadius)
+		out.GainMarginDB, out.PhaseMarginDeg = finitePtr(l.Margins.GainMarginDB), finitePtr(l.Margins.PhaseMarginDeg)
+	}
+	return out
+}
+
+func realization(r *analysis.Realization, T float64) *Realization {
+	if r == nil || r.Realization == nil {
+		return nil
+	}
+	out := &Realization{Structure: r.Structure.String(), Format: r.Format.String(), Coefficients: r.Coefficients(),
+		Poles: []Pole{}, MaxPoleShift: r.MaxPoleShift, Stable: r.Stable}
+	for _, p := range r.Poles {
+		out.Poles = append(out.Poles, polePoint(pole.Describe(p, T, analysis.DefaultTolerance)))
+	}
+	if d := r.Delta(); d != 0 {
+		out.Delta = &d
+	}
+	if h := r.Headroom; h != nil {
+		out.MaxInput = finite(h.MaxInput)
+	}
 	return out
 }
 

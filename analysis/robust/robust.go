@@ -340,10 +340,10 @@ func (m affine) edges(f Family) Result {
 // [lo, hi], with the stable interval around mid; exact is false when
 // gainlimit fell back to bisection.
 func edgeStable(a, b poly.Poly, mid, lo, hi float64, deg int) (ok bool, iv *gainlimit.Interval, exact bool) {
+	if max(a.Degree(), b.Degree()) < deg {
+		return false, nil, true // degree lost along the whole edge: a pole at infinity
+	}
 	if b.Trim().IsZero() {
-		if a.Degree() < deg {
-			return false, nil, true
-		}
 		st, err := gainlimit.SchurStable(a)
 		return err == nil && st, nil, err == nil
 	}
@@ -480,8 +480,12 @@ func grid(f Family) Result {
 	for i := range dims {
 		dims[i] = fmt.Sprint(k)
 	}
-	res.Method = fmt.Sprintf("grid %s (%d points, spacing 1/%d of each range), refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
-		strings.Join(dims, "×"), total, k-1, 1<<compassLevels, maxCompassEvals)
+	shape := fmt.Sprintf("grid of %d points (spacing 1/%d of the range)", total, k-1)
+	if n > 1 {
+		shape = fmt.Sprintf("grid %s = %d points (spacing 1/%d of each range)", strings.Join(dims, "×"), total, k-1)
+	}
+	res.Method = fmt.Sprintf("%s, refined near the worst point by compass search (steps down to 1/%d of a spacing, at most %d evaluations); a grid cannot prove stability between its points",
+		shape, 1<<compassLevels, maxCompassEvals)
 	eval := f.evaluator()
 	for _, x := range corners(f.Lo, f.Hi) {
 		res.add(x)

@@ -120,3 +120,17 @@ func BenchmarkAnalyse(b *testing.B) {
 		})
 	}
 }
+
+// TestDegreeLostOnAnEdge: c = q1·z² + z − 0.3 + 0.1·q2 loses its leading
+// coefficient along the whole edge q1 = 0 (a pole at infinity: the loop is
+// ill-posed there), so the box is not stable and the point is reported.
+func TestDegreeLostOnAnEdge(t *testing.T) {
+	f := affineFamily(poly.New(-0.3, 1), poly.New(0, 0, 1), poly.New(0.1))
+	r := Analyse(f)
+	if r.Stable == nil || *r.Stable || r.IllPosed == nil || r.IllPosed[0] != 0 {
+		t.Fatalf("want unstable with an ill-posed point at q1 = 0, got %+v", r)
+	}
+	if math.IsInf(r.WorstRadius, 0) || math.IsNaN(r.WorstRadius) {
+		t.Errorf("worst radius %v must be a finite figure", r.WorstRadius)
+	}
+}

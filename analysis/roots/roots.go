@@ -396,15 +396,22 @@ func taylor(p poly.Poly, c complex128) []complex128 {
 }
 
 // clusterRadius is the radius within which m roots near c are one multiple
-// root at working precision, for a relative coefficient perturbation eta.
+// root at working precision, for a relative coefficient perturbation eta:
+// the smallest over k ≥ m of (eta·s/|a_k|)^(1/k), a_k the Taylor
+// coefficients of p at c. An m-fold root (a_m ≠ 0) gives the usual
+// (eta·s/|a_m|)^(1/m); where p has a root of higher multiplicity at c (a_m
+// vanishes), the higher terms bound the radius, so that roots far from c
+// (a conjugate pair beside a triple root) are never merged with it.
 func clusterRadius(p poly.Poly, c complex128, m int, eta float64) float64 {
 	a := taylor(p, c)
-	am := cmplx.Abs(a[m])
 	_, s := evalAbs(p, c)
-	if am == 0 {
-		return math.Inf(1)
+	r := math.Inf(1)
+	for k := m; k < len(a); k++ {
+		if ak := cmplx.Abs(a[k]); ak > 0 {
+			r = math.Min(r, math.Pow(eta*s/ak, 1/float64(k)))
+		}
 	}
-	return clusterSafety * math.Pow(eta*s/am, 1/float64(m))
+	return clusterSafety * r
 }
 
 // clusterTol is the relative, coefficient-by-coefficient change of p

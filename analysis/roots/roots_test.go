@@ -292,3 +292,28 @@ func TestFindSubnormalAfterRescale(t *testing.T) {
 		}
 	}
 }
+
+// A conjugate pair beside a triple root: (z² + 2z + 2)(z + 1)³ has the
+// simple roots −1 ± j and the triple root −1 (closed form). The pair's mean
+// is the triple root itself, so a cluster radius taken from the second
+// Taylor coefficient alone (zero there) would merge the pair into it.
+func TestPairBesideTripleRootStaysApart(t *testing.T) {
+	r, err := Find(poly.New(2, 8, 13, 11, 5, 1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var simple, triple int
+	for _, c := range r.Clusters {
+		switch {
+		case c.Multiplicity == 3 && cmplx.Abs(c.Value+1) < 1e-6:
+			triple++
+		case c.Multiplicity == 1 && math.Abs(cmplx.Abs(c.Value+1)-1) < 1e-9 && math.Abs(real(c.Value)+1) < 1e-9:
+			simple++
+		default:
+			t.Errorf("unexpected cluster %v ×%d", c.Value, c.Multiplicity)
+		}
+	}
+	if triple != 1 || simple != 2 {
+		t.Errorf("clusters %v: want −1 ×3 and −1 ± j simple", r.Clusters)
+	}
+}
