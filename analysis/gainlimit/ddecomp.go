@@ -75,6 +75,7 @@ func DBoundary(q []poly.Poly) ([]float64, error) {
 	if len(q) < 2 {
 		return nil, nil // p does not depend on s
 	}
+	q = unitScale(q)
 	n := 0
 	for _, p := range q {
 		n = max(n, p.Degree())
@@ -141,7 +142,37 @@ func DBoundary(q []poly.Poly) ([]float64, error) {
 		}
 		prevW, prevCount = w, cnt
 	}
-	return out, nil
+	finite := out[:0]
+	for _, k := range out {
+		if !math.IsNaN(k) && !math.IsInf(k, 0) {
+			finite = append(finite, k)
+		}
+	}
+	return finite, nil
+}
+
+// unitScale divides every q_j by one power of two bringing the largest
+// coefficient near 1 (p's roots do not change), so that evaluating p on
+// the circle neither overflows nor underflows.
+func unitScale(q []poly.Poly) []poly.Poly {
+	big := 0.0
+	for _, p := range q {
+		for _, v := range p {
+			big = math.Max(big, math.Abs(v))
+		}
+	}
+	if big == 0 || math.IsInf(big, 0) || math.IsNaN(big) {
+		return q
+	}
+	_, e := math.Frexp(big)
+	out := make([]poly.Poly, len(q))
+	for j, p := range q {
+		out[j] = make(poly.Poly, len(p))
+		for i, v := range p {
+			out[j][i] = math.Ldexp(v, -e)
+		}
+	}
+	return out
 }
 
 // crossing bisects (a, b) on the count of roots above the real axis (ca at

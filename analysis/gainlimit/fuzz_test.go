@@ -35,7 +35,8 @@ const (
 // Affine (c = a + k·b) and Numeric (c = a + k·b + k²·d) never panic or hang,
 // refuse bad input with an error, and return intervals whose ends are finite
 // and ordered, contain k0 when they say so, and whose inner point is stable
-// by SchurStable when an interval is reported found.
+// by SchurStable when an interval is reported found; and that DBoundary
+// (p = a + k·b + k²·d) returns, with no NaN candidate from finite input.
 func FuzzGainLimit(f *testing.F) {
 	f.Add([]byte{}, byte(0))
 	f.Add([]byte{0, 1, 7, 248, 4, 6, 0, 0, 6, 0}, byte(1))                       // z - 0.5 + k: (−0.5, 1.5)
@@ -88,6 +89,15 @@ func FuzzGainLimit(f *testing.F) {
 				t.Fatalf("Numeric: Exact set")
 			}
 			checkInterval(t, "Numeric", iv, k0, func(k float64) poly.Poly { p, _ := c(k); return p })
+		}
+		var cands []float64
+		run("DBoundary", func() { cands, err = DBoundary([]poly.Poly{a, b, d}) })
+		if err == nil && a.Finite() && b.Finite() && d.Finite() {
+			for _, k := range cands {
+				if math.IsNaN(k) {
+					t.Fatalf("DBoundary(%v, %v, %v): NaN candidate", a, b, d)
+				}
+			}
 		}
 	})
 }
