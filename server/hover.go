@@ -324,6 +324,8 @@ func loopHover(l *analysis.Loop) string {
 			w.WriteString(", not settled within the simulated horizon")
 		}
 		w.WriteString("\n")
+	} else if l.Undecided {
+		w.WriteString("\nStep: none (stability undecided: no response is shown for a loop not shown stable)\n")
 	} else if !l.Stable {
 		w.WriteString("\nStep: none (the loop is not stable)\n")
 	}
