@@ -139,3 +139,19 @@ func fmtPtr(p *float64) any {
 	}
 	return *p
 }
+
+// TestDDecompositionRefusesSBlock: a gain inside a discretized s block
+// (ZOH of 1/(s + k): pole e^{−kT}) is not polynomial in the characteristic
+// polynomial, so the D-decomposition refuses it and the march decides
+// (Exact false). The loop 1/(s + k) via zoh with unity feedback is stable
+// at k = 5 (T = 1 ms: pole near 1 − kT − T), which the march must keep.
+func TestDDecompositionRefusesSBlock(t *testing.T) {
+	res := checkSrc(t, "sample 1 ms\ngain k = 5\nblock p = 1 / (s + k) via zoh\nloop l {\n  forward p\n}\n", nil)
+	lim := gainNamed(t, res, "k").Limits
+	if lim == nil || !lim.Found || !lim.CurrentStable {
+		t.Fatalf("limits %+v", lim)
+	}
+	if lim.Exact {
+		t.Errorf("gain inside a ZOH s block reported as exact")
+	}
+}

@@ -22,6 +22,14 @@ const MaxDDecompDegree = 40
 // first D+1 fit degree D and the rest check it.
 var gainNodes = []float64{0, 1, -1, 0.5, -1.5, 1.5, -0.5}
 
+// gainFitSpread widens the fit's nodes to k0 ± 24·max(|k0|, 1): a
+// dependence that only looks polynomial near k0 (e^{−kT} of a gain inside
+// a ZOH s block, to 1e-12 over a small range at a fast sample rate) must
+// show its higher terms at the check points. A non-polynomial dependence
+// that a degree-4 polynomial matches to gainFitTol over that whole range is
+// taken as polynomial; its ends are still verified by eigenvalue checks.
+const gainFitSpread = 16
+
 // gainFitTol is the relative accuracy to which the fitted polynomial must
 // reproduce the check points (as AffineTolerance: rounding of the products
 // stays near 1e-13; a dependence of higher degree or not polynomial at all
@@ -105,7 +113,7 @@ func evalInS(q []poly.Poly, s float64) poly.Poly {
 // certainly outside) and just outside (not certainly stable). ok is false
 // when the form does not fit or a check disagrees; the caller then marches.
 func (c *checker) polyInterval(name string, k0 float64, loops []*Loop) (gainlimit.Interval, bool) {
-	h := math.Max(math.Abs(k0), 1)
+	h := gainFitSpread * math.Max(math.Abs(k0), 1)
 	cands := []float64{0}
 	for _, l := range loops {
 		q, ok := c.gainPolyForm(l, name, k0, h)

@@ -129,7 +129,7 @@ type GainLimits struct {
 	// StableMin, StableMax: the open stable interval around the current
 	// value; nil = unbounded on that side.
 	StableMin, StableMax *float64
-	Exact                bool // every loop's characteristic polynomial is affine in the gain
+	Exact                bool // the ends are computed boundary values (D-decomposition or the affine method), not bisection
 	CurrentStable        bool // the current value lies inside the interval
 	Found                bool // some stable interval exists (when the current value is unstable)
 	// SafeMax is the largest value for which every such loop is stable and
