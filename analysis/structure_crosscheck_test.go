@@ -153,6 +153,18 @@ func structureCases() []refCase {
 		}
 		cs = append(cs, c)
 	}
+	// The conveyor demo (testdata/demo/conveyor.loop): PI at 1 kHz, the
+	// ZOH of 40/(s² + 9s + 40), one sample of measurement delay. Its poles
+	// moved by ~1e-11 when the integrator became exact; the 50-digit
+	// reference decides which figures are right.
+	{
+		c := refCase{Name: "conveyor_demo", T: 1e-3, GMBlocks: true}
+		c.add("pi_ctrl", zblock([]float64{-0.8, 0.8 + 5*0.001}, []float64{-1, 1}))
+		c.add("belt", refBlock{Modes: [][2]float64{{math.Sqrt(40), 9 / (2 * math.Sqrt(40))}}, Gain: 1})
+		c.add("enc", refBlock{Num: []float64{1}, Den: []float64{0, 1}, expr: "z^-1"})
+		c.Forward, c.Feedback = []string{"pi_ctrl", "belt"}, []string{"enc"}
+		cs = append(cs, c)
+	}
 	// Forty identical lags 1/(z − 0.5) and a small gain, as forty blocks and
 	// as one factor raised to the 40th power.
 	for _, k := range []float64{1e-30, 1e-11} {

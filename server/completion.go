@@ -64,25 +64,7 @@ func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *ana
 			items = append(items, protocol.CompletionItem{Label: w, Kind: kind, Detail: detail})
 		}
 	}
-	names := func() {
-		res := scope()
-		if res == nil {
-			return
-		}
-		var list []string
-		for n := range res.Scope {
-			list = append(list, n)
-		}
-		sort.Strings(list)
-		for _, n := range list {
-			d := res.Scope[n]
-			if d.Gain != nil {
-				add(protocol.CompletionItemKindVariable, "gain = "+analysis.FormatNumber(d.Gain.Value), n)
-			} else {
-				add(protocol.CompletionItemKindFunction, "block", n)
-			}
-		}
-	}
+	names := func() { items = append(items, scopeItems(scope())...) }
 	last := ""
 	if len(toks) > 0 {
 		last = toks[len(toks)-1]
@@ -113,22 +95,7 @@ func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *ana
 	case last == "require":
 		add(protocol.CompletionItemKindEnum, "metric", analysis.MetricNames()...)
 	case lastIsNumber:
-		switch {
-		case first == "sample":
-			add(protocol.CompletionItemKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
-		case first == "require" && len(toks) >= 2:
-			add(protocol.CompletionItemKindUnit, "unit", unitsMetric[toks[1]]...)
-		case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
-			add(protocol.CompletionItemKindUnit, "unit", unitsFreq...)
-		case first == "gain" && len(toks) >= 2 && toks[len(toks)-2] == "vary":
-			add(protocol.CompletionItemKindKeyword, "end of the range", "to")
-		case first == "gain" && (contains(toks, "min") || contains(toks, "max")):
-			add(protocol.CompletionItemKindKeyword, "range", "min", "max")
-		case first == "gain" && !contains(toks, "vary"):
-			add(protocol.CompletionItemKindKeyword, "range", "min", "max", "vary")
-		case first == "block":
-			add(protocol.CompletionItemKindKeyword, "discretization", "via")
-		}
+		afterNumber(toks, add)
 	case first == "forward" || first == "feedback":
 		names()
 	case first == "block" && contains(toks, "="):
@@ -143,6 +110,49 @@ func completionItems(toks []string, lastIsNumber, inLoop bool, scope func() *ana
 		}
 	}
 	return items
+}
+
+// scopeItems lists the gains and blocks in scope, by name.
+func scopeItems(res *analysis.Result) []protocol.CompletionItem {
+	if res == nil {
+		return nil
+	}
+	var list []string
+	for n := range res.Scope {
+		list = append(list, n)
+	}
+	sort.Strings(list)
+	var items []protocol.CompletionItem
+	for _, n := range list {
+		if d := res.Scope[n]; d.Gain != nil {
+			items = append(items, protocol.CompletionItem{Label: n, Kind: protocol.CompletionItemKindVariable, Detail: "gain = " + analysis.FormatNumber(d.Gain.Value)})
+		} else {
+			items = append(items, protocol.CompletionItem{Label: n, Kind: protocol.CompletionItemKindFunction, Detail: "block"})
+		}
+	}
+	return items
+}
+
+// afterNumber offers what may follow a number: a unit, a range keyword or
+// via, by the statement.
+func afterNumber(toks []string, add func(protocol.CompletionItemKind, string, ...string)) {
+	first := toks[0]
+	switch {
+	case first == "sample":
+		add(protocol.CompletionItemKindUnit, "unit", append(append([]string{}, unitsTime...), unitsFreq...)...)
+	case first == "require" && len(toks) >= 2:
+		add(protocol.CompletionItemKindUnit, "unit", unitsMetric[toks[1]]...)
+	case len(toks) >= 2 && toks[len(toks)-2] == "prewarp":
+		add(protocol.CompletionItemKindUnit, "unit", unitsFreq...)
+	case first == "gain" && len(toks) >= 2 && toks[len(toks)-2] == "vary":
+		add(protocol.CompletionItemKindKeyword, "end of the range", "to")
+	case first == "gain" && (contains(toks, "min") || contains(toks, "max")):
+		add(protocol.CompletionItemKindKeyword, "range", "min", "max")
+	case first == "gain" && !contains(toks, "vary"):
+		add(protocol.CompletionItemKindKeyword, "range", "min", "max", "vary")
+	case first == "block":
+		add(protocol.CompletionItemKindKeyword, "discretization", "via")
+	}
 }
 
 // lineTokens splits the line before the cursor with the syntax lexer: the

@@ -196,7 +196,13 @@ func (lp loop) phaseCrossings(grid, g, gScale []float64, T float64) []Crossing {
 		if lp.singular(th, N, D) || real(N*cmplx.Conj(D)) >= 0 {
 			continue
 		}
-		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: -20 * math.Log10(cmplx.Abs(N/D))})
+		// |N| and |D| apart, not |N/D|: the quotient overflows for a huge
+		// gain over a pole near the point (the factored form allows both).
+		gm := -20 * (math.Log10(cmplx.Abs(N)) - math.Log10(cmplx.Abs(D)))
+		if math.IsInf(gm, 0) || math.IsNaN(gm) {
+			continue
+		}
+		out = append(out, Crossing{Hz: th / (2 * math.Pi * T), Value: gm})
 	}
 	return out
 }

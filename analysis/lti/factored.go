@@ -88,6 +88,9 @@ func (f *Factored) MulPoly(p poly.Poly, pow int) error {
 func polyRoots(p poly.Poly) ([]complex128, float64, error) {
 	if len(p) == 2 {
 		z := -p[0] / p[1]
+		if math.IsInf(z, 0) || math.IsNaN(z) {
+			return nil, 0, errors.New("lti: a root's modulus exceeds the float64 range")
+		}
 		return []complex128{complex(z, 0)}, eps * math.Abs(z), nil
 	}
 	r, err := roots.Find(p)
