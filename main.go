@@ -153,6 +153,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		debug.SetMemoryLimit(checkMemoryLimit)
 	}
+	opts.NoStepSamples = true // no report prints the samples
 	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
 	out := report.NewStream(*format, stdout, display, version, *indent)
 	status := 0

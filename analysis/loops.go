@@ -247,7 +247,11 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	}
 	l.Margins = m
 	if l.Stable {
-		st, err := mod.Step(c.res.SampleT, l.MaxRadius)
+		stepOf := mod.Step
+		if c.env.Options.NoStepSamples {
+			stepOf = mod.StepFigures // the samples are dropped: no view to fill
+		}
+		st, err := stepOf(c.res.SampleT, l.MaxRadius)
 		if err != nil {
 			c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
 		} else {

@@ -266,6 +266,16 @@ func (l *Loop) Margins(T float64, poles []Pole) (freq.Margins, error) {
 // cancelled: a cancelled pair may still shape the output), for a loop
 // whose largest pole radius is maxRadius < 1.
 func (l *Loop) Step(T, maxRadius float64) (step.Result, error) {
+	return l.step(T, maxRadius, true)
+}
+
+// StepFigures is Step for a caller that reads the figures only: the
+// simulation may stop before the samples a view would show.
+func (l *Loop) StepFigures(T, maxRadius float64) (step.Result, error) {
+	return l.step(T, maxRadius, false)
+}
+
+func (l *Loop) step(T, maxRadius float64, view bool) (step.Result, error) {
 	if !(T > 0) || math.IsInf(T, 0) {
 		return step.Result{}, fmt.Errorf("lti: sample period %v s must be finite and positive", T)
 	}
@@ -291,7 +301,7 @@ func (l *Loop) Step(T, maxRadius float64) (step.Result, error) {
 		return step.Result{}, err
 	}
 	K, clamped := step.Horizon(cl.N, maxRadius)
-	y, stopped, err := simulate(cl, K, final)
+	y, stopped, err := simulate(cl, K, final, view)
 	if err != nil {
 		return step.Result{}, err
 	}
@@ -320,7 +330,7 @@ func dcGain(g, h Factored, sigma float64) (float64, error) {
 // reports so, once a tailBound on the rest of the response shows that no
 // later sample can change a step figure (step.Tail): the figures are those
 // of the full horizon, at a fraction of its length for slow loops.
-func simulate(s System, K int, final float64) ([]float64, bool, error) {
+func simulate(s System, K int, final float64, view bool) ([]float64, bool, error) {
 	n := s.N
 	type entry struct {
 		j int
@@ -336,7 +346,7 @@ func simulate(s System, K int, final float64) ([]float64, bool, error) {
 	}
 	x, nx := make([]float64, n), make([]float64, n)
 	tb, early := newTailBound(s, K)
-	watch := step.NewTail(final)
+	watch := step.NewTail(final, view)
 	y := make([]float64, 0, min(K, 4096))
 	for k := 0; k < K; k++ {
 		if early && k%tailCheckEvery == 0 && watch.Done(tb.bound(x, final)) {

@@ -72,7 +72,7 @@ func TestEarlyStopAgainstScipy(t *testing.T) {
 			r = math.Max(r, cmplx.Abs(p))
 		}
 		K, _ := step.Horizon(s.N, r)
-		y, _, err := simulate(s, K, final)
+		y, _, err := simulate(s, K, final, false)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -14,18 +14,19 @@ const OvershootSlack = 1e-6
 // says when a bound on every later deviation |y[j] − Final| proves that no
 // later sample can change a figure: the settling time (the last exit from
 // the band is behind), the overshoot (the peak is behind, to
-// OvershootSlack), the rise time (the 90 % level is reached) and the
-// samples a view shows (StepShown). Stopping there gives the figures the
-// full horizon would give.
+// OvershootSlack), the rise time (the 90 % level is reached) and, when
+// asked, the samples a view shows (StepShown). Stopping there gives the
+// figures the full horizon would give.
 type Tail struct {
 	final, width, peak, maxAbs float64
-	k90                        bool
+	k90, view                  bool
 	last, n                    int
 }
 
-// NewTail starts a tracker for a response with steady-state value final.
-func NewTail(final float64) *Tail {
-	return &Tail{final: final, width: band * math.Abs(final), last: -1}
+// NewTail starts a tracker for a response with steady-state value final;
+// view asks for the samples a view shows as well as the figures.
+func NewTail(final float64, view bool) *Tail {
+	return &Tail{final: final, width: band * math.Abs(final), last: -1, view: view}
 }
 
 // Add takes the next sample.
@@ -50,7 +51,7 @@ func (t *Tail) Add(v float64) {
 // Done reports whether the samples so far fix every figure, given that
 // |y[j] − Final| ≤ bound for every sample j not yet taken.
 func (t *Tail) Done(bound float64) bool {
-	if !(bound >= 0) || math.IsInf(bound, 0) || t.n <= StepShown(t.last+1) || t.last >= t.n-1 {
+	if !(bound >= 0) || math.IsInf(bound, 0) || t.view && t.n <= StepShown(t.last+1) || t.last >= t.n-1 {
 		return false
 	}
 	if t.final == 0 {
