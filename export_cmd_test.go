@@ -56,7 +56,7 @@ func TestExportCommand(t *testing.T) {
 		{[]string{"-o", filepath.Join(outside, "x.h"), "good.loop"}, 2, "outside the working folder"},
 		{[]string{"-o", "elsewhere/x.h", "good.loop"}, 2, "outside the working folder"},
 		{[]string{"-o", "link.h", "good.loop"}, 2, "cannot write link.h"},
-		{[]string{"--lang", "rust", "good.loop"}, 2, "usage"},
+		{[]string{"--lang", "rust", "good.loop"}, 2, "--lang takes one of c, json"},
 		{[]string{"missing.loop"}, 2, "cannot read"},
 	} {
 		code, _, msg := exp(c.args...)

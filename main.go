@@ -1,7 +1,7 @@
 // Command ringside checks .loop files of discrete-time control loops, from
 // the command line or as a language server.
 //
-//	ringside check [--format text|json|sarif] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
+//	ringside check [--format text|json|sarif|markdown] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget DURATION] [--baseline FILE.json] PATH...
 //	ringside fmt [-w] FILE...
 //	ringside plot FILE [--loop NAME] [-o OUT]
 //	ringside serve [--stdio] [--log-file PATH] [--log-level LEVEL]
@@ -12,7 +12,6 @@ import (
 	"bytes"
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"io/fs"
@@ -26,6 +25,7 @@ import (
 	"ringside/analysis/export"
 	"ringside/analysis/plot"
 	"ringside/analysis/report"
+	"ringside/cliflag"
 	"ringside/internal/fileio"
 	"ringside/server"
 	"ringside/syntax"
@@ -37,13 +37,15 @@ const version = "0.1.0"
 const usage = `ringside: stability, margins and gain limits of discrete-time control loops in .loop files
 
 usage:
-  ringside check [--format text|json|sarif] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG] [--tolerance X] [--budget D] PATH...
+  ringside check [--format text|json|sarif|markdown] [--indent] [--root DIR] [--gain-margin DB] [--phase-margin DEG]
+                 [--tolerance X] [--budget DURATION] [--baseline FILE.json] PATH...
   ringside fmt [-w] FILE...
   ringside plot FILE [--loop NAME] [-o OUT.svg|OUT.png|OUT.html]
   ringside serve [--stdio] [--log-file PATH] [--log-level debug|info|warn|error]
   ringside export [--lang c|json] [-o PATH] FILE
 
-check exits 0 when no file has errors, 1 when any has, 2 on usage errors or unreadable input.
+check exits 0 when no file has errors, 1 when any has (or a loop regressed against --baseline),
+2 on usage errors or unreadable input. "ringside COMMAND --help" lists the flags of each command.
 export exits 0 when written, 1 when the file has errors (nothing is written), 2 on usage
 errors, unreadable input or a file without a realize line.
 `
@@ -86,56 +88,32 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return exitUsage
 }
 
-// parseInterleaved parses flags that may come before or after the
-// positional arguments.
-func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
-	var pos []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			return nil, err
-		}
-		args = fs.Args()
-		if len(args) == 0 {
-			return pos, nil
-		}
-		pos = append(pos, args[0])
-		args = args[1:]
+// parseFlags parses a command's flags (before or after the positional
+// arguments); status is -1 to go on, else the exit status (help printed,
+// or a usage error explained on stderr).
+func parseFlags(fs *cliflag.Set, args []string, stdout, stderr io.Writer) ([]string, int) {
+	pos, err := fs.Parse(args, stdout)
+	if errors.Is(err, cliflag.ErrHelp) {
+		return nil, 0
 	}
+	if err != nil {
+		fmt.Fprintf(stderr, "%s: %v\n", fs.Name(), err)
+		return nil, exitUsage
+	}
+	return pos, -1
 }
 
 func runCheck(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("check", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	format := fset.String("format", "text", "output format: text, json or sarif")
-	indent := fset.Bool("indent", false, "lay JSON and SARIF out for people (compact by default)")
-	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
-	opts := analysis.DefaultOptions()
-	fset.Float64Var(&opts.GainMarginDB, "gain-margin", opts.GainMarginDB, "default required gain margin in dB, for loops without require lines")
-	fset.Float64Var(&opts.PhaseMarginDeg, "phase-margin", opts.PhaseMarginDeg, "default required phase margin in degrees")
-	fset.Float64Var(&opts.Tolerance, "tolerance", opts.Tolerance, "how close to the unit circle a pole radius counts as on it")
-	fset.DurationVar(&opts.Budget, "budget", 0, "time limit per file (e.g. 30s); loops not reached are reported, not guessed")
-	paths, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
-	}
-	if *format != "text" && *format != "json" && *format != "sarif" {
-		fmt.Fprintf(stderr, "ringside check: unknown --format %q (want text, json or sarif)\n", *format)
-		return exitUsage
-	}
-	if len(paths) == 0 {
-		fmt.Fprint(stderr, "ringside check: name at least one .loop file or folder\n")
-		return exitUsage
-	}
-	if !(opts.Tolerance > 0 && opts.Tolerance < 0.1) {
-		fmt.Fprintf(stderr, "ringside check: --tolerance %g must be between 0 and 0.1\n", opts.Tolerance)
-		return exitUsage
+	cf, status := parseCheckFlags(args, stdout, stderr)
+	if status >= 0 {
+		return status
 	}
 	cwd, _ := os.Getwd()
 	rootDir := cwd
-	if *root != "" {
-		rootDir, _ = filepath.Abs(*root)
+	if cf.root != "" {
+		rootDir, _ = filepath.Abs(cf.root)
 	}
-	files, err := collect(paths, stderr)
+	files, err := collect(cf.paths, stderr)
 	if err != nil {
 		fmt.Fprintf(stderr, "ringside check: %v\n", err)
 		return exitUsage
@@ -146,6 +124,11 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		}
 		return p
 	}
+	base, err := openBaseline(cf)
+	if err != nil {
+		fmt.Fprintf(stderr, "ringside check: --baseline %s: %v\n", cf.baseline, err)
+		return exitUsage
+	}
 	// One file at a time, written as soon as it is checked: memory is
 	// bounded by the largest file. A check allocates far more than it
 	// keeps (a 2,000-loop file keeps about 30 MB); the soft limit makes the
@@ -153,10 +136,10 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		debug.SetMemoryLimit(checkMemoryLimit)
 	}
-	opts.NoStepSamples = true // no report prints the samples
-	env := analysis.Env{Roots: []string{rootDir}, Options: opts}
-	out := report.NewStream(*format, stdout, display, version, *indent)
-	status := 0
+	cf.opts.NoStepSamples = true // no report prints the samples
+	env := analysis.Env{Roots: []string{rootDir}, Options: cf.opts}
+	out := report.NewStreamAgainst(cf.format, stdout, display, version, cf.indent, base.sarifStates())
+	status = 0
 	for _, f := range files {
 		abs, _ := filepath.Abs(f)
 		src, err := readInput(abs)
@@ -167,6 +150,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		}
 		r := analysis.Check(context.Background(), abs, src, env)
 		out.Add(r)
+		base.add(r, display)
 		if r.HasErrors() {
 			status = 1
 		}
@@ -175,7 +159,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "ringside check: writing the report: %v\n", err)
 		return exitUsage
 	}
-	return status
+	return base.finish(stdout, cf.format, status)
 }
 
 // readInput reads a .loop file named on the command line: a regular file
@@ -238,12 +222,12 @@ func collect(paths []string, stderr io.Writer) ([]string, error) {
 }
 
 func runFmt(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("fmt", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	write := fset.Bool("w", false, "write the result back to each file instead of printing it")
-	files, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	fset := cliflag.New("ringside fmt", "FILE...", "Prints each .loop file in the canonical layout, or rewrites it with -w.")
+	write := new(bool)
+	fset.Bool(write, "w", "write the result back to each file instead of printing it")
+	files, st := parseFlags(fset, args, stdout, stderr)
+	if st >= 0 {
+		return st
 	}
 	if len(files) == 0 {
 		fmt.Fprint(stderr, "ringside fmt: name at least one .loop file\n")
@@ -286,14 +270,14 @@ func runFmt(args []string, stdout, stderr io.Writer) int {
 }
 
 func runPlot(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("plot", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	loopName := fset.String("loop", "", "plot only this loop (default: every loop of the file)")
-	out := fset.String("o", "", "output file: .svg (default), .png, or .html for one page with every loop")
-	root := fset.String("root", "", "workspace folder that `use` may not leave (default: the current folder)")
-	files, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	fset := cliflag.New("ringside plot", "FILE", "Draws each loop's z-plane, Bode and step response: SVG, PNG, or one HTML page.")
+	loopName, out, root := new(string), new(string), new(string)
+	fset.String(loopName, "loop", "plot only the loop `NAME` (default: every loop of the file)")
+	fset.String(out, "o", "output `FILE`: .svg (default: SVG on stdout), .png, or .html for one page with every loop")
+	fset.String(root, "root", "workspace folder `DIR` that use lines may not leave (default: the current folder)")
+	files, status := parseFlags(fset, args, stdout, stderr)
+	if status >= 0 {
+		return status
 	}
 	if len(files) != 1 {
 		fmt.Fprint(stderr, "ringside plot: name exactly one .loop file\n")
@@ -369,15 +353,15 @@ func runPlot(args []string, stdout, stderr io.Writer) int {
 
 // runExport writes the realized blocks of one file as a C99 header or JSON.
 func runExport(args []string, stdout, stderr io.Writer) int {
-	fset := flag.NewFlagSet("export", flag.ContinueOnError)
-	fset.SetOutput(stderr)
-	lang := fset.String("lang", "c", "c (a C99 header) or json")
-	out := fset.String("o", "", "output file inside the current folder (default: standard output)")
-	files, err := parseInterleaved(fset, args)
-	if err != nil {
-		return exitUsage
+	fset := cliflag.New("ringside export", "FILE", "Writes every realized block of FILE as a C99 header or as JSON.")
+	lang, out := new(string), new(string)
+	fset.Choice(lang, "lang", "c", []string{"c", "json"}, "output `LANG`: c (a C99 header) or json")
+	fset.String(out, "o", "output `PATH` inside the current folder (default: standard output)")
+	files, status := parseFlags(fset, args, stdout, stderr)
+	if status >= 0 {
+		return status
 	}
-	if len(files) != 1 || (*lang != "c" && *lang != "json") {
+	if len(files) != 1 {
 		fmt.Fprint(stderr, "ringside export: usage: ringside export [--lang c|json] [-o PATH] FILE\n")
 		return exitUsage
 	}

@@ -71,6 +71,11 @@ func (c *checker) loopStmts() []*syntax.LoopStmt {
 }
 
 func (c *checker) noSample() {
+	for _, st := range c.root.file.Stmts {
+		if _, ok := st.(*syntax.SampleStmt); ok {
+			return // a sample line that could not be read: its own error says why
+		}
+	}
 	span := syntax.Span{}
 	if len(c.root.file.Stmts) > 0 {
 		first := c.root.file.Stmts[0]

@@ -69,6 +69,11 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
+	// trial marks the loop analyses of a fix search: figures that no
+	// requirement of the loop needs are skipped (see wants).
+	trial bool
+	// fitSearches counts the gain fix searches run (MaxFitSearches).
+	fitSearches int
 	// memo is this check's view of Env.Memo (nil: none).
 	memo *memoRun
 }
@@ -129,6 +134,7 @@ func (c *checker) run(ctx context.Context) {
 		c.res.Loops = append(c.res.Loops, loops[i])
 	}
 	c.robustLoops(ctx)
+	c.quietIntegrators()
 	c.gainLimits(ctx)
 	c.summaries()
 }

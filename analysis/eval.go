@@ -453,22 +453,4 @@ func unknownNameMsg(name string, scope map[string]*Decl) string {
 }
 
 // editDistance is the Levenshtein distance between a and b.
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur := make([]int, len(b)+1)
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			c := 1
-			if a[i-1] == b[j-1] {
-				c = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+c)
-		}
-		prev = cur
-	}
-	return prev[len(b)]
-}
+func editDistance(a, b string) int { return syntax.EditDistance(a, b) }

@@ -3,6 +3,7 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"math/cmplx"
 	"strconv"
 	"strings"
 )
@@ -54,14 +55,46 @@ func roundDown(v float64) float64 {
 }
 
 // FormatComplex prints a pole or zero compactly: "0.9", "0.9 ± 0.12j".
+// A point near the unit circle gets enough digits to show how far it is
+// from the circle (see complexDigits).
 func FormatComplex(z complex128) string { return fmtComplex(z) }
 
 func fmtComplex(z complex128) string {
 	re, im := real(z), imag(z)
+	n := complexDigits(cmplx.Abs(z))
 	if math.Abs(im) <= 1e-12*math.Max(1, math.Abs(re)) {
-		return fmt.Sprintf("%.4g", re)
+		return strconv.FormatFloat(re, 'g', n, 64)
 	}
-	return fmt.Sprintf("%.4g ± %.4gj", re, math.Abs(im))
+	return strconv.FormatFloat(re, 'g', n, 64) + " ± " + strconv.FormatFloat(math.Abs(im), 'g', n, 64) + "j"
+}
+
+// complexDigits is the number of significant figures a point at radius r
+// is printed with: four, or, within 1e-3 of the circle, enough to show
+// the first two digits of |r − 1| (so 1.000126 ± 0.01412j does not read
+// as a point on the circle). Closer than DisplayZero the point is on the
+// circle for every tolerance a user may set, and four figures say so.
+func complexDigits(r float64) int {
+	d := math.Abs(r - 1)
+	if d >= 1e-3 || d < DisplayZero {
+		return 4
+	}
+	return min(int(math.Ceil(-math.Log10(d)))+3, 10)
+}
+
+// CircleDistance says how far a pole at radius r lies from the unit
+// circle, in words, when it is close enough for the digits to hide it
+// (within 1e-2) but not within tol: "2.25e-04 outside the circle".
+// Otherwise it returns "".
+func CircleDistance(r, tol float64) string {
+	d := r - 1
+	if math.Abs(d) >= 1e-2 || math.Abs(d) <= tol {
+		return ""
+	}
+	side := "outside"
+	if d < 0 {
+		side = "inside"
+	}
+	return fmt.Sprintf("%.3g %s the circle", math.Abs(d), side)
 }
 
 // FormatTime prints seconds with a unit that suits the size.
@@ -90,14 +123,15 @@ func FormatHz(hz float64) string {
 	return fmt.Sprintf("%.3g Hz", hz)
 }
 
-// fmtMetric prints a metric's figure in its unit. Figures within 1e-9 of
-// zero print as 0 (a loop on the edge gives ±1e-7-sized margins that
-// would read as "-0" or "7.9e-07").
+// FormatMetric prints a require metric's figure in its unit, as every view
+// (text, hover, page, plots) shows it, with the DisplayZero rule applied.
+func FormatMetric(metric string, v float64) string { return fmtMetric(metric, v) }
+
 func fmtMetric(metric string, v float64) string {
 	if math.IsInf(v, 1) {
 		return "unlimited (no crossing)"
 	}
-	v = snap(v)
+	v = Shown(v)
 	switch metric {
 	case "gain_margin", "peak_sensitivity":
 		return fmt.Sprintf("%.3g dB", v)
@@ -113,10 +147,19 @@ func fmtMetric(metric string, v float64) string {
 
 func abs64(v float64) float64 { return math.Abs(v) }
 
-// snap prints figures within 1e-6 of zero as 0: a loop on the edge of
-// stability gives ±1e-7-sized margins that would read as "-0" or "7.9e-07".
-func snap(v float64) float64 {
-	if math.Abs(v) < 1e-6 {
+// DisplayZero is the one display rule for figures that are zero within
+// the numerical tolerance: a margin, sensitivity, delay (seconds or
+// samples), overshoot or damping closer to zero than this prints as 0.
+// A loop on the edge of stability gives ±1e-7-sized margins (the root
+// finder's and the crossing search's rounding, see DefaultTolerance) that
+// would otherwise read as "-0", "7.94e-07°" or "8.82e-06 µs". Every view
+// (text, JSON-free displays, hover, page, plots) goes through Shown.
+const DisplayZero = 1e-6
+
+// Shown applies DisplayZero to a figure before it is printed; it also
+// turns −0 into 0.
+func Shown(v float64) float64 {
+	if math.Abs(v) < DisplayZero {
 		return 0
 	}
 	return v

@@ -27,6 +27,8 @@ type pendingFix struct {
 	// stability: the diagnostic is about stability, so capping the gain at
 	// its stability limit fixes it; margin diagnostics need the margin value.
 	stability bool
+	// metric is the missed requirement's metric ("" for stability).
+	metric string
 }
 
 // loopAt evaluates a loop's characteristic polynomial and open loop with
@@ -428,7 +430,11 @@ func (c *checker) attachFixes() {
 				continue // a varying gain is the plant's, not the engineer's to set
 			}
 			g := d.Gain
-			if f, ok := setGainFix(g, c.requiredGM(p.loop)); ok {
+			if p.metric != "" && p.metric != "gain_margin" {
+				c.requirementFix(x, g, p)
+				continue
+			}
+			if f, ok := c.gainFix(g, c.requiredGM(p.loop)); ok {
 				x.Fixes = append(x.Fixes, f)
 			}
 			if f, ok := capGainFix(g); ok && p.stability {
@@ -447,6 +453,7 @@ func (c *checker) attachFixes() {
 			if lim.SafeMax != nil {
 				hint += fmt.Sprintf("; %s ≤ %s keeps the required gain margin", name, fmtNum(roundDown(*lim.SafeMax)))
 			}
+			hint += g.fitHint()
 			x.Message += hint
 		}
 	}

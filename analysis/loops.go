@@ -199,7 +199,7 @@ func (c *checker) loop(ev *evaluator, ls *syntax.LoopStmt) *Loop {
 		if e.block == nil {
 			gains[e.name] = true
 		} else {
-			for g := range ev.memo[e.name].gains {
+			for g := range ev.block(e.decl).gains {
 				gains[g] = true
 			}
 		}
@@ -246,7 +246,7 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
 	l.Margins = m
-	if l.Stable {
+	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
 		stepOf := mod.Step
 		if c.env.Options.NoStepSamples {
 			stepOf = mod.StepFigures // the samples are dropped: no view to fill
@@ -258,7 +258,9 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 			l.Step = &st
 		}
 	}
-	c.diskMargin(l)
+	if c.wants(sh.reqs, "disk_margin") {
+		c.diskMargin(l)
+	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 }
@@ -438,6 +440,9 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 	}
 	worst := l.Poles[0]
 	where := fmt.Sprintf("z = %s (radius %s)", fmtComplex(worst.Z), FormatRadius(worst.Radius))
+	if d := CircleDistance(worst.Radius, c.env.Options.Tolerance); d != "" {
+		where = fmt.Sprintf("z = %s (radius %s, %s)", fmtComplex(worst.Z), FormatRadius(worst.Radius), d)
+	}
 	var x *Diagnostic
 	if l.Marginal {
 		x = c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodePoleOnCircle,

@@ -113,6 +113,10 @@ type Gain struct {
 	Value    float64
 	Min, Max *float64
 	Limits   *GainLimits // nil when no loop of this file uses it
+	// Fit is the value the quick-fix offers, keeping every requirement it
+	// can (fixsearch.go); nil until a failing loop asks for a fix.
+	Fit                 *GainFit
+	fitDone, fitSkipped bool
 	// Vary is the range of an uncertain gain (`vary A to B`); nil for a
 	// tunable one (or when the range is not valid).
 	Vary *Range

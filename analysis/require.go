@@ -252,11 +252,8 @@ func (c *checker) missed(l *Loop, q Requirement) {
 	case "disk_margin":
 		msg += "; a small gain and phase change together (well inside the gain and phase margins taken one at a time) can destabilise the loop"
 	}
-	x := c.diags.add(c.res.Path, span, sev, metricCode[q.Metric], msg)
-	if q.Metric == "gain_margin" {
-		c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l})
-	}
-	_ = x
+	c.diags.add(c.res.Path, span, sev, metricCode[q.Metric], msg)
+	c.pending = append(c.pending, pendingFix{diag: len(c.diags.list) - 1, loop: l, metric: q.Metric})
 }
 
 // requiredGM is the gain margin a loop must keep: its own require line, or

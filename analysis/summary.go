@@ -15,12 +15,12 @@ func (l *Loop) Verdict() string {
 	b.WriteString(l.VerdictWord())
 	m := l.Margins
 	if m.GainMarginDB != nil {
-		fmt.Fprintf(&b, ", GM %.3g dB", snap(*m.GainMarginDB))
+		fmt.Fprintf(&b, ", GM %.3g dB", Shown(*m.GainMarginDB))
 	} else {
 		b.WriteString(", GM ∞")
 	}
 	if m.PhaseMarginDeg != nil {
-		fmt.Fprintf(&b, ", PM %.3g°", snap(*m.PhaseMarginDeg))
+		fmt.Fprintf(&b, ", PM %.3g°", Shown(*m.PhaseMarginDeg))
 	} else {
 		b.WriteString(", PM ∞")
 	}
@@ -49,13 +49,13 @@ func (l *Loop) Summary() string {
 		parts = append(parts, "phase margin ∞ (no gain crossing)")
 	}
 	if m.DelayMarginS != nil {
-		parts = append(parts, fmt.Sprintf("delay margin %s (%.3g samples)", fmtMetric("delay_margin", *m.DelayMarginS), snap(*m.DelayMarginSamples)))
+		parts = append(parts, fmt.Sprintf("delay margin %s (%.3g samples)", fmtMetric("delay_margin", *m.DelayMarginS), Shown(*m.DelayMarginSamples)))
 	}
 	if m.PeakSensitivityDB != nil {
 		parts = append(parts, "peak sensitivity "+fmtMetric("peak_sensitivity", *m.PeakSensitivityDB))
 	}
 	if l.Step != nil {
-		st := fmt.Sprintf("step overshoot %.3g %%", l.Step.OvershootPct)
+		st := "step overshoot " + fmtMetric("overshoot", l.Step.OvershootPct)
 		if l.Step.Settled {
 			st += ", settling " + fmtTime(l.Step.SettlingS)
 		}

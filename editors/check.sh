@@ -4,7 +4,8 @@
 #   VS Code: npm ci, compile, unit tests (grammar, manifest vs README, helpers), package.
 #   Neovim (if nvim is present): Lua loads, syntax/ftplugin, end-to-end against
 #     the stand-in server test/fake-ringside (and against $RINGSIDE_BIN if set).
-#   Emacs (if emacs is present): byte-compile and ERT, eglot against the stand-in.
+#   Emacs (if emacs is present): byte-compile and ERT, eglot against the stand-in
+#     (and against $RINGSIDE_BIN if set), the README snippet from a clean emacs -q.
 set -euo pipefail
 
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
@@ -57,9 +58,14 @@ if command -v emacs >/dev/null 2>&1; then
   cp "$here/emacs/ringside.el" "$tmp/"
   timeout "$limit" emacs --batch -Q -L "$tmp" --eval '(setq byte-compile-error-on-warn t)' \
     -f batch-byte-compile "$tmp/ringside.el" </dev/null
-  step "emacs: ERT (eglot against the stand-in server)"
+  step "emacs: ERT (eglot against the stand-in server; the README snippet from emacs -q)"
   RINGSIDE_BIN="$fake" timeout "$limit" emacs --batch -Q -L "$here/emacs" \
     -l "$here/emacs/test/ringside-test.el" -f ert-run-tests-batch-and-exit </dev/null
+  if [ -n "${RINGSIDE_BIN:-}" ]; then
+    step "emacs: ERT with $RINGSIDE_BIN (hover, quick-fixes, plot)"
+    RINGSIDE_REAL=1 timeout "$limit" emacs --batch -Q -L "$here/emacs" \
+      -l "$here/emacs/test/ringside-test.el" -f ert-run-tests-batch-and-exit </dev/null
+  fi
 else
   step "emacs: not installed, skipped"
 fi

@@ -72,14 +72,27 @@ func TestNeovimEndToEnd(t *testing.T) {
 	}
 	file := filepath.Join(ws, "unstable.loop")
 	initAbs, _ := filepath.Abs(init)
-	b, out := runNeovim(t, nvim, initAbs, "testdata/nvim/e2e.lua", dir, ws, 90*time.Second, "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file)
+	// The system's opener, as the plugin finds it on PATH, is a stand-in
+	// that keeps a copy of the page it was asked to open (Neovim removes
+	// its temporary files when it quits).
+	opened := filepath.Join(dir, "opened.txt")
+	binDir := filepath.Join(dir, "bin")
+	os.Mkdir(binDir, 0o755)
+	opener := "#!/bin/sh\ncase \"$1\" in *.html) ;; *) exit 1 ;; esac\ncp \"$1\" \"$RINGSIDE_OPENED.tmp\" && mv \"$RINGSIDE_OPENED.tmp\" \"$RINGSIDE_OPENED\"\n"
+	if err := os.WriteFile(filepath.Join(binDir, "xdg-open"), []byte(opener), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	b, out := runNeovim(t, nvim, initAbs, "testdata/nvim/e2e.lua", dir, ws, 90*time.Second, "RINGSIDE_BIN="+bin, "RINGSIDE_FILE="+file,
+		"RINGSIDE_OPENED="+opened, "PATH="+binDir+string(os.PathListSeparator)+os.Getenv("PATH"))
 	var res struct {
-		OK    bool     `json:"ok"`
-		Error string   `json:"error"`
-		Steps []string `json:"steps"`
-		Hover string   `json:"hover"`
-		Title string   `json:"title"`
-		Line  string   `json:"line"`
+		OK         bool     `json:"ok"`
+		Error      string   `json:"error"`
+		Steps      []string `json:"steps"`
+		Hover      string   `json:"hover"`
+		Title      string   `json:"title"`
+		Line       string   `json:"line"`
+		LensBefore string   `json:"lens_before"`
+		LensAfter  string   `json:"lens_after"`
 	}
 	if err := json.Unmarshal(b, &res); err != nil {
 		t.Fatalf("result %s: %v", b, err)
@@ -89,6 +102,16 @@ func TestNeovimEndToEnd(t *testing.T) {
 	}
 	if !strings.Contains(res.Hover, "UNSTABLE") || !strings.HasPrefix(res.Title, "Set ki to 11.4") || res.Line != "gain ki = 11.4" {
 		t.Errorf("hover %q, fix %q, line %q", res.Hover, res.Title, res.Line)
+	}
+	// The hover reads as plain text: aligned columns, no Markdown table rows.
+	if strings.Contains(res.Hover, "|---") || !strings.Contains(res.Hover, "closed-loop pole") {
+		t.Errorf("hover as shown by K:\n%s", res.Hover)
+	}
+	if !strings.HasPrefix(res.LensBefore, "UNSTABLE") || !strings.HasPrefix(res.LensAfter, "stable") {
+		t.Errorf("lenses before %q and after %q the fix", res.LensBefore, res.LensAfter)
+	}
+	if html, err := os.ReadFile(opened); err != nil || !strings.Contains(string(html), "<svg") {
+		t.Errorf(":RingsidePlot opened no page with the plots (%v)", err)
 	}
 	disk, _ := os.ReadFile(file)
 	if !strings.Contains(string(disk), "gain ki = 11.4\n") {
@@ -200,39 +223,16 @@ func runNeovim(t *testing.T, nvim, init, script, dir, cwd string, limit time.Dur
 	cmd := exec.Command(nvim, "--headless", "--clean", "-u", init, "-c", "luafile "+scriptAbs)
 	cmd.Dir = cwd
 	cmd.Env = append(append(os.Environ(), env...), "RINGSIDE_RESULT="+resultPath, "HOME="+dir, "XDG_STATE_HOME="+dir, "XDG_DATA_HOME="+dir)
-	var out bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &out
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	done := make(chan error, 1)
-	go func() { done <- cmd.Wait() }()
-	select {
-	case <-done:
-	case <-time.After(limit):
-		cmd.Process.Kill()
-		<-done
-		t.Fatalf("nvim did not finish; output:\n%s", out.String())
-	}
+	out, _ := runEditor(t, cmd, limit)
 	b, err := os.ReadFile(resultPath)
 	if err != nil {
-		t.Fatalf("no result file (%v); nvim output:\n%s", err, out.String())
+		t.Fatalf("no result file (%v); nvim output:\n%s", err, out)
 	}
-	return b, out.String()
+	return b, out
 }
 
 // findNeovim returns the nvim binary, or skips the test (fails it when
 // RINGSIDE_REQUIRE_NVIM=1); -short skips it too.
 func findNeovim(t *testing.T) string {
-	if testing.Short() {
-		t.Skip("builds the command and starts an editor")
-	}
-	nvim, err := exec.LookPath("nvim")
-	if err != nil {
-		if os.Getenv("RINGSIDE_REQUIRE_NVIM") == "1" {
-			t.Fatal("nvim not found and RINGSIDE_REQUIRE_NVIM=1")
-		}
-		t.Skip("nvim not installed")
-	}
-	return nvim
+	return editorOrSkip(t, "nvim", "RINGSIDE_REQUIRE_NVIM")
 }

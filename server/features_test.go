@@ -541,3 +541,20 @@ func TestRealizedLoopHover(t *testing.T) {
 		t.Errorf("loop hover:\n%s", h.Contents.Value)
 	}
 }
+
+// A loop whose closed-loop poles cannot be decided (a five-fold pole at
+// z = 1 beside 1/4, expanded: (z − 1)^5 (z − 1/4) = 0 with binary
+// coefficients) is not called unstable in the hover, and shows no step.
+func TestUndecidedLoopHover(t *testing.T) {
+	c := newClient(t, clientOptions{})
+	text := "sample 1 ms\nblock n = (-5.25z^5 + 11.25z^4 - 12.5z^3 + 7.5z^2 - 2.25z + 0.25) / z^6\nloop l {\n  forward n\n}\n"
+	uri := c.open("undecided.loop", text)
+	var h protocol.Hover
+	if err := c.call(protocol.MethodTextDocumentHover, tdp(uri, pos(2, 6)), &h); err != nil {
+		t.Fatal(err)
+	}
+	v := h.Contents.Value
+	if !strings.Contains(v, "UNDECIDED") || !strings.Contains(v, "Step: none (stability undecided") || strings.Contains(v, "not stable)") {
+		t.Errorf("loop hover:\n%s", v)
+	}
+}

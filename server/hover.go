@@ -10,6 +10,8 @@ import (
 	"go.lsp.dev/protocol"
 
 	"ringside/analysis"
+	"ringside/analysis/columns"
+	"ringside/analysis/freq"
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 )
@@ -107,7 +109,7 @@ func blockHover(b *analysis.Block, T float64) string {
 		w.WriteString("\n" + poleTable("pole", b.Poles))
 	}
 	if len(b.Zeros) > 0 {
-		w.WriteString("\n" + poleTable("zero", b.Zeros))
+		w.WriteString("\n" + zeroTable(b.Zeros, T))
 	}
 	fmt.Fprintf(&w, "\nDC gain H(1) = %s\n", dcText(b.DCGain))
 	return w.String()
@@ -128,21 +130,64 @@ func dcText(v float64) string {
 	return analysis.FormatNumber(v) + db
 }
 
-// poleTable lists poles (or zeros) with radius, angle, damping ratio,
-// natural frequency, time constant and mode shape. A conjugate pair is one
-// row (its upper member).
+// Tables in hovers are aligned columns in a fenced block: they read the
+// same rendered and as plain text (clients without Markdown tables show
+// `|---|` rows raw).
+func fenced(rows [][]string) string {
+	return "```\n" + strings.Join(columns.Text(rows), "\n") + "\n```\n"
+}
+
+// poleTable lists poles with radius, angle, damping ratio, natural
+// frequency, time constant and mode shape. A conjugate pair is one row (its
+// upper member).
 func poleTable(what string, ps []pole.Info) string {
-	var w strings.Builder
-	fmt.Fprintf(&w, "| %s | radius | angle | ζ | ωn | τ | mode |\n|---|---|---|---|---|---|---|\n", what)
+	rows := [][]string{{what, "radius", "angle", "ζ", "ωn", "τ", "mode"}}
 	for _, p := range ps {
 		if imag(p.Z) < 0 {
 			continue
 		}
-		fmt.Fprintf(&w, "| %s | %s | %s | %s | %s | %s | %s |\n",
-			analysis.FormatComplex(p.Z), analysis.FormatRadius(p.Radius), angleText(p.AngleRad),
-			floatText(p.Damping, "%.3g"), naturalText(p.NaturalRadS), tauText(p), shapeText(p))
+		rows = append(rows, []string{analysis.FormatComplex(p.Z), analysis.FormatRadius(p.Radius), angleText(p.AngleRad),
+			floatText(p.Damping, "%.3g"), naturalText(p.NaturalRadS), tauText(p), shapeText(p)})
 	}
-	return w.String()
+	return fenced(rows)
+}
+
+// zeroTable lists zeros with what a zero's place means: radius, angle, the
+// frequency it sits at, and its side of the unit circle (a zero has no
+// mode, damping or time constant).
+func zeroTable(zs []pole.Info, T float64) string {
+	rows := [][]string{{"zero", "radius", "angle", "frequency", "where"}}
+	for _, z := range zs {
+		if imag(z.Z) < 0 {
+			continue
+		}
+		rows = append(rows, []string{analysis.FormatComplex(z.Z), analysis.FormatRadius(z.Radius), angleText(z.AngleRad),
+			zeroFreq(z.AngleRad, T), zeroSide(z)})
+	}
+	return fenced(rows)
+}
+
+func zeroFreq(rad, T float64) string {
+	if math.IsNaN(rad) || T <= 0 {
+		return "—"
+	}
+	return analysis.FormatHz(math.Abs(rad) / (2 * math.Pi * T))
+}
+
+// zeroSide says what the zero's radius means: inside the circle it is
+// minimum-phase; outside, the step response first moves the wrong way and
+// the zero limits the achievable bandwidth; on the circle it blocks a
+// sinusoid at its frequency entirely.
+func zeroSide(z pole.Info) string {
+	switch d := z.Radius - 1; {
+	case z.Radius == 0:
+		return "at the origin (a one-sample advance against the poles)"
+	case math.Abs(d) <= analysis.DefaultTolerance:
+		return "on the circle: blocks that frequency"
+	case d > 0:
+		return "outside the circle (non-minimum-phase)"
+	}
+	return "inside (minimum-phase)"
 }
 
 func angleText(rad float64) string {
@@ -267,35 +312,20 @@ func loopHover(l *analysis.Loop) string {
 	if len(l.Poles) > 0 {
 		w.WriteString(poleTable("closed-loop pole", l.Poles) + "\n")
 	}
-	m := l.Margins
-	w.WriteString("| margin | value | at |\n|---|---|---|\n")
-	if m.GainMarginDB != nil {
-		fmt.Fprintf(&w, "| gain | %.3g dB | %s |\n", *m.GainMarginDB, hzPtr(m.PhaseCrossoverHz))
-	} else {
-		w.WriteString("| gain | ∞ | no phase crossing |\n")
-	}
-	if m.PhaseMarginDeg != nil {
-		fmt.Fprintf(&w, "| phase | %.3g° | %s |\n", *m.PhaseMarginDeg, hzPtr(m.GainCrossoverHz))
-	} else {
-		w.WriteString("| phase | ∞ | no gain crossing |\n")
-	}
-	if m.DelayMarginS != nil {
-		fmt.Fprintf(&w, "| delay | %s (%.3g samples) | %s |\n", analysis.FormatTime(*m.DelayMarginS), deref(m.DelayMarginSamples), hzPtr(m.GainCrossoverHz))
-	}
-	if m.PeakSensitivityDB != nil {
-		fmt.Fprintf(&w, "| peak sensitivity | %.3g dB | %s |\n", *m.PeakSensitivityDB, hzPtr(m.PeakSensitivityHz))
-	}
+	w.WriteString(fenced(marginRows(l.Margins)))
 	if l.Disk != nil {
 		fmt.Fprintf(&w, "\nDisk margin: %s.\n", l.Disk.Text())
 	}
 	if st := l.Step; st != nil {
-		fmt.Fprintf(&w, "\nStep: overshoot %.3g %%", st.OvershootPct)
+		fmt.Fprintf(&w, "\nStep: overshoot %s", analysis.FormatMetric("overshoot", st.OvershootPct))
 		if st.Settled {
 			fmt.Fprintf(&w, ", settling %s (2 %% band)", analysis.FormatTime(st.SettlingS))
 		} else {
 			w.WriteString(", not settled within the simulated horizon")
 		}
 		w.WriteString("\n")
+	} else if l.Undecided {
+		w.WriteString("\nStep: none (stability undecided: no response is shown for a loop not shown stable)\n")
 	} else if !l.Stable {
 		w.WriteString("\nStep: none (the loop is not stable)\n")
 	}
@@ -324,6 +354,28 @@ func loopHover(l *analysis.Loop) string {
 		}
 	}
 	return w.String()
+}
+
+// marginRows is the margins table: margin, value, frequency.
+func marginRows(m freq.Margins) [][]string {
+	rows := [][]string{{"margin", "value", "at"}}
+	if m.GainMarginDB != nil {
+		rows = append(rows, []string{"gain", analysis.FormatMetric("gain_margin", *m.GainMarginDB), hzPtr(m.PhaseCrossoverHz)})
+	} else {
+		rows = append(rows, []string{"gain", "∞", "no phase crossing"})
+	}
+	if m.PhaseMarginDeg != nil {
+		rows = append(rows, []string{"phase", analysis.FormatMetric("phase_margin", *m.PhaseMarginDeg), hzPtr(m.GainCrossoverHz)})
+	} else {
+		rows = append(rows, []string{"phase", "∞", "no gain crossing"})
+	}
+	if m.DelayMarginS != nil {
+		rows = append(rows, []string{"delay", fmt.Sprintf("%s (%.3g samples)", analysis.FormatMetric("delay_margin", *m.DelayMarginS), analysis.Shown(deref(m.DelayMarginSamples))), hzPtr(m.GainCrossoverHz)})
+	}
+	if m.PeakSensitivityDB != nil {
+		rows = append(rows, []string{"peak sensitivity", analysis.FormatMetric("peak_sensitivity", *m.PeakSensitivityDB), hzPtr(m.PeakSensitivityHz)})
+	}
+	return rows
 }
 
 func verdictWords(l *analysis.Loop) string {
@@ -393,6 +445,9 @@ func gainHover(g *analysis.Gain, res *analysis.Result) string {
 		fmt.Fprintf(&w, "\nKeeps the required gain margin up to %s = %s.\n", g.Name, analysis.FormatNumber(v))
 	} else if lim.SafeMaxNote != "" {
 		fmt.Fprintf(&w, "\n%s.\n", strings.TrimSuffix(lim.SafeMaxNote, "."))
+	}
+	if f := g.Fit; f != nil && f.Value != g.Value {
+		fmt.Fprintf(&w, "\n%s = %s %s (the quick-fix value).\n", g.Name, analysis.FormatNumber(f.Value), f.Meets())
 	}
 	return w.String()
 }

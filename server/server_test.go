@@ -247,14 +247,22 @@ func TestHover(t *testing.T) {
 	}
 	// block used in a path, declared in the used file
 	belt, ok := hover(c.posOf(uri, "belt\n", 0, 1))
-	for _, want := range []string{"**block belt**", "zero-order hold", "T = 1 ms", "H(s) = 40 / (s^2 + 9 s + 40)", "H(z) = ", "| pole | radius | angle | ζ | ωn | τ | mode |", "decaying, oscillating", "DC gain H(1) = 1"} {
+	for _, want := range []string{"**block belt**", "zero-order hold", "T = 1 ms", "H(s) = 40 / (s^2 + 9 s + 40)", "H(z) = ", "pole                radius  angle   ζ      ωn                    τ       mode\n", "decaying, oscillating",
+		"zero    radius  angle  frequency  where\n-0.997  0.997   180°   500 Hz     inside (minimum-phase)\n", "DC gain H(1) = 1"} {
 		if !ok || !strings.Contains(belt, want) {
 			t.Errorf("hover on belt lacks %q:\n%s", want, belt)
 		}
 	}
+	// Tables read as plain text: no Markdown table rows; a zero has no mode.
+	if strings.Contains(belt, "|") || strings.Contains(belt[strings.Index(belt, "zero "):], "decaying") {
+		t.Errorf("hover on belt has a Markdown table or a zero with a mode:\n%s", belt)
+	}
 	// the loop name
 	loop, ok := hover(c.posOf(uri, "belt_speed", 0, 2))
-	for _, want := range []string{"UNSTABLE", "closed-loop pole", "| gain | -32.9 dB | 1.01 Hz |", "| phase |", "✗ gain_margin >= 6 dB", "missed"} {
+	if strings.Contains(loop, "|") {
+		t.Errorf("hover on loop has a Markdown table:\n%s", loop)
+	}
+	for _, want := range []string{"UNSTABLE", "closed-loop pole", "```\nmargin            value            at\ngain              -32.9 dB         1.01 Hz\n", "\nphase             -67.7°           4.01 Hz\n", "✗ gain_margin >= 6 dB", "missed"} {
 		if !ok || !strings.Contains(loop, want) {
 			t.Errorf("hover on loop lacks %q:\n%s", want, loop)
 		}

@@ -156,7 +156,7 @@ func (p *parser) stmt() Stmt {
 			p.next()
 			return p.badStmt(t.From)
 		}
-		p.errorf(t.Span, "unknown statement %s (want sample, use, gain, block, loop or realize)", t.text)
+		p.errorf(t.Span, "unknown statement %s (want sample, use, gain, block, loop or realize)%s", t.text, didYouMean(t.text, topKeywords))
 	} else if t.kind == tRBrace {
 		p.errorf(t.Span, "unexpected '}' with no open loop")
 	} else {
@@ -518,7 +518,7 @@ func (p *parser) item() LoopItem {
 	start := t.From
 	if t.kind != tName || !itemKeywords[t.text] {
 		if t.kind == tName {
-			p.errorf(t.Span, "unknown loop item %s (want forward, feedback, sign or require)", t.text)
+			p.errorf(t.Span, "unknown loop item %s (want forward, feedback, sign or require)%s", t.text, didYouMean(t.text, []string{"forward", "feedback", "sign", "require"}))
 		} else {
 			p.errorf(t.Span, "unexpected %s at start of loop item", t.describe())
 		}

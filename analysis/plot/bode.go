@@ -193,7 +193,7 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 	if m.GainMarginDB != nil && m.PhaseCrossoverHz != nil {
 		gm := *m.GainMarginDB
 		f, moved := clampHz(*m.PhaseCrossoverHz, fmin, ny)
-		label := fmt.Sprintf("GM %.3g dB", noNegZero(gm))
+		label := "GM " + analysis.FormatMetric("gain_margin", gm)
 		if moved {
 			label += " at " + analysis.FormatHz(*m.PhaseCrossoverHz)
 		}
@@ -216,7 +216,7 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 			phi -= 360 * math.Round((phi-phaseDeg[i])/360)
 		}
 		if !math.IsNaN(phi) {
-			label := fmt.Sprintf("PM %.3g°", noNegZero(pm))
+			label := "PM " + analysis.FormatMetric("phase_margin", pm)
 			if moved {
 				label += " at " + analysis.FormatHz(*m.GainCrossoverHz)
 			}

@@ -170,22 +170,22 @@ func figureRows(l *analysis.Loop) [][2]string {
 	var rows [][2]string
 	add := func(k, v string) { rows = append(rows, [2]string{k, v}) }
 	if m.GainMarginDB != nil {
-		add("Gain margin", fmt.Sprintf("%.3g dB at %s", noNegZero(*m.GainMarginDB), hzText(m.PhaseCrossoverHz)))
+		add("Gain margin", analysis.FormatMetric("gain_margin", *m.GainMarginDB)+" at "+hzText(m.PhaseCrossoverHz))
 	} else {
 		add("Gain margin", "∞ (the phase never crosses −180°)")
 	}
 	if m.PhaseMarginDeg != nil {
-		add("Phase margin", fmt.Sprintf("%.3g° at %s", noNegZero(*m.PhaseMarginDeg), hzText(m.GainCrossoverHz)))
+		add("Phase margin", analysis.FormatMetric("phase_margin", *m.PhaseMarginDeg)+" at "+hzText(m.GainCrossoverHz))
 	} else {
 		add("Phase margin", "∞ (|L| never crosses 1)")
 	}
 	if m.DelayMarginS != nil && m.DelayMarginSamples != nil {
-		add("Delay margin", fmt.Sprintf("%s (%.3g samples)", analysis.FormatTime(*m.DelayMarginS), *m.DelayMarginSamples))
+		add("Delay margin", fmt.Sprintf("%s (%.3g samples)", analysis.FormatMetric("delay_margin", *m.DelayMarginS), analysis.Shown(*m.DelayMarginSamples)))
 	} else {
 		add("Delay margin", "unlimited")
 	}
 	if m.PeakSensitivityDB != nil {
-		v := fmt.Sprintf("%.3g dB", noNegZero(*m.PeakSensitivityDB))
+		v := analysis.FormatMetric("peak_sensitivity", *m.PeakSensitivityDB)
 		if m.PeakSensitivityHz != nil {
 			v += " at " + hzText(m.PeakSensitivityHz)
 		}
@@ -194,7 +194,7 @@ func figureRows(l *analysis.Loop) [][2]string {
 		add("Peak sensitivity", "undefined (closed-loop pole on the unit circle)")
 	}
 	if st := l.Step; st != nil {
-		add("Step overshoot", fmt.Sprintf("%.3g %%", st.OvershootPct))
+		add("Step overshoot", analysis.FormatMetric("overshoot", st.OvershootPct))
 		if st.Settled {
 			add("Settling time (2 %)", analysis.FormatTime(st.SettlingS))
 		} else {
@@ -204,9 +204,9 @@ func figureRows(l *analysis.Loop) [][2]string {
 		add("Step overshoot", "none: the loop is not stable")
 		add("Settling time (2 %)", "none: the loop is not stable")
 	}
-	add("Largest pole radius", analysis.FormatNumber(l.MaxRadius))
+	add("Largest pole radius", analysis.FormatRadius(l.MaxRadius))
 	if !math.IsNaN(l.MinDamping) {
-		add("Smallest damping ratio", fmt.Sprintf("%.3g", noNegZero(l.MinDamping)))
+		add("Smallest damping ratio", fmt.Sprintf("%.3g", analysis.Shown(l.MinDamping)))
 	}
 	return rows
 }
@@ -275,11 +275,3 @@ ul.diags { font-size: 0.92em; }
 </body>
 </html>
 `))
-
-// noNegZero turns −0 into 0, which would otherwise print as "-0".
-func noNegZero(v float64) float64 {
-	if v == 0 {
-		return 0
-	}
-	return v
-}

@@ -46,6 +46,8 @@ const (
 	legendMargin = 6
 	// zColumnShare caps the z-plane column at this share of the width.
 	zColumnShare = 0.3
+	// zoomColumn is what a zoomed z-plane adds to the figure's width.
+	zoomColumn = 3.9 * vg.Inch
 )
 
 // Figure is one loop's three panels. The plots are ordinary gonum plots
@@ -59,18 +61,23 @@ type Figure struct {
 	ZPlane *gplot.Plot
 	// Magnitude and Phase are the Bode plot of L with the margins.
 	Magnitude, Phase *gplot.Plot
-	// Step is the closed-loop step response, or a notice that there is none.
+	// Zoom is a magnified z-plane around the dominant closed-loop poles
+	// when they crowd on the full view (fast-sampled loops put every pole
+	// near z = 1); nil otherwise. Its title gives the scale.
+	Zoom *gplot.Plot
+	// Step is the closed-loop step response; for a loop that is not
+	// stable, its first samples, clipped and labelled unstable.
 	Step *gplot.Plot
 	// Width and Height are the size the figure is drawn at by LoopSVG and
 	// LoopPNG.
 	Width, Height vg.Length
 
-	zp *zPlane
+	zp, zoom *zPlane
 	// Data areas of the plots at the last Draw (for tests that map data
 	// coordinates to the drawing).
-	zData, magData, phaseData, stepData draw.Canvas
-	legend                              []legendItem // below the z-plane, in two columns
-	stepLegend                          []legendItem // below the step response
+	zData, zoomData, magData, phaseData, stepData draw.Canvas
+	legend                                        []legendItem // below the z-plane, in two columns
+	stepLegend                                    []legendItem // below the step response
 }
 
 // LoopFigure builds the figure of loop l of res. It fails when the loop was
@@ -93,15 +100,19 @@ func LoopFigure(res *analysis.Result, l *analysis.Loop) (*Figure, error) {
 	if err != nil {
 		return nil, err
 	}
+	zoom, err := zp.zoomed()
+	if err != nil {
+		return nil, err
+	}
 	bd, err := newBode(res, l)
 	if err != nil {
 		return nil, err
 	}
-	sp, stepLegend, err := newStepPlot(l)
+	sp, stepLegend, err := newStepPlot(l, res.SampleT)
 	if err != nil {
 		return nil, err
 	}
-	return &Figure{
+	f := &Figure{
 		Title:      l.Name + ": " + l.Verdict(),
 		ZPlane:     zp.plot,
 		Magnitude:  bd.mag,
@@ -112,7 +123,16 @@ func LoopFigure(res *analysis.Result, l *analysis.Loop) (*Figure, error) {
 		zp:         zp,
 		legend:     zp.legend,
 		stepLegend: stepLegend,
-	}, nil
+	}
+	if zoom != nil {
+		f.Zoom, f.zoom = zoom.plot, zoom
+		f.Width += zoomColumn
+		if err := zp.markRegion(zoom); err != nil {
+			return nil, err
+		}
+		f.legend = zp.legend
+	}
+	return f, nil
 }
 
 func polyFinite(p []float64) bool {
@@ -128,6 +148,7 @@ func polyFinite(p []float64) bool {
 type layout struct {
 	title       draw.Canvas
 	zplane      draw.Canvas
+	zoom        draw.Canvas
 	legendLeft  draw.Canvas
 	legendRight draw.Canvas
 	bode        draw.Canvas
@@ -144,6 +165,9 @@ func (f *Figure) layout(c draw.Canvas) layout {
 	rows := max((len(f.legend)+1)/2, len(f.stepLegend))
 	legendH := vg.Length(rows*legendRowH + 2*legendMargin)
 	bodyW, bodyH := body.Max.X-body.Min.X, body.Max.Y-body.Min.Y
+	if f.zoom != nil {
+		bodyW -= zoomColumn
+	}
 	zw := min(bodyH-legendH, vg.Length(zColumnShare)*bodyW)
 
 	lo.zplane = body
@@ -159,6 +183,11 @@ func (f *Figure) layout(c draw.Canvas) layout {
 	lo.legendRight.Min.X = leg.Min.X + zw/2
 
 	restX := body.Min.X + zw + panelGap
+	if f.zoom != nil {
+		lo.zoom = lo.zplane
+		lo.zoom.Min.X, lo.zoom.Max.X = restX, restX+zoomColumn-panelGap
+		restX += zoomColumn
+	}
 	colW := (body.Max.X - restX - panelGap) / 2
 	lo.bode = body
 	lo.bode.Min.X, lo.bode.Max.X = restX, restX+colW
@@ -192,6 +221,10 @@ func (f *Figure) Draw(c draw.Canvas) {
 		f.zData = f.zp.equalScale(lo.zplane)
 	}
 	f.ZPlane.Draw(lo.zplane)
+	if f.zoom != nil {
+		f.zoomData = f.zoom.equalScale(lo.zoom)
+		f.Zoom.Draw(lo.zoom)
+	}
 	half := (len(f.legend) + 1) / 2
 	drawLegend(lo.legendLeft, f.legend[:half])
 	drawLegend(lo.legendRight, f.legend[half:])

@@ -3,6 +3,7 @@ package plot
 import (
 	"fmt"
 	"math"
+	"math/cmplx"
 
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -27,8 +28,40 @@ const (
 	stepMaxSamples = 2000
 )
 
-// NoStepText is the step panel's message for a loop that is not stable.
-const NoStepText = "unstable: no step response"
+// NoStepText is the step panel's message when no response can be drawn.
+const NoStepText = "no step response"
+
+// UnstableStepText labels the step panel of a loop that is not stable: it
+// shows the first samples of the response, clipped.
+const UnstableStepText = "UNSTABLE: step response grows (first samples, clipped)"
+
+// HiddenStepText titles the step panel of a loop whose growing mode is
+// cancelled in L: the output to a reference step need not show it.
+const HiddenStepText = "UNSTABLE inside: a hidden mode grows (this output may not show it)"
+
+// hiddenGrowth reports whether a mode cancelled in L lies on or outside
+// the unit circle.
+func hiddenGrowth(l *analysis.Loop) bool {
+	for _, h := range l.Hidden {
+		if cmplx.Abs(h.Pole) >= 1-analysis.DefaultTolerance {
+			return true
+		}
+	}
+	return false
+}
+
+const (
+	// unstableGrowth: an unstable response is followed until its slowest
+	// growing mode has grown this much (r^k = 1000), so the growth shows.
+	unstableGrowth = 1e3
+	// unstableClip is the half-height of the view of an unstable
+	// response, in multiples of its early size (the first tenth of the
+	// samples shown, at least 1): the runaway leaves the view, clipped.
+	unstableClip = 5
+	// unstableMaxSamples bounds the samples simulated for an unstable
+	// response (a pole just outside the circle grows slowly).
+	unstableMaxSamples = 10 * stepMaxSamples
+)
 
 // timeUnit picks seconds or milliseconds for a time axis ending at tmax.
 func timeUnit(tmax float64) (scale float64, unit string) {
@@ -51,16 +84,16 @@ func stepView(st *step.Result) int {
 
 // newStepPlot returns the step panel and its legend entries (drawn below
 // it, where they cannot hide the curve).
-func newStepPlot(l *analysis.Loop) (*gplot.Plot, []legendItem, error) {
+func newStepPlot(l *analysis.Loop, T float64) (*gplot.Plot, []legendItem, error) {
 	var legend []legendItem
 	p := newPlot()
 	p.Title.Text = "closed-loop step response (reference to output)"
 	st := l.Step
-	if !l.Stable || st == nil || len(st.Samples) == 0 || !(st.T > 0) {
+	if !l.Stable {
+		return unstableStep(p, l, T)
+	}
+	if st == nil || len(st.Samples) == 0 || !(st.T > 0) {
 		msg := NoStepText
-		if l.Marginal {
-			msg += " (pole on the unit circle)"
-		}
 		p.HideAxes()
 		p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = 0, 1, 0, 1
 		lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: 0.5, Y: 0.5}}, Labels: []string{msg}})
@@ -144,4 +177,55 @@ func roundSig(v float64) float64 {
 	}
 	e := math.Pow(10, 3-math.Floor(math.Log10(math.Abs(v))))
 	return math.Round(v*e) / e
+}
+
+// unstableStep draws the first samples of the step response of a loop
+// that is not stable, held between samples and clipped to a view of
+// ±unstableClip times its early size, under a red title: what the engineer
+// must see is the runaway, not a blank panel.
+func unstableStep(p *gplot.Plot, l *analysis.Loop, T float64) (*gplot.Plot, []legendItem, error) {
+	n := unstableMaxSamples
+	if r := l.MaxRadius; r > 1 {
+		n = int(math.Ceil(math.Log(unstableGrowth) / math.Log(r)))
+	}
+	n = min(max(n, 5*stepMinSamples), unstableMaxSamples)
+	y, err := step.First(l.Closed, n, math.MaxFloat64)
+	if err != nil || len(y) == 0 {
+		return nil, nil, fmt.Errorf("plot: loop %s step response: %v", l.Name, err)
+	}
+	early := 1.0
+	for _, v := range y[:max(len(y)/10, 1)] {
+		early = math.Max(early, math.Abs(v))
+	}
+	clip := unstableClip * early
+	scale, unit := timeUnit(float64(len(y)) * T)
+	p.Title.Text = UnstableStepText
+	if hiddenGrowth(l) {
+		p.Title.Text = HiddenStepText
+	}
+	p.Title.TextStyle.Color = colViolation
+	p.X.Label.Text = "time (" + unit + ")"
+	p.Y.Label.Text = "output"
+	p.Add(plotter.NewGrid())
+	// Past stepMaxSamples every m-th sample is drawn, joined by straight
+	// lines (a slow runaway needs a long view; the SVG stays small).
+	m := (len(y) + stepMaxSamples - 1) / stepMaxSamples
+	pts := make(plotter.XYs, 0, len(y)/m+2)
+	for k := 0; k < len(y); k += m {
+		pts = append(pts, plotter.XY{X: float64(k) * T * scale, Y: math.Max(-clip, math.Min(clip, y[k]))})
+	}
+	pts = append(pts, plotter.XY{X: float64(len(y)) * T * scale, Y: math.Max(-clip, math.Min(clip, y[len(y)-1]))})
+	ln, err := plotter.NewLine(pts)
+	if err != nil {
+		return nil, nil, fmt.Errorf("plot: loop %s step response: %w", l.Name, err)
+	}
+	if m == 1 {
+		ln.StepStyle = plotter.PostStep
+	}
+	ln.LineStyle = draw.LineStyle{Color: colViolation, Width: vg.Points(curveWidth)}
+	p.Add(ln)
+	p.X.Min, p.X.Max = 0, float64(len(y))*T*scale
+	p.Y.Min, p.Y.Max = -clip*1.05, clip*1.05
+	legend := []legendItem{{fmt.Sprintf("output y[k], first %d samples (%s), clipped at ±%s", len(y), analysis.FormatTime(float64(len(y))*T), analysis.FormatNumber(roundSig(clip))), ln}}
+	return p, legend, nil
 }

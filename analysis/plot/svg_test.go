@@ -328,7 +328,7 @@ func TestPoleMarkersAtTheirPlaces(t *testing.T) {
 	}
 	matchAll(t, "open-loop poles", crosses, []complex128{complex(0.1, 0.7), complex(0.1, -0.7)}, f)
 
-	for _, s := range []string{"unit circle", "closed-loop pole", "open-loop pole (of L)", "breaks a requirement", "damping limit ζ = 0.5", NoStepText} {
+	for _, s := range []string{"unit circle", "closed-loop pole", "open-loop pole (of L)", "breaks a requirement", "damping limit ζ = 0.5", UnstableStepText} {
 		if !hasText(doc, s) {
 			t.Errorf("text %q missing; texts %q", s, doc.texts)
 		}

@@ -42,7 +42,10 @@ type zPlane struct {
 	// rounded are the poles of the realized blocks after rounding, and
 	// realized the closed-loop poles with them in place (realize lines).
 	rounded, realized []complex128
-	halfSpan          float64 // half-width of the square data region to show
+	halfSpan          float64    // half-width of the square data region to show
+	center            complex128 // centre of that region (0 but in a zoomed view)
+	checks            poleChecks
+	loop              *analysis.Loop // for the full view's extras; nil in a zoom
 }
 
 // legendItem is one legend entry, drawn below the z-plane.
@@ -189,8 +192,8 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 	if err != nil {
 		return nil, err
 	}
-	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan}
-	checks := checksOf(l)
+	zp := &zPlane{open: open, zeros: zeros, halfSpan: zMinHalfSpan, checks: checksOf(l), loop: l}
+	checks := zp.checks
 	for _, p := range l.Poles {
 		if cmplx.IsNaN(p.Z) || cmplx.IsInf(p.Z) {
 			return nil, fmt.Errorf("plot: loop %s has a non-finite closed-loop pole", l.Name)
@@ -206,36 +209,47 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 			zp.halfSpan = math.Max(zp.halfSpan, zMargin*math.Max(math.Abs(real(z)), math.Abs(imag(z))))
 		}
 	}
+	if err := zp.build("z-plane (closed-loop and open-loop)", circleXYs); err != nil {
+		return nil, err
+	}
+	zp.setView(1, 1)
+	return zp, nil
+}
 
+// build draws the panel: axes, unit circle and requirement limits (curves
+// from circle), and the markers.
+func (zp *zPlane) build(title string, circle func(r float64) plotter.XYs) error {
+	checks := zp.checks
 	p := newPlot()
-	p.Title.Text = "z-plane (closed-loop and open-loop)"
+	p.Title.Text = title
 	p.X.Label.Text = "Re z"
 	p.Y.Label.Text = "Im z"
 	p.Add(plotter.NewGrid())
 
 	axisStyle := draw.LineStyle{Color: colGrid, Width: vg.Points(refWidth)}
 	h := zp.halfSpan * 4 // the axes run past any view
-	for _, seg := range []plotter.XYs{{{X: -h, Y: 0}, {X: h, Y: 0}}, {{X: 0, Y: -h}, {X: 0, Y: h}}} {
+	cx, cy := real(zp.center), imag(zp.center)
+	for _, seg := range []plotter.XYs{{{X: cx - h, Y: 0}, {X: cx + h, Y: 0}}, {{X: 0, Y: cy - h}, {X: 0, Y: cy + h}}} {
 		ln, err := plotter.NewLine(seg)
 		if err != nil {
-			return nil, err
+			return err
 		}
 		ln.LineStyle = axisStyle
 		p.Add(ln)
 	}
 
-	circ, err := plotter.NewLine(circleXYs(1))
+	circ, err := plotter.NewLine(circle(1))
 	if err != nil {
-		return nil, err
+		return err
 	}
 	circ.LineStyle = draw.LineStyle{Color: colCircle, Width: vg.Points(refWidth * 1.5)}
 	p.Add(circ)
 	zp.legend = append(zp.legend, legendItem{"unit circle", circ})
 
 	if r := checks.maxRadius; r != nil && *r > 0 && !math.IsInf(*r, 0) {
-		lim, err := plotter.NewLine(circleXYs(*r))
+		lim, err := plotter.NewLine(circle(*r))
 		if err != nil {
-			return nil, err
+			return err
 		}
 		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dashed()}
 		p.Add(lim)
@@ -244,15 +258,17 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 	if z := checks.minDamping; z != nil && *z > 0 && *z < 1 {
 		lim, err := plotter.NewLine(dampingCurve(*z))
 		if err != nil {
-			return nil, err
+			return err
 		}
 		lim.LineStyle = draw.LineStyle{Color: colLimit, Width: vg.Points(refWidth), Dashes: dotted()}
 		p.Add(lim)
 		zp.legend = append(zp.legend, legendItem{"damping limit ζ = " + analysis.FormatNumber(*z), lim})
 	}
 
-	if err := zp.addRegion(p, l); err != nil {
-		return nil, err
+	if zp.loop != nil { // the full view: the vary region too
+		if err := zp.addRegion(p, zp.loop); err != nil {
+			return err
+		}
 	}
 	scatter := func(zs []complex128, g draw.GlyphDrawer, col color.Color, r float64, text string) error {
 		if len(zs) == 0 {
@@ -268,26 +284,25 @@ func newZPlane(l *analysis.Loop) (*zPlane, error) {
 		return nil
 	}
 	if err := scatter(zp.open, crossGlyph{vg.Points(glyphStroke)}, colOpenPole, markerSize+0.5, "open-loop pole (of L)"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.zeros, ringGlyph{vg.Points(glyphStroke)}, colOpenZero, markerSize+0.5, "open-loop zero (of L)"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.closed, draw.CircleGlyph{}, colClosedPole, markerSize, "closed-loop pole"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.rounded, draw.SquareGlyph{}, colRealized, markerSize-0.5, "rounded block pole (realize)"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.realized, draw.TriangleGlyph{}, colRealized, markerSize, "closed-loop pole, realized blocks"); err != nil {
-		return nil, err
+		return err
 	}
 	if err := scatter(zp.violating, ringGlyph{vg.Points(glyphStroke + 0.4)}, colViolation, violationSize, "breaks a requirement"); err != nil {
-		return nil, err
+		return err
 	}
 	zp.plot = p
-	zp.setView(1, 1)
-	return zp, nil
+	return nil
 }
 
 // realizedPoles returns the rounded poles of the loop's realized blocks and
@@ -325,8 +340,9 @@ func (zp *zPlane) setView(w, h float64) {
 	} else {
 		hy *= h / w
 	}
-	zp.plot.X.Min, zp.plot.X.Max = -hx, hx
-	zp.plot.Y.Min, zp.plot.Y.Max = -hy, hy
+	cx, cy := real(zp.center), imag(zp.center)
+	zp.plot.X.Min, zp.plot.X.Max = cx-hx, cx+hx
+	zp.plot.Y.Min, zp.plot.Y.Max = cy-hy, cy+hy
 }
 
 // equalScale fixes the ranges for the tile c. The data area depends on the
@@ -342,7 +358,7 @@ func (zp *zPlane) equalScale(c draw.Canvas) draw.Canvas {
 		}
 		before := [2]float64{zp.plot.X.Max, zp.plot.Y.Max}
 		zp.setView(w, h)
-		if math.Abs(before[0]-zp.plot.X.Max) < 1e-12 && math.Abs(before[1]-zp.plot.Y.Max) < 1e-12 {
+		if math.Abs(before[0]-zp.plot.X.Max) < 1e-12*zp.halfSpan && math.Abs(before[1]-zp.plot.Y.Max) < 1e-12*zp.halfSpan {
 			break
 		}
 	}

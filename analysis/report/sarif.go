@@ -48,6 +48,9 @@ type sarifResult struct {
 	Message          sarifMessage    `json:"message"`
 	Locations        []sarifLocation `json:"locations"`
 	RelatedLocations []sarifLocation `json:"relatedLocations,omitempty"`
+	// BaselineState (new, unchanged, updated, absent) is set when the run
+	// is compared with a baseline (`check --baseline`).
+	BaselineState string `json:"baselineState,omitempty"`
 }
 
 type sarifLocation struct {
@@ -134,6 +137,39 @@ func level(s analysis.Severity) string {
 		return "error"
 	case analysis.Warning:
 		return "warning"
+	}
+	return "note"
+}
+
+// Baseline tells each result's SARIF baselineState against an earlier
+// run, and lists that run's results that are gone.
+type Baseline interface {
+	// State is "new", "unchanged" or "updated" for a result of this run,
+	// asked once per result in the order of the run.
+	State(uri, code, message string) string
+	// Absent lists the earlier run's results with no counterpart now.
+	Absent() []AbsentResult
+}
+
+// AbsentResult is a result of the earlier run that this run no longer has;
+// URI is its path as the JSON document wrote it.
+type AbsentResult struct {
+	URI string
+	Diagnostic
+}
+
+// absentResult is the SARIF result of a result that is gone.
+func absentResult(a AbsentResult) sarifResult {
+	return sarifResult{RuleID: a.Code, Level: levelName(a.Severity), Message: sarifMessage{a.Message},
+		Locations:     []sarifLocation{{PhysicalLocation: sarifPhysical{ArtifactLocation: sarifArtifact{URI: artifactURI(a.URI)}, Region: sarifRegion{a.Line, a.Column, a.EndLine, a.EndColumn}}}},
+		BaselineState: "absent"}
+}
+
+// levelName maps a severity word of the JSON document to a SARIF level.
+func levelName(sev string) string {
+	switch sev {
+	case "error", "warning":
+		return sev
 	}
 	return "note"
 }

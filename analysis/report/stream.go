@@ -24,11 +24,21 @@ type Stream interface {
 // print; indent lays JSON out for people (two spaces a level) instead of
 // compactly.
 func NewStream(format string, w io.Writer, display func(string) string, version string, indent bool) Stream {
+	return NewStreamAgainst(format, w, display, version, indent, nil)
+}
+
+// NewStreamAgainst is NewStream for a run compared with a baseline: SARIF
+// results get their baselineState, and the baseline's results that are
+// gone follow as "absent" ones (base nil: no baseline). "markdown" is the
+// overview for a review comment.
+func NewStreamAgainst(format string, w io.Writer, display func(string) string, version string, indent bool, base Baseline) Stream {
 	switch format {
 	case "json":
 		return &jsonStream{out: out{w: w, indent: indent}, display: display}
 	case "sarif":
-		return &sarifStream{out: out{w: w, indent: indent}, uri: display, version: version, rules: map[string]bool{}}
+		return &sarifStream{out: out{w: w, indent: indent}, uri: display, version: version, rules: map[string]bool{}, base: base}
+	case "markdown":
+		return &markdownStream{textStream: textStream{w: w, display: display}}
 	}
 	return &textStream{w: w, display: display}
 }
@@ -120,23 +130,38 @@ type sarifStream struct {
 	version string
 	rules   map[string]bool
 	n       int
+	base    Baseline
 }
 
 func (s *sarifStream) Add(r *analysis.Result) {
-	for _, res := range sarifResults(r, s.uri) {
-		if s.n == 0 {
-			s.layout("{\n  \"$schema\": \""+sarifSchema+"\",\n  \"version\": \"2.1.0\",\n  \"runs\": [\n    {\n      \"columnKind\": \"unicodeCodePoints\",\n      \"results\": [\n",
-				`{"$schema":"`+sarifSchema+`","version":"2.1.0","runs":[{"columnKind":"unicodeCodePoints","results":[`)
-		} else {
-			s.layout(",\n", ",")
+	for i, res := range sarifResults(r, s.uri) {
+		if s.base != nil { // one result per diagnostic, in order
+			d := r.Diagnostics[i]
+			res.BaselineState = s.base.State(s.uri(d.Path), d.Code, d.Message)
 		}
-		s.n++
-		s.rules[res.RuleID] = true
-		s.value(res, 4)
+		s.result(res)
 	}
 }
 
+// result writes one result, opening the document before the first.
+func (s *sarifStream) result(res sarifResult) {
+	if s.n == 0 {
+		s.layout("{\n  \"$schema\": \""+sarifSchema+"\",\n  \"version\": \"2.1.0\",\n  \"runs\": [\n    {\n      \"columnKind\": \"unicodeCodePoints\",\n      \"results\": [\n",
+			`{"$schema":"`+sarifSchema+`","version":"2.1.0","runs":[{"columnKind":"unicodeCodePoints","results":[`)
+	} else {
+		s.layout(",\n", ",")
+	}
+	s.n++
+	s.rules[res.RuleID] = true
+	s.value(res, 4)
+}
+
 func (s *sarifStream) Close() error {
+	if s.base != nil {
+		for _, a := range s.base.Absent() {
+			s.result(absentResult(a))
+		}
+	}
 	if s.n == 0 {
 		s.layout("{\n  \"$schema\": \""+sarifSchema+"\",\n  \"version\": \"2.1.0\",\n  \"runs\": [\n    {\n      \"columnKind\": \"unicodeCodePoints\",\n      \"results\": [],\n",
 			`{"$schema":"`+sarifSchema+`","version":"2.1.0","runs":[{"columnKind":"unicodeCodePoints","results":[],`)
@@ -164,12 +189,12 @@ func sarifToolOf(rules map[string]bool, version string) sarifTool {
 }
 
 // textStream writes `file:line:col: severity: message [code]` lines, then
-// a count and the caution.
+// the overview of every loop with the failing ones named, and the caution.
 type textStream struct {
-	w                  io.Writer
-	display            func(string) string
-	files, errs, warns int
-	err                error
+	w        io.Writer
+	display  func(string) string
+	overview Overview
+	err      error
 }
 
 func (s *textStream) printf(format string, args ...any) {
@@ -179,7 +204,6 @@ func (s *textStream) printf(format string, args ...any) {
 }
 
 func (s *textStream) Add(r *analysis.Result) {
-	s.files++
 	for _, d := range r.Diagnostics {
 		line, col := Position(r, d.Path, int(d.Span.From))
 		s.printf("%s:%d:%d: %s: %s [%s]\n", s.display(d.Path), line, col, d.Severity, d.Message, d.Code)
@@ -187,16 +211,28 @@ func (s *textStream) Add(r *analysis.Result) {
 			l2, c2 := Position(r, rel.Path, int(rel.Span.From))
 			s.printf("\t%s:%d:%d: %s\n", s.display(rel.Path), l2, c2, rel.Message)
 		}
-		switch d.Severity {
-		case analysis.Error:
-			s.errs++
-		case analysis.Warning:
-			s.warns++
-		}
 	}
+	s.overview.Add(r, s.display)
 }
 
 func (s *textStream) Close() error {
-	s.printf("%d file(s) checked: %d error(s), %d warning(s).\n%s\n", s.files, s.errs, s.warns, Caution)
+	if s.err == nil {
+		s.err = s.overview.Write(s.w)
+	}
+	s.printf("%s\n", Caution)
+	return s.err
+}
+
+// markdownStream writes only the overview, as Markdown, at the end.
+type markdownStream struct {
+	textStream
+}
+
+func (s *markdownStream) Add(r *analysis.Result) { s.overview.Add(r, s.display) }
+
+func (s *markdownStream) Close() error {
+	if s.err == nil {
+		s.err = s.overview.WriteMarkdown(s.w)
+	}
 	return s.err
 }

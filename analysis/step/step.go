@@ -122,23 +122,9 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 	copy(bsum, b)
 
 	K, clamped := Horizon(n, maxPoleRadius)
-	y := make([]float64, K)
-	for k := 0; k < K; k++ {
-		var acc float64
-		for i := 0; i <= n; i++ {
-			if k-n+i >= 0 {
-				acc += bsum[i] // u = 1
-			}
-		}
-		for i := 0; i < n; i++ {
-			if j := k - n + i; j >= 0 {
-				acc -= a[i] * y[j]
-			}
-		}
-		if math.IsInf(acc, 0) || math.IsNaN(acc) {
-			return Result{}, fmt.Errorf("step: response overflows at sample %d: the closed loop is not stable as claimed", k)
-		}
-		y[k] = acc
+	y := run(bsum, a, K, math.MaxFloat64)
+	if last := y[len(y)-1]; len(y) < K || math.IsInf(last, 0) || math.IsNaN(last) {
+		return Result{}, fmt.Errorf("step: response overflows at sample %d: the closed loop is not stable as claimed", len(y)-1)
 	}
 	return FromSamples(y, T, final, clamped)
 }

@@ -12,7 +12,13 @@
 ;;
 ;;   (add-to-list 'load-path "/path/to/editors/emacs")
 ;;   (require 'ringside)
-;;   (add-hook 'loop-mode-hook #'eglot-ensure)   ; start the server automatically
+;;   (add-hook 'loop-mode-hook #'ringside-eglot-ensure)   ; start the server automatically
+;;
+;; `ringside-eglot-ensure' loads eglot itself: from a clean `emacs -q' the
+;; packages are not activated, so `eglot-ensure' is not yet defined there.
+;; In a `loop-mode' buffer: C-c C-h hover, C-c C-a quick-fixes, C-c C-r
+;; rename, M-n / M-p next / previous diagnostic, C-c C-p the loop plots
+;; (`ringside-plot', which writes the page and opens it).
 ;;
 ;; Analysis options reach the server through `eglot-workspace-configuration',
 ;; for example in .dir-locals.el:
@@ -105,6 +111,92 @@
     (if (<= (current-column) (current-indentation))
         (indent-line-to column)
       (save-excursion (indent-line-to column)))))
+
+(defcustom ringside-open-function #'browse-url-of-file
+  "Function called with the path of a written plot page to show it."
+  :type 'function)
+
+(declare-function eglot-ensure "eglot" ())
+(declare-function eglot-current-server "eglot" ())
+(declare-function eglot-code-actions "eglot" (beg &optional end action-kind interactive))
+(declare-function eglot-rename "eglot" (newname))
+(declare-function jsonrpc-request "jsonrpc" (connection method params &rest args))
+(declare-function eglot--path-to-uri "eglot" (path))
+(declare-function flymake-goto-next-error "flymake" (&optional n filter interactive))
+(declare-function flymake-goto-prev-error "flymake" (&optional n filter interactive))
+
+;;;###autoload
+(defun ringside-eglot-ensure ()
+  "Start the ringside language server for this buffer through eglot.
+Loads eglot first: a clean `emacs -q' does not activate packages, so
+`eglot-ensure' may not be defined yet (Emacs 28 with eglot from a package)."
+  (if (require 'eglot nil t)
+      (eglot-ensure)
+    (message "ringside: eglot is not installed (built into Emacs 29; on Emacs 28 install the eglot package)")))
+
+(defun ringside--server ()
+  "The eglot server of this buffer, or an error saying how to start one."
+  (or (and (require 'eglot nil t) (eglot-current-server))
+      (user-error "No ringside server for this buffer; M-x eglot starts one")))
+
+(defun ringside--uri (file)
+  "The file: URI of FILE as eglot writes it."
+  (if (fboundp 'eglot-path-to-uri)
+      (funcall 'eglot-path-to-uri file)
+    (funcall 'eglot--path-to-uri file)))
+
+(defun ringside-plot (&optional loop)
+  "Ask the server for the loop plots of this file, write the page, open it.
+With LOOP (a name; interactively, a prefix argument asks for one), only
+that loop.  The page goes to a temporary file, opened by
+`ringside-open-function'; returns its path."
+  (interactive (list (and current-prefix-arg (read-string "Loop: "))))
+  (let* ((server (ringside--server))
+         (arg (list :uri (ringside--uri buffer-file-name) :write :json-false))
+         (result (jsonrpc-request server :workspace/executeCommand
+                                  `(:command "ringside.plot"
+                                    :arguments [,(if (and loop (not (string= loop "")))
+                                                     (append arg (list :loop loop))
+                                                   arg)])))
+         (html (plist-get result :html)))
+    (unless (and (stringp html) (> (length html) 0))
+      (user-error "The server returned no plot page"))
+    (let ((file (make-temp-file "ringside-" nil ".html" html)))
+      (condition-case err
+          (progn (funcall ringside-open-function file)
+                 (message "ringside: loop plots written to %s" file))
+        (error (message "ringside: loop plots written to %s (not opened: %s)"
+                        file (error-message-string err))))
+      file)))
+
+(defun ringside-hover ()
+  "Show the server's description of the block, loop or gain at point."
+  (interactive)
+  (ringside--server)
+  (call-interactively (if (fboundp 'eldoc-doc-buffer) 'eldoc-doc-buffer 'eldoc)))
+
+(defun ringside-code-actions ()
+  "Offer the quick-fixes at point."
+  (interactive)
+  (ringside--server)
+  (call-interactively #'eglot-code-actions))
+
+(defun ringside-rename ()
+  "Rename the gain, block or loop at point everywhere it is used."
+  (interactive)
+  (ringside--server)
+  (call-interactively #'eglot-rename))
+
+(defvar loop-mode-map
+  (let ((map (make-sparse-keymap)))
+    (define-key map (kbd "C-c C-h") #'ringside-hover)
+    (define-key map (kbd "C-c C-a") #'ringside-code-actions)
+    (define-key map (kbd "C-c C-r") #'ringside-rename)
+    (define-key map (kbd "C-c C-p") #'ringside-plot)
+    (define-key map (kbd "M-n") #'flymake-goto-next-error)
+    (define-key map (kbd "M-p") #'flymake-goto-prev-error)
+    map)
+  "Keys of `loop-mode'.")
 
 ;;;###autoload
 (define-derived-mode loop-mode prog-mode "Loop"

@@ -1,9 +1,12 @@
 -- ringside server end-to-end check in Neovim (run by server/e2e_nvim_test.go):
 --   RINGSIDE_BIN=... RINGSIDE_FILE=<copy of unstable.loop> RINGSIDE_RESULT=<json path> \
 --   nvim --headless --clean -u editors/nvim/minimal_init.lua -c 'luafile server/testdata/nvim/e2e.lua'
--- Opens the file, waits for the unstable-loop diagnostic, reads a hover,
--- applies the gain quick-fix, writes the buffer (a temp copy) and waits for
--- the diagnostic to go. The outcome goes to RINGSIDE_RESULT as JSON.
+-- Opens the file as a user would and checks what the set-up promises: the
+-- buffer-local maps on attach, K showing the server's hover (not a man
+-- page), ]d moving to a diagnostic, code lenses that appear and follow the
+-- analysis without a manual refresh, the gain quick-fix, and :RingsidePlot
+-- opening the page (through the system's opener, a stand-in here). The
+-- outcome goes to RINGSIDE_RESULT as JSON.
 local file = os.getenv('RINGSIDE_FILE')
 local out = os.getenv('RINGSIDE_RESULT')
 local result = { ok = false, steps = {} }
@@ -38,6 +41,27 @@ local function find(uri, code)
   return nil
 end
 
+-- The text of the first floating window, or nil.
+local function float_text()
+  for _, win in ipairs(vim.api.nvim_list_wins()) do
+    if vim.api.nvim_win_get_config(win).relative ~= '' then
+      local lines = vim.api.nvim_buf_get_lines(vim.api.nvim_win_get_buf(win), 0, -1, false)
+      return table.concat(lines, '\n'), win
+    end
+  end
+  return nil
+end
+
+local function lens_titles(bufnr)
+  local titles = {}
+  for _, l in ipairs(vim.lsp.codelens.get(bufnr) or {}) do
+    if l.command then
+      table.insert(titles, l.command.title)
+    end
+  end
+  return table.concat(titles, ' | ')
+end
+
 local ok, err = pcall(function()
   vim.cmd('edit ' .. vim.fn.fnameescape(file))
   local bufnr = vim.api.nvim_get_current_buf()
@@ -52,17 +76,44 @@ local ok, err = pcall(function()
   step('diagnostic')
   local diag = find(uri, 'pole-outside')
 
-  local hover = vim.lsp.buf_request_sync(bufnr, 'textDocument/hover',
-    { textDocument = { uri = uri }, position = diag.range.start }, 10000)
-  for _, r in pairs(hover or {}) do
-    if r.result and r.result.contents then
-      result.hover = r.result.contents.value
+  for _, lhs in ipairs({ 'K', '[d', ']d', '<leader>ca', '<leader>rn', 'gd' }) do
+    local m = vim.fn.maparg(lhs, 'n', false, true)
+    if m.buffer ~= 1 or not tostring(m.desc):find('^ringside:') then
+      error('no buffer-local ringside map for ' .. lhs .. ': ' .. vim.inspect(m))
     end
   end
-  if not result.hover then
-    error('no hover: ' .. vim.inspect(hover))
+  step('keys')
+
+  -- K on the loop name: the server's hover in a float.
+  vim.api.nvim_win_set_cursor(0, { diag.range.start.line + 1, diag.range.start.character })
+  vim.cmd('normal K')
+  if not vim.wait(10000, function() return float_text() ~= nil end, 20) then
+    error('K opened no hover window')
   end
-  step('hover')
+  local text, win = float_text()
+  result.hover = text
+  vim.api.nvim_win_close(win, true)
+  step('K')
+
+  -- ]d from the top lands on a diagnostic's line.
+  vim.api.nvim_win_set_cursor(0, { 1, 0 })
+  vim.cmd('normal ]d')
+  local line = vim.api.nvim_win_get_cursor(0)[1] - 1
+  local on_diag = false
+  for _, d in ipairs(vim.diagnostic.get(bufnr)) do
+    on_diag = on_diag or d.lnum == line
+  end
+  if not on_diag or line == 0 then
+    error(']d moved to line ' .. line .. ', which has no diagnostic')
+  end
+  step(']d')
+
+  -- Lenses arrive without a manual refresh.
+  if not vim.wait(10000, function() return lens_titles(bufnr):find('UNSTABLE') ~= nil end, 50) then
+    error('no verdict lens: ' .. lens_titles(bufnr))
+  end
+  result.lens_before = lens_titles(bufnr)
+  step('lenses')
 
   local actions = vim.lsp.buf_request_sync(bufnr, 'textDocument/codeAction', {
     textDocument = { uri = uri }, range = diag.range, context = { diagnostics = { diag } },
@@ -88,6 +139,23 @@ local ok, err = pcall(function()
     error('pole-outside still reported after the fix: ' .. vim.inspect(raw[uri]))
   end
   step('fixed')
+  -- The lens follows the new verdict by itself.
+  if not vim.wait(10000, function()
+    local t = lens_titles(bufnr)
+    return t:find('stable') ~= nil and t:find('UNSTABLE') == nil
+  end, 50) then
+    error('lens still says: ' .. lens_titles(bufnr))
+  end
+  result.lens_after = lens_titles(bufnr)
+  step('lens refreshed')
+
+  -- :RingsidePlot writes the page and opens it.
+  vim.cmd('RingsidePlot')
+  local opened = os.getenv('RINGSIDE_OPENED')
+  if not vim.wait(15000, function() return vim.loop.fs_stat(opened) ~= nil end, 50) then
+    error(':RingsidePlot opened nothing')
+  end
+  step('plot opened')
   result.ok = true
 end)
 if not ok then

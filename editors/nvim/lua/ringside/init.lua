@@ -4,6 +4,9 @@
 --   cmd = { 'ringside', 'serve' },           -- or a string: the binary, 'serve' is added
 --   settings = { gainMarginDb = 6, phaseMarginDeg = 30, trigger = 'change', tolerance = 1e-6 },
 --   root_markers = { '.git' },
+--   keys = true,                             -- buffer-local maps on attach (false: none; a table: your own)
+--   open = nil,                              -- function(path) that shows the plot page; default: the system's opener
+--   on_attach = nil,                         -- function(client, bufnr), called after ours
 -- }
 --
 -- Works on Neovim 0.7 and later: vim.lsp.start where it exists (0.8+),
@@ -13,10 +16,26 @@ local M = {}
 
 local plot_command = 'ringside.plot'
 
+-- Buffer-local maps set when the server attaches, so that K asks the
+-- server (not 'keywordprg', which runs man) on every Neovim from 0.7. Each
+-- entry: { lhs, function, description }.
+local default_keys = {
+  { 'K', function() vim.lsp.buf.hover() end, 'hover: figures of the block, loop or gain' },
+  { 'gd', function() vim.lsp.buf.definition() end, 'go to the declaration' },
+  { 'gr', function() vim.lsp.buf.references() end, 'list the references' },
+  { '<leader>ca', function() vim.lsp.buf.code_action() end, 'quick-fixes (code actions)' },
+  { '<leader>rn', function() vim.lsp.buf.rename() end, 'rename a gain, block or loop' },
+  { '[d', function() vim.diagnostic.goto_prev() end, 'previous diagnostic' },
+  { ']d', function() vim.diagnostic.goto_next() end, 'next diagnostic' },
+  { '<leader>e', function() vim.diagnostic.open_float() end, 'the diagnostics of this line' },
+  { '<leader>rp', function() M.plot() end, 'open the loop plots' },
+}
+
 local defaults = {
   cmd = { 'ringside', 'serve' },
   settings = {},
   root_markers = { '.git' },
+  keys = true,
 }
 
 M.config = vim.deepcopy(defaults)
@@ -85,6 +104,48 @@ local function notify_client(client, method, params)
   return client.notify(method, params)
 end
 
+-- Lenses carry each loop's verdict; they change with every analysis, so
+-- they are asked for again whenever the text settles or is written.
+local function refresh_lenses(client, bufnr)
+  local caps = client.server_capabilities or client.resolved_capabilities or {}
+  if not (caps.codeLensProvider or caps.code_lens) then
+    return
+  end
+  if bufnr ~= vim.api.nvim_get_current_buf() then
+    return -- 0.7's refresh() works on the current buffer only
+  end
+  pcall(vim.lsp.codelens.refresh)
+end
+
+local function set_keys(bufnr)
+  local keys = M.config.keys
+  if keys == false then
+    return
+  end
+  if keys == true or keys == nil then
+    keys = default_keys
+  end
+  for _, k in ipairs(keys) do
+    vim.keymap.set('n', k[1], k[2], { buffer = bufnr, silent = true, desc = 'ringside: ' .. (k[3] or k[1]) })
+  end
+end
+
+-- Called when the server attaches to a buffer (0.7 and later alike).
+local function on_attach(client, bufnr)
+  set_keys(bufnr)
+  local group = vim.api.nvim_create_augroup('ringside_lenses_' .. bufnr, { clear = true })
+  vim.api.nvim_create_autocmd({ 'BufEnter', 'CursorHold', 'InsertLeave', 'BufWritePost' }, {
+    group = group,
+    buffer = bufnr,
+    callback = function() refresh_lenses(client, bufnr) end,
+  })
+  -- The first lenses, once the server has had the text.
+  vim.defer_fn(function() refresh_lenses(client, bufnr) end, 200)
+  if M.config.on_attach then
+    M.config.on_attach(client, bufnr)
+  end
+end
+
 local function client_config(bufnr)
   local fname = vim.api.nvim_buf_get_name(bufnr)
   local root
@@ -104,6 +165,7 @@ local function client_config(bufnr)
     workspace_folders = { { uri = vim.uri_from_fname(root), name = root } },
     init_options = options,
     settings = { ringside = options },
+    on_attach = on_attach,
     on_init = function(client)
       -- Neovim 0.7 does not send the settings by itself; the server reads
       -- them from workspace/didChangeConfiguration under "ringside".
@@ -184,6 +246,27 @@ local function request(client, method, params, handler, bufnr)
   return client.request(method, params, handler, bufnr)
 end
 
+-- Shows a written plot page: opts.open, else the system's opener
+-- (vim.ui.open on 0.10+; before that xdg-open, or open on macOS only: on
+-- Linux `open` is openvt), else only the path is printed.
+function M.open_page(path)
+  if M.config.open then
+    return M.config.open(path)
+  end
+  if vim.ui and vim.ui.open then
+    local ok = pcall(vim.ui.open, path)
+    if ok then
+      return
+    end
+  end
+  local opener = vim.fn.has('mac') == 1 and 'open' or 'xdg-open'
+  if vim.fn.executable(opener) == 1 then
+    vim.fn.jobstart({ opener, path }, { detach = true })
+    return
+  end
+  notify('no ' .. opener .. ' to open ' .. path .. '; open it in a browser', vim.log.levels.WARN)
+end
+
 -- Writes the html of a plot result to a temp file; returns its path or nil, err.
 function M.write_plot_page(result)
   if type(result) ~= 'table' or type(result.html) ~= 'string' or result.html == '' then
@@ -215,12 +298,13 @@ local function plot_handler(on_done)
     end
     -- print, so the path is also in :messages and on stdout under --headless.
     print('ringside: loop plots written to ' .. path)
+    M.open_page(path)
     if on_done then on_done(path) end
   end
 end
 
--- :RingsidePlot [loop]: runs ringside.plot for the current buffer (write=false)
--- and writes the returned html to a temp file. opts.loop selects one loop;
+-- :RingsidePlot [loop]: runs ringside.plot for the current buffer (write=false),
+-- writes the returned html to a temp file and opens it (see open_page). opts.loop selects one loop;
 -- opts.on_done(path, err) is called when the answer is in (used by tests).
 function M.plot(opts)
   opts = opts or {}
@@ -268,6 +352,9 @@ function M.setup(opts)
     cmd = normalize_cmd(opts.cmd or defaults.cmd),
     settings = opts.settings or defaults.settings,
     root_markers = opts.root_markers or defaults.root_markers,
+    keys = opts.keys == nil and defaults.keys or opts.keys,
+    open = opts.open,
+    on_attach = opts.on_attach,
   }
   vim.lsp.commands[plot_command] = codelens_plot
 
