@@ -45,7 +45,7 @@ func (c *checker) quietIntegrators() {
 		case len(stable)+len(other) == 0:
 			x.Message += "; no loop of this file uses it"
 		case len(other) > 0:
-			x.Message += fmt.Sprintf("; %s not stabilise it", loopsVerb(other, "does", "do"))
+			x.Message += fmt.Sprintf("; %s not shown stable (see %s), so nothing here shows it stabilised", loopsVerb(other, "is", "are"), pronoun(other))
 		case c.env.Options.Quick:
 			x.Severity = Info
 			x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator), used in %s; the full analysis checks that it is stabilised",
@@ -111,4 +111,11 @@ func (c *checker) reach(from string, seen map[string]bool) {
 		}
 		return true
 	})
+}
+
+func pronoun(names []string) string {
+	if len(names) == 1 {
+		return "its verdict"
+	}
+	return "their verdicts"
 }

@@ -9,23 +9,18 @@ import "math"
 // "UNDECIDED over range"), or for one stable only with its ideal blocks,
 // not with the realized ones, "UNSTABLE realized".
 func (l *Loop) Status() string {
+	short, _ := l.nominalVerdict()
 	switch {
-	case l.NotReached || !l.OK:
-		return "not analysed"
-	case l.Undecided:
-		return "UNDECIDED"
-	case l.Stable && l.Robust != nil && l.Robust.Stable == nil:
+	case short != "stable":
+		return short
+	case l.Robust != nil && l.Robust.Stable == nil:
 		return "UNDECIDED over range"
-	case l.Stable && l.Robust != nil && !*l.Robust.Stable:
+	case l.Robust != nil && !*l.Robust.Stable:
 		return "UNSTABLE over range"
-	case l.Stable && l.Realized != nil && l.Realized.Figures != nil && l.Realized.Figures.OK && !l.Realized.Figures.Stable:
+	case l.Realized != nil && l.Realized.Figures != nil && l.Realized.Figures.OK && !l.Realized.Figures.Stable:
 		return "UNSTABLE realized"
-	case l.Stable:
-		return "stable"
-	case l.Marginal:
-		return "NOT STABLE"
 	}
-	return "UNSTABLE"
+	return "stable"
 }
 
 // ShownStable reports whether the analysis shows the loop stable: every

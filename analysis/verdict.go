@@ -11,23 +11,30 @@ import (
 // them: the views cannot disagree on what a loop is, or on how many poles
 // lie outside the circle.
 
-// VerdictWord is the verdict in a word or two: "stable", "NOT STABLE (pole
-// on the unit circle)", "UNSTABLE" or "not analysed (see the errors)" —
-// capitals where the loop must not run.
-func (l *Loop) VerdictWord() string {
+// nominalVerdict is the loop's verdict at its nominal values with ideal
+// blocks, in a word or two for tables (short) and with its reason in
+// brackets (long) — capitals where the loop must not run.
+func (l *Loop) nominalVerdict() (short, long string) {
 	switch {
 	case l.NotReached:
-		return "not analysed (out of time: no verdict)"
+		return "not analysed", "not analysed (out of time: no verdict)"
 	case !l.OK:
-		return "not analysed (see the errors)"
+		return "not analysed", "not analysed (see the errors)"
 	case l.Stable:
-		return "stable"
+		return "stable", "stable"
 	case l.Marginal:
-		return "NOT STABLE (pole on the unit circle)"
+		return "NOT STABLE", "NOT STABLE (pole on the unit circle)"
 	case l.Undecided:
-		return "UNDECIDED (a pole's error bound straddles the unit circle)"
+		return "UNDECIDED", "UNDECIDED (a pole's error bound straddles the unit circle)"
 	}
-	return "UNSTABLE"
+	return "UNSTABLE", "UNSTABLE"
+}
+
+// VerdictWord is the verdict in a few words: "stable", "NOT STABLE (pole
+// on the unit circle)", "UNDECIDED (…)", "UNSTABLE" or "not analysed (…)".
+func (l *Loop) VerdictWord() string {
+	_, long := l.nominalVerdict()
+	return long
 }
 
 // VerdictReason says why, in one plain clause with the figure behind it.

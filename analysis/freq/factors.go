@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+
+	"ringside/analysis/poly"
 )
 
 // Factors is a loop L = Gain·Π(z − Zeros[i]) / Π(z − Poles[i]) given by its
@@ -44,35 +46,22 @@ func (f *Factors) nd(z complex128) (complex128, complex128) {
 	for i, q := range f.Zeros {
 		n *= z - q
 		if i&7 == 7 {
-			n, en = renorm(n, en)
+			n, en = poly.Renorm(n, en)
 		}
 	}
 	for i, p := range f.Poles {
 		d *= z - p
 		if i&7 == 7 {
-			d, ed = renorm(d, ed)
+			d, ed = poly.Renorm(d, ed)
 		}
 	}
 	switch {
 	case en > ed:
-		d = ldexpC(d, ed-en)
+		d = poly.LdexpC(d, ed-en)
 	case ed > en:
-		n = ldexpC(n, en-ed)
+		n = poly.LdexpC(n, en-ed)
 	}
 	return n, d
-}
-
-func renorm(c complex128, e int) (complex128, int) {
-	m := math.Max(math.Abs(real(c)), math.Abs(imag(c)))
-	if m == 0 || (m > 0x1p-64 && m < 0x1p64) {
-		return c, e
-	}
-	_, k := math.Frexp(m)
-	return ldexpC(c, -k), e + k
-}
-
-func ldexpC(c complex128, k int) complex128 {
-	return complex(math.Ldexp(real(c), k), math.Ldexp(imag(c), k))
 }
 
 // sampledZero reports whether f(θ) stays within DegenerateTol of its scale

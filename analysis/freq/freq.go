@@ -21,6 +21,7 @@ import (
 	"math/cmplx"
 	"sort"
 
+	"ringside/analysis/internal/search"
 	"ringside/analysis/poly"
 	polyroots "ringside/analysis/roots"
 )
@@ -634,25 +635,11 @@ func bisect(f, scale func(float64) float64, a, b, fa float64) float64 {
 	return a + (b-a)/2
 }
 
-// golden returns the minimiser of f on [a, b] by golden-section search,
-// narrowed to RootTolRad (about 60 steps over a grid cell); f is assumed
-// unimodal there, which a grid minimum between two larger neighbours gives.
+// golden returns the minimiser of f on [a, b], narrowed to RootTolRad
+// (about 60 steps over a grid cell); f is assumed unimodal there, which a
+// grid minimum between two larger neighbours gives.
 func golden(f func(float64) float64, a, b float64) float64 {
-	const r = 0.6180339887498949
-	c, d := b-r*(b-a), a+r*(b-a)
-	fc, fd := f(c), f(d)
-	for i := 0; i < 200 && b-a > RootTolRad; i++ {
-		if fc < fd {
-			b, d, fd = d, c, fc
-			c = b - r*(b-a)
-			fc = f(c)
-		} else {
-			a, c, fc = c, d, fd
-			d = a + r*(b-a)
-			fd = f(d)
-		}
-	}
-	return a + (b-a)/2
+	return search.GoldenMax(func(x float64) float64 { return -f(x) }, a, b, RootTolRad)
 }
 
 // bestOnGrid minimises obj over the grid (skipping points where it is not

@@ -198,14 +198,14 @@ func (f Factored) ND(z complex128) (complex128, complex128) {
 	for i, q := range f.Zeros {
 		n *= z - q
 		if i&7 == 7 {
-			n, e = renorm(n, e)
+			n, e = poly.Renorm(n, e)
 		}
 	}
 	ed := 0
 	for i, p := range f.Poles {
 		d *= z - p
 		if i&7 == 7 {
-			d, ed = renorm(d, ed)
+			d, ed = poly.Renorm(d, ed)
 		}
 	}
 	if e == ed {
@@ -213,24 +213,9 @@ func (f Factored) ND(z complex128) (complex128, complex128) {
 	}
 	// Bring both to the common exponent of the larger.
 	if e > ed {
-		return n, ldexpC(d, ed-e)
+		return n, poly.LdexpC(d, ed-e)
 	}
-	return ldexpC(n, e-ed), d
-}
-
-// renorm scales c by a power of two into [2^-64, 2^64) in modulus and
-// accumulates the exponent taken out.
-func renorm(c complex128, e int) (complex128, int) {
-	m := math.Max(math.Abs(real(c)), math.Abs(imag(c)))
-	if m == 0 || (m > 0x1p-64 && m < 0x1p64) {
-		return c, e
-	}
-	_, k := math.Frexp(m)
-	return ldexpC(c, -k), e + k
-}
-
-func ldexpC(c complex128, k int) complex128 {
-	return complex(math.Ldexp(real(c), k), math.Ldexp(imag(c), k))
+	return poly.LdexpC(n, e-ed), d
 }
 
 // Rational expands f into numerator and denominator polynomials (for views
