@@ -136,6 +136,7 @@ func runCheck(args []string, stdout, stderr io.Writer) int {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		debug.SetMemoryLimit(checkMemoryLimit)
 	}
+	cf.opts.NoStepSamples = true // no report prints the samples
 	env := analysis.Env{Roots: []string{rootDir}, Options: cf.opts}
 	out := report.NewStreamAgainst(cf.format, stdout, display, version, cf.indent, base.sarifStates())
 	status = 0

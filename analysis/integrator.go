@@ -17,16 +17,24 @@ import (
 // some loop gets the info, so the editor does not flash a warning that the
 // full analysis withdraws; the loop's own verdict reports any instability.
 func (c *checker) quietIntegrators() {
+	onCircle := map[diagPlace]*Diagnostic{}
+	for i := range c.diags.list {
+		d := &c.diags.list[i]
+		if k := (diagPlace{d.Path, d.Span}); d.Code == CodeBlockOnCircle && onCircle[k] == nil {
+			onCircle[k] = d
+		}
+	}
+	var users map[string][]*Loop // built on the first integrator only
 	for _, b := range c.res.Blocks {
-		x := c.findDiag(b.Path, exprSpan(b.Stmt.Expr), CodeBlockOnCircle)
+		x := onCircle[diagPlace{b.Path, exprSpan(b.Stmt.Expr)}]
 		if x == nil {
 			continue
 		}
+		if users == nil {
+			users = c.blockUsers()
+		}
 		var stable, other []string
-		for _, l := range c.res.Loops {
-			if !c.loopContains(l, b.Name) {
-				continue
-			}
+		for _, l := range users[b.Name] {
 			if l.ShownStable() || c.env.Options.Quick {
 				stable = append(stable, l.Name)
 			} else {
@@ -59,51 +67,50 @@ func loopsVerb(names []string, one, many string) string {
 	return strings.TrimSpace("loops " + strings.Join(names, ", ") + " " + many)
 }
 
-// findDiag returns the diagnostic of code at exactly this place, or nil.
-func (c *checker) findDiag(path string, span syntax.Span, code string) *Diagnostic {
-	for i := range c.diags.list {
-		d := &c.diags.list[i]
-		if d.Code == code && d.Path == path && d.Span == span {
-			return d
-		}
-	}
-	return nil
+// diagPlace is where a diagnostic stands.
+type diagPlace struct {
+	path string
+	span syntax.Span
 }
 
-// loopContains reports whether block name is on a path of loop l, directly
-// or inside a block that is.
-func (c *checker) loopContains(l *Loop, name string) bool {
-	seen := map[string]bool{}
-	for _, n := range append(append([]string{}, l.Forward...), l.Feedback...) {
-		if c.blockReaches(n, name, seen) {
-			return true
+// blockUsers maps each block name to the loops that use it, directly or
+// inside a block that is on a path, in loop order: one walk per loop, so
+// a file of many loops and integrators costs loops × blocks reached, not
+// loops × blocks.
+func (c *checker) blockUsers() map[string][]*Loop {
+	users := map[string][]*Loop{}
+	for _, l := range c.res.Loops {
+		seen := map[string]bool{}
+		for _, n := range l.Forward {
+			c.reach(n, seen)
+		}
+		for _, n := range l.Feedback {
+			c.reach(n, seen)
+		}
+		for n := range seen {
+			users[n] = append(users[n], l)
 		}
 	}
-	return false
+	return users
 }
 
-// blockReaches reports whether block from is block name or refers to it
-// in its expression (transitively).
-func (c *checker) blockReaches(from, name string, seen map[string]bool) bool {
-	if from == name {
-		return true
-	}
+// reach adds block from and every name its expression refers to
+// (transitively) to seen.
+func (c *checker) reach(from string, seen map[string]bool) {
 	if seen[from] {
-		return false
+		return
 	}
 	seen[from] = true
 	d := c.res.Scope[from]
 	if d == nil || d.Block == nil || d.Block.Stmt == nil || d.Block.Stmt.Expr == nil {
-		return false
+		return
 	}
-	found := false
 	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
-		if id, ok := n.(*syntax.NameRef); ok && !found && c.blockReaches(id.Name, name, seen) {
-			found = true
+		if id, ok := n.(*syntax.NameRef); ok {
+			c.reach(id.Name, seen)
 		}
-		return !found
+		return true
 	})
-	return found
 }
 
 func pronoun(names []string) string {

@@ -247,7 +247,11 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	}
 	l.Margins = m
 	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
-		st, err := mod.Step(c.res.SampleT, l.MaxRadius)
+		stepOf := mod.Step
+		if c.env.Options.NoStepSamples {
+			stepOf = mod.StepFigures // the samples are dropped: no view to fill
+		}
+		st, err := stepOf(c.res.SampleT, l.MaxRadius)
 		if err != nil {
 			c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: step response could not be simulated: %v", l.Name, err))
 		} else {
@@ -355,8 +359,17 @@ func (c *checker) undecided(l *Loop, p lti.Pole) {
 		what = fmt.Sprintf("a cluster of %d closed-loop poles that the computation cannot separate, centred", p.Multiplicity)
 	}
 	c.diags.add(c.res.Path, l.Stmt.Name.Span, Error, CodeNumeric,
-		fmt.Sprintf("loop %s: stability cannot be decided numerically: %s at z = %s (radius %s) carries an error bound of %.2g, which reaches across the unit circle (tolerance %g); no verdict is given. To resolve it, move the loop's poles clear of the circle by more than the bound, write repeated or cancelling roots as factors such as (z - 1)^2 so they are exact, or split the loop into lower-order blocks",
-			l.Name, what, fmtComplex(p.Z), FormatRadius(cmplx.Abs(p.Z)), p.Bound, c.env.Options.Tolerance))
+		fmt.Sprintf("loop %s: stability cannot be decided numerically: %s at z = %s (radius %s) carries %s, which reaches across the unit circle (tolerance %g); no verdict is given. To resolve it, move the loop's poles clear of the circle by more than the bound, write repeated or cancelling roots as factors such as (z - 1)^2 so they are exact, or split the loop into lower-order blocks",
+			l.Name, what, fmtComplex(p.Z), FormatRadius(cmplx.Abs(p.Z)), boundText(p.Bound), c.env.Options.Tolerance))
+}
+
+// boundText states a pole's error bound; a bound that overflowed (or was
+// lost to NaN) is stated as too large to compute, never as a non-number.
+func boundText(b float64) string {
+	if math.IsInf(b, 0) || math.IsNaN(b) {
+		return "an error bound too large to compute (it overflows float64)"
+	}
+	return fmt.Sprintf("an error bound of %.2g", b)
 }
 
 // hiddenModes finds block poles cancelled by zeros in the same loop.

@@ -46,8 +46,11 @@ const (
 	// peak of |S − 1/2| is a resonance of the closed loop; a closed-loop
 	// pole at distance d from the circle gives a peak of width about d, so
 	// the grid is refined geometrically around poles within NearCircle of
-	// the circle (down to d/16), and 2048 uniform points cover the rest.
-	GridPoints = 2048
+	// the circle (down to d/16), and 512 uniform points cover the rest:
+	// every other pole lies at least NearCircle = 0.2 from the circle, so
+	// its features are at least about 0.2 rad wide, some 30 grid steps
+	// (π/512 ≈ 0.006 rad) across.
+	GridPoints = 512
 	// NearCircle: closed-loop poles with ||p| − 1| below it get extra grid
 	// points around their angle.
 	NearCircle = 0.2

@@ -266,6 +266,16 @@ func (l *Loop) Margins(T float64, poles []Pole) (freq.Margins, error) {
 // cancelled: a cancelled pair may still shape the output), for a loop
 // whose largest pole radius is maxRadius < 1.
 func (l *Loop) Step(T, maxRadius float64) (step.Result, error) {
+	return l.step(T, maxRadius, true)
+}
+
+// StepFigures is Step for a caller that reads the figures only: the
+// simulation may stop before the samples a view would show.
+func (l *Loop) StepFigures(T, maxRadius float64) (step.Result, error) {
+	return l.step(T, maxRadius, false)
+}
+
+func (l *Loop) step(T, maxRadius float64, view bool) (step.Result, error) {
 	if !(T > 0) || math.IsInf(T, 0) {
 		return step.Result{}, fmt.Errorf("lti: sample period %v s must be finite and positive", T)
 	}
@@ -291,11 +301,11 @@ func (l *Loop) Step(T, maxRadius float64) (step.Result, error) {
 		return step.Result{}, err
 	}
 	K, clamped := step.Horizon(cl.N, maxRadius)
-	y, err := simulate(cl, K)
+	y, stopped, err := simulate(cl, K, final, view)
 	if err != nil {
 		return step.Result{}, err
 	}
-	return step.FromSamples(y, T, final, clamped)
+	return step.FromSamples(y, T, final, clamped && !stopped)
 }
 
 // dcGain is T(1) = G(1)/(1 + σG(1)H(1)) from the factors, as
@@ -316,8 +326,11 @@ func dcGain(g, h Factored, sigma float64) (float64, error) {
 
 // simulate runs x[k+1] = A x[k] + B, y[k] = C x[k] + D from x = 0 for K
 // samples, over A's nonzero entries only (a chain of delays or sections is
-// sparse: the work is the number of links, not n²).
-func simulate(s System, K int) ([]float64, error) {
+// sparse: the work is the number of links, not n²). It stops early, and
+// reports so, once a tailBound on the rest of the response shows that no
+// later sample can change a step figure (step.Tail): the figures are those
+// of the full horizon, at a fraction of its length for slow loops.
+func simulate(s System, K int, final float64, view bool) ([]float64, bool, error) {
 	n := s.N
 	type entry struct {
 		j int
@@ -332,16 +345,22 @@ func simulate(s System, K int) ([]float64, error) {
 		}
 	}
 	x, nx := make([]float64, n), make([]float64, n)
-	y := make([]float64, K)
+	tb, early := newTailBound(s, K)
+	watch := step.NewTail(final, view)
+	y := make([]float64, 0, min(K, 4096))
 	for k := 0; k < K; k++ {
+		if early && k%tailCheckEvery == 0 && watch.Done(tb.bound(x, final)) {
+			return y, true, nil
+		}
 		v := s.D
 		for i, c := range s.C {
 			v += c * x[i]
 		}
 		if math.IsInf(v, 0) || math.IsNaN(v) {
-			return nil, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
+			return nil, false, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
 		}
-		y[k] = v
+		y = append(y, v)
+		watch.Add(v)
 		for i, row := range rows {
 			acc := s.B[i]
 			for _, e := range row {
@@ -351,5 +370,8 @@ func simulate(s System, K int) ([]float64, error) {
 		}
 		x, nx = nx, x
 	}
-	return y, nil
+	return y, false, nil
 }
+
+// tailCheckEvery is how often (in samples) simulate tries to stop early.
+const tailCheckEvery = 16
