@@ -346,12 +346,12 @@ func (f *GainFit) Meets() string {
 	return fmt.Sprintf("stable, the fewest requirements missed: still misses %s", strings.Join(f.Missed, ", "))
 }
 
-// MaxFitSearches bounds the gain fix searches of one check (4): each costs
+// MaxFitSearches bounds the gain fix searches of one check (16): each costs
 // a few dozen loop analyses, and a generated file with hundreds of failing
 // loops must still check in a fraction of a second. Gains past the bound,
 // in source order of their loops' diagnostics, get the gain margin's safe
 // value, whose title says the other requirements were not checked.
-const MaxFitSearches = 4
+const MaxFitSearches = 16
 
 // fit runs the search for gain g once per check, within MaxFitSearches;
 // searched is false when the bound stopped it.
