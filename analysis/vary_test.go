@@ -1,10 +1,7 @@
 package analysis
 
 import (
-	"bytes"
-	"encoding/json"
 	"math"
-	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -113,16 +110,10 @@ func TestRobustAgainstNumpy(t *testing.T) {
 	for _, c := range robustCases {
 		ins = append(ins, in{c.names, c.lo, c.hi, c.char})
 	}
-	data, _ := json.Marshal(ins)
-	cmd := exec.Command(py, script)
-	cmd.Stdin = bytes.NewReader(data)
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("%s: %v", script, err)
-	}
 	var refs []robustRef
-	if err := json.Unmarshal(out, &refs); err != nil || len(refs) != len(robustCases) {
-		t.Fatalf("reference: %v (%d results)", err, len(refs))
+	scipyref.RunJSON(t, py, []string{script}, ins, &refs)
+	if len(refs) != len(robustCases) {
+		t.Fatalf("reference: %d results for %d cases", len(refs), len(robustCases))
 	}
 	for i, c := range robustCases {
 		ref := refs[i]

@@ -1,12 +1,9 @@
 package diskmargin
 
 import (
-	"bytes"
-	"encoding/json"
 	"math"
 	"math/cmplx"
 	"math/rand"
-	"os/exec"
 	"path/filepath"
 	"testing"
 
@@ -138,16 +135,10 @@ func TestCrossCheckNumpy(t *testing.T) {
 		loops = append(loops, L)
 		in = append(in, refLoop{highFirst(L.Num), highFirst(L.Den)})
 	}
-	data, _ := json.Marshal(in)
-	cmd := exec.Command(py, script)
-	cmd.Stdin = bytes.NewReader(data)
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("%s: %v", script, err)
-	}
 	var ref []struct{ Peak, Theta float64 }
-	if err := json.Unmarshal(out, &ref); err != nil || len(ref) != len(loops) {
-		t.Fatalf("reference output: %v (%d results for %d loops)", err, len(ref), len(loops))
+	scipyref.RunJSON(t, py, []string{script}, in, &ref)
+	if len(ref) != len(loops) {
+		t.Fatalf("reference output: %d results for %d loops", len(ref), len(loops))
 	}
 	worst := 0.0
 	for i, L := range loops {

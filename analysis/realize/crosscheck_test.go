@@ -1,12 +1,9 @@
 package realize
 
 import (
-	"bytes"
-	"encoding/json"
 	"math"
 	"math/cmplx"
 	"math/rand"
-	"os/exec"
 	"path/filepath"
 	"testing"
 
@@ -124,19 +121,8 @@ func TestPolesAgainstNumpy(t *testing.T) {
 		}
 		req.Cases = append(req.Cases, rc)
 	}
-	in, _ := json.Marshal(req)
-	cmd := exec.Command(py, filepath.Join("..", "..", "testdata", "crosscheck", "realize_ref.py"))
-	cmd.Stdin = bytes.NewReader(in)
-	var stderr bytes.Buffer
-	cmd.Stderr = &stderr
-	b, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("realize_ref.py: %v\n%s", err, stderr.String())
-	}
 	var out refOut
-	if err := json.Unmarshal(b, &out); err != nil {
-		t.Fatal(err)
-	}
+	scipyref.RunJSON(t, py, []string{filepath.Join("..", "..", "testdata", "crosscheck", "realize_ref.py")}, req, &out)
 	t.Logf("numpy %s", out.Numpy)
 	for i, r := range got {
 		ref := out.Cases[i]

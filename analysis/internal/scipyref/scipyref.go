@@ -4,6 +4,8 @@
 package scipyref
 
 import (
+	"bytes"
+	"encoding/json"
 	"os"
 	"os/exec"
 	"testing"
@@ -29,4 +31,26 @@ func Python(t testing.TB) string {
 	}
 	t.Skipf("no python3 with numpy and scipy among %v; set RINGSIDE_PYTHON", cands)
 	return ""
+}
+
+// RunJSON runs a reference script with interpreter py (arguments args),
+// hands it in as JSON on standard input and decodes its standard output
+// into out; any failure ends the test with the script's stderr.
+func RunJSON(t testing.TB, py string, args []string, in, out any) {
+	t.Helper()
+	data, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command(py, args...)
+	cmd.Stdin = bytes.NewReader(data)
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	b, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("%s %v: %v\n%s", py, args[0], err, stderr.String())
+	}
+	if err := json.Unmarshal(b, out); err != nil {
+		t.Fatalf("%s %v: output: %v", py, args[0], err)
+	}
 }
