@@ -72,6 +72,9 @@ type memoFile struct {
 	// nums holds results of pure numeric functions of coefficients:
 	// roots of block polynomials, discretizations.
 	nums map[string]numResult
+	// texts holds the one-line summaries of loops and gains, keyed by the
+	// loop's or gain's memo key (the text is a function of the result).
+	texts map[string]string
 }
 
 type numResult struct {
@@ -81,12 +84,13 @@ type numResult struct {
 }
 
 func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}}
+	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}, texts: map[string]string{}}
 }
 
 func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
 func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
 func numsOf(f *memoFile) map[string]numResult    { return f.nums }
+func textsOf(f *memoFile) map[string]string       { return f.texts }
 
 // lookup finds key among this check's entries, then the previous check's.
 func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
@@ -108,6 +112,8 @@ type memoRun struct {
 	mu        sync.Mutex
 	// keys of the loops of this check, for the gain-limit keys.
 	loopKeys map[*Loop]string
+	// keys of the gains' limits in this check, for their summaries.
+	gainKeys map[*Gain]string
 }
 
 func (m *Memo) begin(path string) *memoRun {
@@ -120,7 +126,7 @@ func (m *Memo) begin(path string) *memoRun {
 	if old == nil {
 		old = newMemoFile()
 	}
-	return &memoRun{m: m, path: path, old: old, next: newMemoFile(), loopKeys: map[*Loop]string{}}
+	return &memoRun{m: m, path: path, old: old, next: newMemoFile(), loopKeys: map[*Loop]string{}, gainKeys: map[*Gain]string{}}
 }
 
 // commit makes this check's entries the file's memo.
@@ -541,8 +547,46 @@ func (c *checker) memoLimits(g *Gain, loops []*Loop, deps *gainDeps, compute fun
 	}
 	c.memo.mu.Lock()
 	c.memo.next.gains[key] = lim
+	c.memo.gainKeys[g] = key
 	c.memo.mu.Unlock()
 	return lim
+}
+
+// text returns the memoised text kept under kind and key, or computes and
+// keeps it; key "" (not memoised) always computes.
+func (r *memoRun) text(kind, key string, compute func() string) string {
+	if r == nil || key == "" {
+		return compute()
+	}
+	key = kind + "\x00" + key
+	s, ok := lookup(r, textsOf, key)
+	if !ok {
+		s = compute()
+	}
+	r.mu.Lock()
+	r.next.texts[key] = s
+	r.mu.Unlock()
+	return s
+}
+
+// loopKeyOf and gainKeyOf are the memo keys this check used for l and g,
+// or "" when they were not memoised.
+func (r *memoRun) loopKeyOf(l *Loop) string {
+	if r == nil {
+		return ""
+	}
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	return r.loopKeys[l]
+}
+
+func (r *memoRun) gainKeyOf(g *Gain) string {
+	if r == nil {
+		return ""
+	}
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	return r.gainKeys[g]
 }
 
 // loopsByGain lists, per gain name, the analysed loops that depend on it,
