@@ -90,7 +90,7 @@ func newMemoFile() *memoFile {
 func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
 func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
 func numsOf(f *memoFile) map[string]numResult    { return f.nums }
-func textsOf(f *memoFile) map[string]string       { return f.texts }
+func textsOf(f *memoFile) map[string]string      { return f.texts }
 
 // lookup finds key among this check's entries, then the previous check's.
 func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
