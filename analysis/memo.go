@@ -72,9 +72,10 @@ type memoFile struct {
 	// nums holds results of pure numeric functions of coefficients:
 	// roots of block polynomials, discretizations.
 	nums map[string]numResult
-	// texts holds the one-line summaries of loops and gains, keyed by the
-	// loop's or gain's memo key (the text is a function of the result).
-	texts map[string]string
+	// loopTexts and gainTexts hold the one-line summaries of loops and
+	// gains, keyed by the loop's or the gain limits' memo key (the text is
+	// a function of the result).
+	loopTexts, gainTexts map[string]string
 }
 
 type numResult struct {
@@ -84,13 +85,15 @@ type numResult struct {
 }
 
 func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{}, texts: map[string]string{}}
+	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{},
+		loopTexts: map[string]string{}, gainTexts: map[string]string{}}
 }
 
 func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
 func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
 func numsOf(f *memoFile) map[string]numResult    { return f.nums }
-func textsOf(f *memoFile) map[string]string      { return f.texts }
+func loopTextsOf(f *memoFile) map[string]string  { return f.loopTexts }
+func gainTextsOf(f *memoFile) map[string]string  { return f.gainTexts }
 
 // lookup finds key among this check's entries, then the previous check's.
 func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
@@ -552,19 +555,18 @@ func (c *checker) memoLimits(g *Gain, loops []*Loop, deps *gainDeps, compute fun
 	return lim
 }
 
-// text returns the memoised text kept under kind and key, or computes and
+// text returns the text memoised under key in the map of, or computes and
 // keeps it; key "" (not memoised) always computes.
-func (r *memoRun) text(kind, key string, compute func() string) string {
+func (r *memoRun) text(of func(*memoFile) map[string]string, key string, compute func() string) string {
 	if r == nil || key == "" {
 		return compute()
 	}
-	key = kind + "\x00" + key
-	s, ok := lookup(r, textsOf, key)
+	s, ok := lookup(r, of, key)
 	if !ok {
 		s = compute()
 	}
 	r.mu.Lock()
-	r.next.texts[key] = s
+	of(r.next)[key] = s
 	r.mu.Unlock()
 	return s
 }

@@ -112,32 +112,20 @@ func intervalText(name string, lim *GainLimits) string {
 func (c *checker) summaries() {
 	for _, l := range c.res.Loops {
 		if l.OK {
-			text := c.memo.text("loop", c.memo.loopKeyOf(l), l.Summary)
+			text := c.memo.text(loopTextsOf, c.memo.loopKeyOf(l), l.Summary)
 			c.diags.add(c.res.Path, l.Stmt.Name.Span, Info, CodeLoopVerdict, text)
 		}
 	}
 	for _, g := range c.res.Gains {
 		if g.Limits != nil && g.Stmt.Name != nil {
-			text := c.memo.text("gain", gainTextKey(g, c.memo.gainKeyOf(g)), g.LimitsText)
+			key := c.memo.gainKeyOf(g)
+			if g.Vary != nil { // not part of the limits' key
+				key = ""
+			}
+			text := c.memo.text(gainTextsOf, key, g.LimitsText)
 			c.diags.add(c.res.Path, g.Stmt.Name.Span, Info, CodeGainLimits, text)
 		}
 	}
-}
-
-// gainTextKey is the memo key of a gain's summary: its limits' key (name,
-// value, declaration as written, loops) with the range it varies over; ""
-// when the limits were not memoised.
-func gainTextKey(g *Gain, limitsKey string) string {
-	if limitsKey == "" {
-		return ""
-	}
-	var k keyBuf
-	k.str(limitsKey)
-	if g.Vary != nil {
-		k.num(g.Vary.Lo)
-		k.num(g.Vary.Hi)
-	}
-	return string(k)
 }
 
 // SafeValue is the value offered for the gain: SafeMax rounded down to
