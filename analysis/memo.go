@@ -462,23 +462,32 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, deps *gainDeps) string {
 	if c.memo == nil {
 		return ""
 	}
-	var k keyBuf
+	keys := make([]string, len(loops))
+	size := 64 + len(g.Name) + len(g.Path)
+	c.memo.mu.Lock()
+	for i, l := range loops {
+		key, ok := c.memo.loopKeys[l]
+		if !ok {
+			c.memo.mu.Unlock()
+			return ""
+		}
+		keys[i] = key
+		size += len(key) + binary.MaxVarintLen64
+	}
+	c.memo.mu.Unlock()
+	for _, name := range deps.blocks[g.Name] {
+		size += len(deps.keys[name]) + binary.MaxVarintLen64
+	}
+	k := make(keyBuf, 0, size) // one allocation for the usual key
 	k.str(g.Name)
 	k.str(g.Path)
 	k.num(g.Value)
 	if d := c.res.Scope[g.Name]; d != nil {
 		k.str(c.declText(d))
 	}
-	c.memo.mu.Lock()
-	for _, l := range loops {
-		key, ok := c.memo.loopKeys[l]
-		if !ok {
-			c.memo.mu.Unlock()
-			return ""
-		}
+	for _, key := range keys {
 		k.str(key)
 	}
-	c.memo.mu.Unlock()
 	for _, name := range deps.blocks[g.Name] {
 		k.str(deps.keys[name])
 	}
