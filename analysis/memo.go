@@ -189,6 +189,12 @@ func (k *keyBuf) str(s string) {
 	*k = append(*k, s...)
 }
 
+// bytes adds b as str adds string(b), without the copy.
+func (k *keyBuf) bytes(b []byte) {
+	*k = binary.AppendUvarint(*k, uint64(len(b)))
+	*k = append(*k, b...)
+}
+
 func (k *keyBuf) num(f float64) { *k = binary.LittleEndian.AppendUint64(*k, math.Float64bits(f)) }
 
 func (k *keyBuf) poly(p poly.Poly) {
@@ -228,11 +234,14 @@ func (k *keyBuf) options(o Options) {
 }
 
 // stmtText is the source of a statement as written.
-func stmtText(src []byte, n syntax.Node) string {
+func stmtText(src []byte, n syntax.Node) string { return string(stmtSrc(src, n)) }
+
+// stmtSrc is stmtText without a copy (nil when n lies outside src).
+func stmtSrc(src []byte, n syntax.Node) []byte {
 	if n == nil || int(n.End()) > len(src) || n.Pos() < 0 || n.Pos() > n.End() {
-		return ""
+		return nil
 	}
-	return string(src[n.Pos():n.End()])
+	return src[n.Pos():n.End()]
 }
 
 // loopKey is the key of a loop's analysis, or "" when the loop is not to be
@@ -245,15 +254,15 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 	if !ok1 || !ok2 || c.env.Options.Quick {
 		return ""
 	}
-	var k keyBuf
+	k := make(keyBuf, 0, 1024) // room for the usual key: one allocation
 	k.str(c.res.Path)
-	k.str(stmtText(c.root.file.Src, ls))
+	k.bytes(stmtSrc(c.root.file.Src, ls))
 	k.num(c.res.SampleT)
 	k.options(c.env.Options)
 	for _, e := range append(fwd, fb...) {
 		k.str(e.name)
 		k.str(e.decl.Path)
-		k.str(c.declText(e.decl))
+		k.bytes(c.declSrc(e.decl))
 		k.poly(e.tf.Num)
 		k.poly(e.tf.Den)
 		k.factored(e.fac, e.facErr)
@@ -262,7 +271,7 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 			for _, g := range sortedKeys(ev.memo[e.name].gains) {
 				k.str(g)
 				if d := c.res.Scope[g]; d != nil {
-					k.str(c.declText(d)) // its range too
+					k.bytes(c.declSrc(d)) // its range too
 				}
 			}
 		}
@@ -282,16 +291,17 @@ func declStmt(d *Decl) syntax.Node {
 	return nil
 }
 
-func (c *checker) declText(d *Decl) string {
+// declSrc is d's statement as written (nil when unknown).
+func (c *checker) declSrc(d *Decl) []byte {
 	f := c.res.Files[d.Path]
 	if d.Path == c.res.Path {
 		f = c.root.file
 	}
 	n := declStmt(d)
 	if f == nil || n == nil {
-		return ""
+		return nil
 	}
-	return stmtText(f.Src, n)
+	return stmtSrc(f.Src, n)
 }
 
 // memoLoop analyses a loop through the memo: a hit is the stored result
@@ -483,7 +493,7 @@ func (c *checker) gainKey(g *Gain, loops []*Loop, deps *gainDeps) string {
 	k.str(g.Path)
 	k.num(g.Value)
 	if d := c.res.Scope[g.Name]; d != nil {
-		k.str(c.declText(d))
+		k.bytes(c.declSrc(d))
 	}
 	for _, key := range keys {
 		k.str(key)
@@ -526,7 +536,7 @@ func (c *checker) dependents() *gainDeps {
 func (c *checker) blockKey(d *Decl) string {
 	var k keyBuf
 	k.str(d.Name)
-	k.str(c.declText(d))
+	k.bytes(c.declSrc(d))
 	syntax.Walk(d.Block.Stmt, func(n syntax.Node) bool {
 		ref, ok := n.(*syntax.NameRef)
 		if !ok {
