@@ -1,8 +1,9 @@
 package analysis
 
 import (
+	"cmp"
 	"fmt"
-	"sort"
+	"slices"
 
 	"ringside/syntax"
 )
@@ -20,18 +21,20 @@ func (d *diagList) add(path string, span syntax.Span, sev Severity, code, msg st
 // sorted returns the diagnostics of path in source order (errors first at
 // equal positions).
 func (d *diagList) sorted(path string) []Diagnostic {
-	var out []Diagnostic
+	out := make([]Diagnostic, 0, len(d.list)) // nearly all are the file's own
 	for _, x := range d.list {
 		if x.Path == path {
 			out = append(out, x)
 		}
 	}
-	sort.SliceStable(out, func(i, j int) bool {
-		a, b := out[i], out[j]
-		if a.Span.From != b.Span.From {
-			return a.Span.From < b.Span.From
+	if len(out) == 0 {
+		return nil // as before: none is nil, not empty
+	}
+	slices.SortStableFunc(out, func(a, b Diagnostic) int {
+		if c := cmp.Compare(a.Span.From, b.Span.From); c != 0 {
+			return c
 		}
-		return a.Severity < b.Severity
+		return cmp.Compare(a.Severity, b.Severity)
 	})
 	return out
 }
