@@ -1,10 +1,7 @@
 package analysis
 
 import (
-	"encoding/json"
 	"math"
-	"os"
-	"os/exec"
 	"path/filepath"
 	"testing"
 
@@ -65,27 +62,8 @@ func dCases() []dCase {
 func runDRef(t *testing.T, cases []dCase) map[string]dRef {
 	t.Helper()
 	py := scipyref.Python(t)
-	dir := t.TempDir()
-	in, out := filepath.Join(dir, "in.json"), filepath.Join(dir, "out.json")
-	b, err := json.Marshal(cases)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(in, b, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	script := filepath.Join("..", "testdata", "crosscheck", "gainlimit_ref.py")
-	if b, err := exec.Command(py, script, in, out).CombinedOutput(); err != nil {
-		t.Fatalf("%s %s: %v\n%s", py, script, err, b)
-	}
-	b, err = os.ReadFile(out)
-	if err != nil {
-		t.Fatal(err)
-	}
 	var doc struct{ Cases []dRef }
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatal(err)
-	}
+	scipyref.RunJSONFiles(t, py, filepath.Join("..", "testdata", "crosscheck", "gainlimit_ref.py"), cases, &doc, nil)
 	res := map[string]dRef{}
 	for _, r := range doc.Cases {
 		res[r.Name] = r

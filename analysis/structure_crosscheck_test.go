@@ -313,33 +313,16 @@ func runStructureRef(t *testing.T, cases []refCase) map[string]refResult {
 	if exec.Command(py, "-c", "import mpmath").Run() != nil && exec.Command("/usr/bin/python3", "-c", "import numpy, scipy, mpmath").Run() == nil {
 		py = "/usr/bin/python3" // Debian's, with python3-mpmath
 	}
-	dir := t.TempDir()
-	in, out := filepath.Join(dir, "in.json"), filepath.Join(dir, "out.json")
-	b, err := json.Marshal(cases)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(in, b, 0o644); err != nil {
-		t.Fatal(err)
-	}
 	if p := os.Getenv("RINGSIDE_DUMP_REF"); p != "" {
+		b, _ := json.Marshal(cases)
 		os.WriteFile(p, b, 0o644) // for running the script by hand
 	}
-	script := filepath.Join("..", "testdata", "crosscheck", "structure_ref.py")
-	if b, err := exec.Command(py, script, in, out).CombinedOutput(); err != nil {
-		if strings.Contains(string(b), "No module named 'mpmath'") && os.Getenv("RINGSIDE_REQUIRE_SCIPY") != "1" {
+	var doc struct{ Cases []refResult }
+	scipyref.RunJSONFiles(t, py, filepath.Join("..", "testdata", "crosscheck", "structure_ref.py"), cases, &doc, func(output []byte) {
+		if strings.Contains(string(output), "No module named 'mpmath'") && os.Getenv("RINGSIDE_REQUIRE_SCIPY") != "1" {
 			t.Skipf("%s has no mpmath (Debian python3-mpmath)", py)
 		}
-		t.Fatalf("%s %s: %v\n%s", py, script, err, b)
-	}
-	b, err = os.ReadFile(out)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var doc struct{ Cases []refResult }
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatal(err)
-	}
+	})
 	res := map[string]refResult{}
 	for _, r := range doc.Cases {
 		res[r.Name] = r

@@ -8,6 +8,7 @@ import (
 	"encoding/json"
 	"os"
 	"os/exec"
+	"path/filepath"
 	"testing"
 )
 
@@ -52,5 +53,36 @@ func RunJSON(t testing.TB, py string, args []string, in, out any) {
 	}
 	if err := json.Unmarshal(b, out); err != nil {
 		t.Fatalf("%s %v: output: %v", py, args[0], err)
+	}
+}
+
+// RunJSONFiles runs script with interpreter py as `py script IN OUT`: in is
+// written as JSON to the file IN, and the JSON the script writes to OUT is
+// decoded into out. On failure onFail (when not nil) sees the script's
+// combined output first, so that a test can skip for a missing module;
+// then the test ends with that output.
+func RunJSONFiles(t testing.TB, py, script string, in, out any, onFail func(output []byte)) {
+	t.Helper()
+	dir := t.TempDir()
+	inPath, outPath := filepath.Join(dir, "in.json"), filepath.Join(dir, "out.json")
+	data, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(inPath, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if b, err := exec.Command(py, script, inPath, outPath).CombinedOutput(); err != nil {
+		if onFail != nil {
+			onFail(b)
+		}
+		t.Fatalf("%s %s: %v\n%s", py, script, err, b)
+	}
+	b, err := os.ReadFile(outPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, out); err != nil {
+		t.Fatalf("%s %s: output: %v", py, script, err)
 	}
 }
