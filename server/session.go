@@ -816,8 +816,9 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 			s.bug("panic checking %s: %v\n%s", path, r, debugStack())
 		}
 	}()
-	// As many checks at once as there are processors: more only multiplies
-	// the memory in flight (a check allocates several times what it keeps).
+	// One document check at a time: a check already analyses its loops on
+	// every processor, so a second one adds no throughput, only memory in
+	// flight (a check allocates several times what it keeps).
 	select {
 	case checkSlots <- struct{}{}:
 		defer func() { <-checkSlots }()
@@ -860,7 +861,7 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 	s.notify(protocol.MethodTextDocumentPublishDiagnostics, lspext.PublishDiagnosticsParams{URI: doc.uri, Version: &v, Diagnostics: diags})
 }
 
-// checkSlots bounds the document checks running at once.
-var checkSlots = make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
+// checkSlots bounds the document checks running at once (one; see runCheck).
+var checkSlots = make(chan struct{}, 1)
 
 func debugStack() string { return string(debug.Stack()) }
