@@ -352,18 +352,7 @@ func (sim simulation) result(T, final float64, clamped bool) (step.Result, error
 // horizon, at a fraction of its length for slow loops.
 func simulate(s System, K int, final float64, view bool) (simulation, error) {
 	n := s.N
-	type entry struct {
-		j int
-		a float64
-	}
-	rows := make([][]entry, n)
-	for i := 0; i < n; i++ {
-		for j, a := range s.A[i*n : (i+1)*n] {
-			if a != 0 {
-				rows[i] = append(rows[i], entry{j, a})
-			}
-		}
-	}
+	rows := sparseRows(s.A, n)
 	keep := 0
 	switch {
 	case final == 0:
@@ -372,7 +361,7 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 		keep = min(K, step.ShownMax)
 	}
 	x, nx := make([]float64, n), make([]float64, n)
-	tb, early := newTailBound(s, K)
+	tb, early := newTailBound(s, rows, K)
 	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
 	for k := 0; k < K; k++ {
 		if early && k%tailCheckEvery == 0 && sim.watch.Done(tb.bound(x, final)) {
@@ -400,6 +389,25 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 		x, nx = nx, x
 	}
 	return sim, nil
+}
+
+// entry is a nonzero entry of a row of A: its column and value.
+type entry struct {
+	j int
+	a float64
+}
+
+// sparseRows lists the nonzero entries of each row of the n×n matrix a.
+func sparseRows(a []float64, n int) [][]entry {
+	rows := make([][]entry, n)
+	for i := 0; i < n; i++ {
+		for j, v := range a[i*n : (i+1)*n] {
+			if v != 0 {
+				rows[i] = append(rows[i], entry{j, v})
+			}
+		}
+	}
+	return rows
 }
 
 // tailCheckEvery is how often (in samples) simulate tries to stop early.

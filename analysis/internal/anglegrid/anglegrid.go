@@ -23,7 +23,7 @@ type Cluster struct {
 
 // Build appends to dst[:0] the sorted distinct angles in [0, π]: count + 1
 // uniform points π·i/count, the points of every cluster (offsets below
-// reach), and the points of extra (sorted ascending); points outside
+// reach; the last uniform point is π itself), and the points of extra (sorted ascending); points outside
 // [0, π] are dropped and points within MinGap of the previous one merged.
 func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
 	runs := make([]float64, 0, len(extra)+64*len(clusters))
@@ -89,24 +89,27 @@ func merge(out, a, b []float64) []float64 {
 // mergeUniform appends the uniform points merged with sorted, dropping
 // points outside [0, π] and points within MinGap of the previous one.
 func mergeUniform(out []float64, count int, sorted []float64) []float64 {
+	if need := len(out) + count + 1 + len(sorted); cap(out) < need {
+		out = append(make([]float64, 0, need), out...)
+	}
 	last := math.Inf(-1)
-	emit := func(th float64) {
-		if th < 0 || th > math.Pi || th-last < MinGap {
-			return
-		}
-		last = th
-		out = append(out, th)
-	}
 	j := 0
-	for i := 0; i <= count; i++ {
-		u := math.Pi * float64(i) / float64(count)
-		for ; j < len(sorted) && sorted[j] < u; j++ {
-			emit(sorted[j])
+	for i := 0; i <= count+1; i++ {
+		u := math.Inf(1) // after the last uniform point: the rest of sorted
+		switch {
+		case i < count:
+			u = math.Pi * float64(i) / float64(count)
+		case i == count:
+			u = math.Pi // π·count/count may round above π
 		}
-		emit(u)
-	}
-	for ; j < len(sorted); j++ {
-		emit(sorted[j])
+		for ; j < len(sorted) && sorted[j] < u; j++ {
+			if th := sorted[j]; th >= 0 && th <= math.Pi && th-last >= MinGap {
+				out, last = append(out, th), th
+			}
+		}
+		if i <= count && u-last >= MinGap {
+			out, last = append(out, u), u
+		}
 	}
 	return out
 }

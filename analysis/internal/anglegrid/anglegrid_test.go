@@ -10,9 +10,10 @@ import (
 // naive is the grid by definition: every point listed, sorted, filtered.
 func naive(count int, clusters []Cluster, reach float64, extra []float64) []float64 {
 	var all []float64
-	for i := 0; i <= count; i++ {
+	for i := 0; i < count; i++ {
 		all = append(all, math.Pi*float64(i)/float64(count))
 	}
+	all = append(all, math.Pi)
 	all = append(all, extra...)
 	for _, c := range clusters {
 		all = append(all, c.Center)
@@ -58,5 +59,13 @@ func TestBuildMatchesSortedDefinition(t *testing.T) {
 				t.Fatalf("trial %d: point %d is %v, want %v", trial, i, got[i], want[i])
 			}
 		}
+	}
+}
+
+func BenchmarkBuild(b *testing.B) {
+	cs := []Cluster{{0, 1e-11}, {0.03, 0.001}, {0.031, 0.002}, {3.1, 0.002}, {0.5, 0.01}}
+	var dst []float64
+	for i := 0; i < b.N; i++ {
+		dst = Build(dst, 256, cs, 2*math.Pi/256, nil)
 	}
 }
