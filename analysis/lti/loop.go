@@ -361,7 +361,7 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 		keep = min(K, step.ShownMax)
 	}
 	x, nx := make([]float64, n), make([]float64, n)
-	tb, early := newTailBound(s, rows, K)
+	tb, early := newTailBound(s, K)
 	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
 	for k := 0; k < K; k++ {
 		if early && k%tailCheckEvery == 0 && sim.watch.Done(tb.bound(x, final)) {
