@@ -21,6 +21,7 @@ import (
 	"math/cmplx"
 	"sort"
 
+	"ringside/analysis/diskmargin"
 	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 	"ringside/analysis/poly"
@@ -123,11 +124,53 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 	return lp.margins(T)
 }
 
+// Sampled is a loop's response on its search grid, evaluated once: the
+// margins and the disk margin both read it.
+type Sampled struct {
+	lp   loop
+	grid []float64
+	pts  gridValues
+}
+
+// SampleFactors evaluates the loop given by its factors on its search grid
+// (errors as ComputeFactors).
+func SampleFactors(f Factors, T float64) (*Sampled, error) {
+	if err := f.check(); err != nil {
+		return nil, err
+	}
+	lp, err := prepareT(T)
+	if err != nil {
+		return nil, err
+	}
+	lp.fac = &f
+	grid := lp.grid()
+	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid)}, nil
+}
+
+// Margins computes every margin of the sampled loop (see Compute).
+func (s *Sampled) Margins(T float64) (Margins, error) {
+	return s.lp.marginsOn(s.grid, s.pts, T)
+}
+
+// DiskMargin is the symmetric disk margin of the sampled loop
+// (diskmargin.FromGrid on the same grid: its clusters around the
+// closed-loop poles near the circle are those the disk margin's peaks
+// need). The caller must know the loop to be stable.
+func (s *Sampled) DiskMargin() (diskmargin.Margin, error) {
+	return diskmargin.FromGrid(s.grid, s.pts.disk, func(th float64) float64 {
+		return diskmargin.DistanceND(s.lp.eval(th))
+	})
+}
+
 // margins computes every margin of lp (see Compute).
 func (lp loop) margins(T float64) (Margins, error) {
-	var m Margins
 	grid := lp.grid()
-	pts := lp.evalGrid(grid)
+	return lp.marginsOn(grid, lp.evalGrid(grid), T)
+}
+
+// marginsOn computes every margin of lp from its values on the grid.
+func (lp loop) marginsOn(grid []float64, pts gridValues, T float64) (Margins, error) {
+	var m Margins
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
 
 	m.PhaseCrossings = lp.phaseCrossings(grid, pts.g, pts.gScale, T)
@@ -430,13 +473,14 @@ func (l loop) unitOnCircle() bool {
 // gridValues holds the functions the crossing and peak searches need at
 // every grid point, from one evaluation of N and D there.
 type gridValues struct {
-	g, gScale, h, hScale, sens []float64
+	g, gScale, h, hScale, sens, disk []float64
 }
 
 func (l loop) evalGrid(grid []float64) gridValues {
 	n := len(grid)
-	all := make([]float64, 5*n) // one allocation for the five series
-	v := gridValues{all[:n:n], all[n : 2*n : 2*n], all[2*n : 3*n : 3*n], all[3*n : 4*n : 4*n], all[4*n:]}
+	all := make([]float64, 6*n) // one allocation for the six series
+	part := func(i int) []float64 { return all[i*n : (i+1)*n : (i+1)*n] }
+	v := gridValues{part(0), part(1), part(2), part(3), part(4), part(5)}
 	for i, th := range grid {
 		N, D := l.eval(th)
 		nn, dd := sq(N), sq(D)
@@ -445,6 +489,7 @@ func (l loop) evalGrid(grid []float64) gridValues {
 		v.h[i] = nn - dd
 		v.hScale[i] = nn + dd
 		v.sens[i] = fastAbs(D, dd) / fastAbs(N+D, sq(N+D))
+		v.disk[i] = diskmargin.DistanceND(N, D)
 	}
 	return v
 }

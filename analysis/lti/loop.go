@@ -261,6 +261,12 @@ func (l *Loop) Margins(T float64, poles []Pole) (freq.Margins, error) {
 	return freq.ComputeFactors(l.Factors(poles), T)
 }
 
+// Response samples the cancelled L, block by block, on the margins' search
+// grid once, for the margins and the disk margin to read.
+func (l *Loop) Response(T float64, poles []Pole) (*freq.Sampled, error) {
+	return freq.SampleFactors(l.Factors(poles), T)
+}
+
 // Step simulates the unit step response, reference to the forward path's
 // output, on the state-space model of the whole loop as written (nothing
 // cancelled: a cancelled pair may still shape the output), for a loop
