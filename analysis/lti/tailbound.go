@@ -8,15 +8,16 @@ import "math"
 // coordinates x = S x̃ (S = diag(2^sᵢ) from balance: exact, and a state
 // whose parts differ in size by many orders, as an integrator's beside a
 // fast lag's, no longer makes the ∞-norm loose), Ã = S⁻¹AS, C̃ = CS. Take
-// M, a power of two, with ‖Ã^M‖∞ ≤ 1/2 (found by repeated squaring) and
-// β = max over r < M of ‖C̃ Ãʳ‖₁; writing m = qM + r,
+// M, a power of two, with ‖Ã^M‖∞ ≤ contraction < 1 (found by repeated
+// squaring) and β = max over r < M of ‖C̃ Ãʳ‖₁; writing m = qM + r,
 //
 //	|C Aᵐ e| = |C̃ Ãʳ (Ã^M)^q ẽ| ≤ ‖C̃ Ãʳ‖₁ ‖Ã^M‖∞^q ‖ẽ‖∞ ≤ β ‖S⁻¹e‖∞
 //
 // for every m ≥ 0: a bound for all later time from one vector norm (a norm
 // bound on the state-space model; it needs no eigenvectors, so repeated or
-// clustered poles cost nothing). Rounding: squaring P = Ã^j errs by at most
-// n·ε·‖P‖², tiny beside the 1/2 asked of ‖Ã^M‖ (the proof needs 1), and β
+// clustered poles cost nothing; the smallest such M gives the fewest terms
+// in β). Rounding: squaring P = Ã^j errs by at most n·ε·‖P‖², tiny beside
+// the gap between contraction and the 1 the proof needs, and β
 // is a sum of M·n products, each with relative error below (M + n)·ε; the
 // bound is raised by tailSafety to cover both with room to spare.
 type tailBound struct {
@@ -25,6 +26,10 @@ type tailBound struct {
 	beta  float64
 	yinf  float64
 }
+
+// contraction is the norm ‖Ã^M‖∞ must reach: any value below 1 proves the
+// bound; 0.99 leaves a gap far above the rounding of the squarings.
+const contraction = 0.99
 
 // tailSafety raises the bound over the rounding of β and of Ã^M (relative
 // errors far below 1e-6 for the orders and horizons met here).
@@ -50,7 +55,7 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	exps := balance(a, n)
 	rows := sparseRows(a, n)
 	M, p, q := 1, append([]float64(nil), a...), make([]float64, n*n)
-	for normInf(p, n) > 0.5 {
+	for normInf(p, n) > contraction {
 		if M *= 2; M >= K {
 			return nil, false
 		}
@@ -71,7 +76,9 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		for _, c := range v {
 			sum += math.Abs(c)
 		}
-		t.beta = math.Max(t.beta, sum)
+		if sum > t.beta || sum != sum { // a NaN is kept: the check below refuses it
+			t.beta = sum
+		}
 		for j := range w {
 			w[j] = 0
 		}
@@ -95,7 +102,9 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 func (t *tailBound) bound(x []float64, final float64) float64 {
 	e := 0.0
 	for i, v := range x {
-		e = math.Max(e, math.Abs(v-t.xinf[i])*t.scale[i])
+		if d := math.Abs(v-t.xinf[i]) * t.scale[i]; d > e || d != d {
+			e = d // a NaN state is kept: the bound is then NaN and proves nothing
+		}
 	}
 	return t.beta*e + tailSafety*math.Abs(final-t.yinf)
 }

@@ -28,6 +28,7 @@ type Tail struct {
 	sigma, at10, at90          float64 // sign of Final; 10 % and 90 % of |Final|
 	k10, k90                   int     // first samples at 10 % and 90 % of Final; −1 before
 	lateFrom                   int     // the clamped horizon's second half starts here
+	quietUntil                 int     // before it, a sample below the peak moves only the band exit
 	lateDev                    float64
 	view                       bool
 	last, n                    int
@@ -42,8 +43,21 @@ func NewTail(final float64, view bool, horizon int) *Tail {
 		last: -1, k10: -1, k90: -1, lateFrom: horizon / 2, view: view}
 }
 
-// Add takes the next sample.
+// Add takes the next sample. Most samples of a long response only move the
+// last exit from the band: that path is kept small enough to inline.
 func (t *Tail) Add(v float64) {
+	if d := v - t.final; t.n >= t.quietUntil || t.sigma*d > t.peak {
+		t.add(v)
+	} else {
+		if d > t.width || -d > t.width {
+			t.last = t.n
+		}
+		t.n++
+	}
+}
+
+// add is Add for a sample that may move any figure.
+func (t *Tail) add(v float64) {
 	f := t.final
 	if f != 0 {
 		if o := t.sigma * (v - f); o > t.peak {
@@ -69,6 +83,9 @@ func (t *Tail) Add(v float64) {
 		t.lateDev = d
 	}
 	t.n++
+	if f != 0 && t.k90 >= 0 {
+		t.quietUntil = t.lateFrom
+	}
 }
 
 // Samples is how many samples were taken.
