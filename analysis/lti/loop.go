@@ -369,10 +369,14 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 	x, nx := make([]float64, n), make([]float64, n)
 	tb, early := newTailBound(s, K)
 	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
+	next := make([]float64, n) // A x + B at the checks
 	for k := 0; k < K; k++ {
-		if early && k%tailCheckEvery == 0 && sim.watch.Done(tb.bound(x, final)) {
-			sim.stopped = true
-			return sim, nil
+		if early && k%tailCheckEvery == 0 && !sim.watch.Pending() {
+			rows.step(next, x, s.B)
+			if sim.watch.Done(tb.bounds(x, next, final)) {
+				sim.stopped = true // samples k on are bounded: none is taken
+				return sim, nil
+			}
 		}
 		v := s.D
 		for i, c := range s.C {
@@ -403,9 +407,23 @@ type entry struct {
 	a float64
 }
 
+// nonzeros is an n×n matrix by the nonzero entries of each row.
+type nonzeros [][]entry
+
+// step sets dst = A x + b.
+func (r nonzeros) step(dst, x, b []float64) {
+	for i, row := range r {
+		acc := b[i]
+		for _, e := range row {
+			acc += e.a * x[e.j]
+		}
+		dst[i] = acc
+	}
+}
+
 // sparseRows lists the nonzero entries of each row of the n×n matrix a.
-func sparseRows(a []float64, n int) [][]entry {
-	rows := make([][]entry, n)
+func sparseRows(a []float64, n int) nonzeros {
+	rows := make(nonzeros, n)
 	for i := 0; i < n; i++ {
 		for j, v := range a[i*n : (i+1)*n] {
 			if v != 0 {
