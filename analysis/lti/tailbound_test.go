@@ -40,31 +40,11 @@ func TestEarlyStopKeepsFigures(t *testing.T) {
 	stopped := 0
 	for trial := 0; trial < 400; trial++ {
 		f := randomStable(rng)
-		s := Realize(f)
 		final := real(f.At(1))
-		r := 0.0
-		for _, p := range f.Poles {
-			r = math.Max(r, cmplx.Abs(p))
-		}
-		K, clamped := step.Horizon(s.N, r)
-		full := plainStep(s, K)
 		view := trial%2 == 0 // with and without the samples a view shows
-		sim, err := simulate(s, K, final, view)
-		if err != nil {
-			t.Fatal(err)
-		}
+		full, sim, b := compareEarlyStop(t, trial, f, final, view)
 		if sim.stopped {
 			stopped++
-		}
-		a, errA := step.FromSamples(full, 1, final, clamped)
-		b, errB := sim.result(1, final, clamped && !sim.stopped)
-		if errA != nil || errB != nil {
-			t.Fatal(errA, errB)
-		}
-		if a.SettlingS != b.SettlingS || a.RiseTimeS != b.RiseTimeS || a.Settled != b.Settled ||
-			math.Abs(a.OvershootPct-b.OvershootPct) > 100*step.OvershootSlack {
-			t.Fatalf("trial %d (%d of %d samples): full %+v\nearly %+v", trial, sim.watch.Samples(), len(full),
-				[]any{a.SettlingS, a.RiseTimeS, a.OvershootPct, a.Settled}, []any{b.SettlingS, b.RiseTimeS, b.OvershootPct, b.Settled})
 		}
 		if view {
 			keep := step.StepShown(int(b.SettlingS))
@@ -134,33 +114,43 @@ func TestEarlyStopSlowRealTails(t *testing.T) {
 		if math.Abs(final) < 1e-3 || math.IsInf(final, 0) {
 			continue
 		}
-		s := Realize(f)
-		r := 0.0
-		for _, p := range f.Poles {
-			r = math.Max(r, cmplx.Abs(p))
-		}
-		K, clamped := step.Horizon(s.N, r)
-		full := plainStep(s, K)
-		sim, err := simulate(s, K, final, false)
-		if err != nil {
-			t.Fatal(err)
-		}
+		_, sim, _ := compareEarlyStop(t, trial, f, final, false)
 		total++
 		if sim.stopped {
 			stopped++
-		}
-		a, errA := step.FromSamples(full, 1, final, clamped)
-		b, errB := sim.result(1, final, clamped && !sim.stopped)
-		if errA != nil || errB != nil {
-			t.Fatal(errA, errB)
-		}
-		if a.SettlingS != b.SettlingS || a.RiseTimeS != b.RiseTimeS || a.Settled != b.Settled ||
-			math.Abs(a.OvershootPct-b.OvershootPct) > 100*step.OvershootSlack {
-			t.Fatalf("trial %d (%d of %d samples): full %v\nearly %v", trial, sim.watch.Samples(), len(full),
-				[]any{a.SettlingS, a.RiseTimeS, a.OvershootPct, a.Settled}, []any{b.SettlingS, b.RiseTimeS, b.OvershootPct, b.Settled})
 		}
 	}
 	if stopped < total*3/4 {
 		t.Errorf("only %d of %d slow loops stopped early", stopped, total)
 	}
+}
+
+// compareEarlyStop simulates the step response of f with the early stop
+// and checks its figures against the full horizon's (plainStep): settling,
+// rise and Settled exactly, overshoot to step.OvershootSlack. It returns
+// the full samples, the simulation and its figures.
+func compareEarlyStop(t *testing.T, trial int, f Factored, final float64, view bool) ([]float64, simulation, step.Result) {
+	t.Helper()
+	s := Realize(f)
+	r := 0.0
+	for _, p := range f.Poles {
+		r = math.Max(r, cmplx.Abs(p))
+	}
+	K, clamped := step.Horizon(s.N, r)
+	full := plainStep(s, K)
+	sim, err := simulate(s, K, final, view)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, errA := step.FromSamples(full, 1, final, clamped)
+	b, errB := sim.result(1, final, clamped && !sim.stopped)
+	if errA != nil || errB != nil {
+		t.Fatal(errA, errB)
+	}
+	if a.SettlingS != b.SettlingS || a.RiseTimeS != b.RiseTimeS || a.Settled != b.Settled ||
+		math.Abs(a.OvershootPct-b.OvershootPct) > 100*step.OvershootSlack {
+		t.Fatalf("trial %d (%d of %d samples): full %v\nearly %v", trial, sim.watch.Samples(), len(full),
+			[]any{a.SettlingS, a.RiseTimeS, a.OvershootPct, a.Settled}, []any{b.SettlingS, b.RiseTimeS, b.OvershootPct, b.Settled})
+	}
+	return full, sim, b
 }
