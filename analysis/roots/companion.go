@@ -39,6 +39,9 @@ func Companion(p poly.Poly) (roots []complex128, ok bool) {
 	c, scale, wr, wi := h[:n*n], h[n*n:n*n+n], h[n*n+n:n*n+2*n], h[n*n+2*n:n*n+3*n]
 	for j := 0; j < n; j++ {
 		c[j] = -q[n-1-j] / q[n]
+		if c[j]-c[j] != 0 {
+			return nil, false // an infinite or NaN entry: LAPACK's balancing would never end
+		}
 	}
 	for i := 1; i < n; i++ {
 		c[i*n+i-1] = 1
