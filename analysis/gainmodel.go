@@ -9,6 +9,7 @@ import (
 	"ringside/analysis/freq"
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/lti"
+	"ringside/analysis/poly"
 )
 
 // MaxAffineDegree is the highest characteristic-polynomial degree for which
@@ -19,12 +20,21 @@ const MaxAffineDegree = 10
 
 // modelAt builds a loop's model with gain name set to k.
 func (c *checker) modelAt(l *Loop, name string, k float64) (*lti.Loop, bool) {
+	return c.modelScaled(l, name, k, 1)
+}
+
+// modelScaled builds the model of a loop with gain name set to k and L
+// multiplied by alpha.
+func (c *checker) modelScaled(l *Loop, name string, k, alpha float64) (*lti.Loop, bool) {
 	ev := c.base.sweep(name, k)
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
 	if !ok1 || !ok2 {
 		return nil, false
+	}
+	if alpha != 1 {
+		fwd = append(fwd, element{name: "raised", tf: poly.RConst(alpha), fac: lti.Const(alpha)})
 	}
 	m, err := model(fwd, fb, sh.positive)
 	return m, err == nil
@@ -109,8 +119,52 @@ const scalingTol = 1e-12
 
 // scalingForm returns, when gain name only scales loop l's L
 // (L(k) = (k/k1)·L(k1): a proportional gain, a gain block on the path), the
-// loop's model at k1 (k0, or 1 when k0 is 0).
+// loop's model at k1 (k0, or 1 when k0 is 0). Kept per loop and gain, like
+// affineForm.
 func (c *checker) scalingForm(l *Loop, name string, k0 float64) (*lti.Loop, float64, bool) {
+	key := scalingKey{l, name}
+	if f, ok := c.forms.Load(key); ok {
+		s := f.(scaling)
+		return s.m, s.k1, s.ok
+	}
+	var s scaling
+	if !c.affineForm(l, name, k0).notScaling(k0) {
+		s.m, s.k1, s.ok = c.fitScaling(l, name, k0)
+	}
+	c.forms.Store(key, s)
+	return s.m, s.k1, s.ok
+}
+
+type scalingKey formKey
+
+type scaling struct {
+	m  *lti.Loop
+	k1 float64
+	ok bool
+}
+
+// notScaleTol: an affine form whose constant numerator or gain-dependent
+// denominator is larger than this, relative to the rest, has a term that
+// k·L(1) lacks, far above the fit's AffineTolerance.
+const notScaleTol = 1e-4
+
+// notScaling reports whether an affine L = (numA + k·numB)/(denA + k·denB)
+// certainly does not scale with the gain. L(k) = k·R for every k forces
+// numA + k·numB = k·R·(denA + k·denB), so denB = 0 and numA = 0; a form
+// clearly violating that would fail fitScaling's comparison of two models
+// anyway, and two model builds are saved.
+func (f affineForm) notScaling(k0 float64) bool {
+	if !f.ok {
+		return false
+	}
+	h := math.Max(math.Abs(k0), 1)
+	num, den := maxAbs(f.numA)+h*maxAbs(f.numB), maxAbs(f.denA)+h*maxAbs(f.denB)
+	return maxAbs(f.numA) > notScaleTol*num || h*maxAbs(f.denB) > notScaleTol*den
+}
+
+// fitScaling compares the loop's models at k1 and 2·k1: L scales when the
+// second's gain is twice the first's and their poles and zeros agree.
+func (c *checker) fitScaling(l *Loop, name string, k0 float64) (*lti.Loop, float64, bool) {
 	k1 := k0
 	if k1 == 0 {
 		k1 = 1

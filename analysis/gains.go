@@ -164,10 +164,7 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 		return lim
 	}
 	lim.StableMin, lim.StableMax, lim.Exact, lim.CurrentStable, lim.Found = iv.Lo, iv.Hi, iv.Exact, iv.ContainsCurrent, iv.Found
-	if c.openOnCircle(g.Name, loops) {
-		snapZero(lim.StableMin, lim.StableMax)
-		snapZero(lim.StableMax, lim.StableMin)
-	}
+	c.snapEnds(g.Name, loops, lim.StableMin, lim.StableMax)
 	c.safeMax(g, loops, lim)
 	return lim
 }
@@ -278,39 +275,6 @@ func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
 	return lo
 }
 
-// marginBoundary returns, for a gain on which every loop's characteristic
-// polynomial is affine, the value where the required gain margin runs out:
-// GM ≥ r dB means the loop with L raised by r dB is still stable, so the
-// boundary is an end of the exact stable interval of that raised loop
-// (its upper end above the current value when the current value passes;
-// otherwise the upper end of the nearest raised-stable interval below).
-// It is a guess that the caller verifies: the margin convention (the
-// crossing nearest 0 dB) can differ on conditionally stable loops.
-func (c *checker) marginBoundary(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
-	if !lim.Exact {
-		return 0, false
-	}
-	best := math.Inf(1)
-	for _, l := range loops {
-		a, b, ok := c.affineScaled(l, name, k0, math.Pow(10, c.requiredGM(l)/20))
-		if !ok || max(a.Degree(), b.Degree()) > MaxAffineDegree {
-			return 0, false
-		}
-		iv, err := gainlimit.Affine(a, b, k0)
-		if err != nil || !iv.Found || iv.Hi == nil {
-			return 0, false
-		}
-		if !iv.ContainsCurrent && *iv.Hi > k0 {
-			return 0, false
-		}
-		best = math.Min(best, *iv.Hi)
-	}
-	if lim.StableMax != nil {
-		best = math.Min(best, *lim.StableMax)
-	}
-	return best, !math.IsInf(best, 1) && best != 0
-}
-
 func (c *checker) maxRequiredGM(loops []*Loop) float64 {
 	m := 0.0
 	for _, l := range loops {
@@ -337,17 +301,20 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 		lim.SafeMax = &v
 		return
 	}
-	if guess, found := c.marginBoundary(g.Name, k0, loops, lim); found {
+	raised := c.raised(g.Name, k0, loops)
+	if guess, found := raised.boundary(k0, lim); found {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if guess < 0 {
 			lo, hi = hi, lo
 		}
-		if ok(lo) && !ok(hi) {
+		// A raised loop unstable at hi already proves that hi misses the
+		// margin; the full check runs only when that is not shown.
+		if ok(lo) && (raised.fails(hi) || !ok(hi)) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
 	}
-	if ok(k0) {
+	if !raised.fails(k0) && ok(k0) {
 		hi := 0.0
 		if lim.StableMax != nil {
 			hi = *lim.StableMax
@@ -399,8 +366,8 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	}
 	sort.Sort(sort.Reverse(sort.Float64Slice(cands)))
 	for _, lo := range cands {
-		if lo <= floor || lo >= top {
-			continue
+		if lo <= floor || lo >= top || raised.fails(lo) {
+			continue // raised.fails: a full check would fail too
 		}
 		if ok(lo) {
 			fhi := math.NaN()
@@ -543,11 +510,23 @@ func (c *checker) openOnCircle(name string, loops []*Loop) bool {
 	return false
 }
 
-func snapZero(end, other *float64) {
-	if end == nil || other == nil {
-		return
+// snapEnds sets an end of the interval (lo, hi) of gain name to zero when
+// it lies within ZeroSnap of it and some loop has a pole on the circle at
+// zero. The eigenvalue check at zero runs only when an end is that close:
+// otherwise its answer changes nothing.
+func (c *checker) snapEnds(name string, loops []*Loop, lo, hi *float64) {
+	if (nearZero(lo, hi) || nearZero(hi, lo)) && c.openOnCircle(name, loops) {
+		snapZero(lo, hi)
+		snapZero(hi, lo)
 	}
-	if math.Abs(*end) <= ZeroSnap*math.Abs(*other-*end) {
+}
+
+func nearZero(end, other *float64) bool {
+	return end != nil && other != nil && math.Abs(*end) <= ZeroSnap*math.Abs(*other-*end)
+}
+
+func snapZero(end, other *float64) {
+	if nearZero(end, other) {
 		*end = 0
 	}
 }

@@ -65,86 +65,130 @@ const (
 // Should the inner test disagree with k0's own (a boundary lost to
 // rounding), Affine falls back to Numeric and reports Exact false.
 func Affine(a, b poly.Poly, k0 float64) (Interval, error) {
-	if !a.Finite() || !b.Finite() {
-		return Interval{}, fmt.Errorf("gainlimit: non-finite coefficient in a = %v or b = %v", []float64(a), []float64(b))
+	iv, _, err := AffineSpans(a, b, k0)
+	return iv, err
+}
+
+// AffineSpans is Affine, with the spans between consecutive candidates in
+// increasing order of k, each decided by SchurStable at an inner point (the
+// midpoint, or a step of max(1, |end|) beyond a single end, or k0 for the
+// whole line). The spans are nil when the interval came from the Numeric
+// fallback.
+func AffineSpans(a, b poly.Poly, k0 float64) (Interval, []Span, error) {
+	af, err := newAffine(a, b)
+	if err != nil {
+		return Interval{}, nil, err
 	}
 	if math.IsNaN(k0) || math.IsInf(k0, 0) {
-		return Interval{}, fmt.Errorf("gainlimit: current gain %v is not finite", k0)
+		return Interval{}, nil, fmt.Errorf("gainlimit: current gain %v is not finite", k0)
 	}
-	a, b = a.Trim(), b.Trim()
-	if len(b) == 0 {
-		return Interval{}, fmt.Errorf("gainlimit: b is the zero polynomial: the gain does not enter c(k)")
-	}
-	if len(a) == 0 && len(b) == 1 {
-		return Interval{}, fmt.Errorf("gainlimit: c(k) = k·%v has no roots to place", b[0])
-	}
-	c := func(k float64) poly.Poly { return a.Add(b.Scale(k)) }
-	deg := max(a.Degree(), b.Degree())
-	stableAt := func(k float64) (bool, error) {
-		p := c(k)
-		if p.Degree() < deg {
-			return false, nil // a root went to infinity (or every z is a root)
-		}
-		return SchurStable(p)
-	}
-	cands := affineCandidates(a, b)
-
-	s0, err := stableAt(k0)
+	spans, err := af.spans(k0)
 	if err != nil {
-		return Interval{}, err
+		return Interval{}, nil, err
 	}
-	// Intervals between candidates: index i is (cands[i-1], cands[i]).
-	type span struct {
-		lo, hi   *float64
-		stable   bool
-		distance float64
+	s0, err := af.stableAt(k0)
+	if err != nil {
+		return Interval{}, nil, err
 	}
-	var spans []span
-	for i := 0; i <= len(cands); i++ {
-		var lo, hi *float64
-		if i > 0 {
-			lo = ptr(cands[i-1])
+	distance := func(s Span) float64 {
+		switch {
+		case s.Lo != nil && k0 <= *s.Lo:
+			return *s.Lo - k0
+		case s.Hi != nil && k0 >= *s.Hi:
+			return k0 - *s.Hi
 		}
-		if i < len(cands) {
-			hi = ptr(cands[i])
-		}
-		st, err := stableAt(innerPoint(lo, hi, k0))
-		if err != nil {
-			return Interval{}, err
-		}
-		d := 0.0
-		if lo != nil && k0 <= *lo {
-			d = *lo - k0
-		}
-		if hi != nil && k0 >= *hi {
-			d = k0 - *hi
-		}
-		spans = append(spans, span{lo, hi, st, d})
+		return 0
 	}
 	if s0 {
 		for _, s := range spans {
-			if (s.lo == nil || *s.lo < k0) && (s.hi == nil || k0 < *s.hi) {
-				if !s.stable {
+			if (s.Lo == nil || *s.Lo < k0) && (s.Hi == nil || k0 < *s.Hi) {
+				if !s.Stable {
 					break // disagreement: fall back below
 				}
-				return Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: true, Found: true}, nil
+				return Interval{Lo: clone(s.Lo), Hi: clone(s.Hi), Exact: true, ContainsCurrent: true, Found: true}, spans, nil
 			}
 		}
-		iv, err := Numeric(func(k float64) (poly.Poly, error) { return c(k), nil }, k0)
+		iv, err := Numeric(func(k float64) (poly.Poly, error) { return af.at(k), nil }, k0)
 		iv.Exact = false
-		return iv, err
+		return iv, nil, err
 	}
 	best := -1
 	for i, s := range spans {
-		if s.stable && (best < 0 || s.distance < spans[best].distance) {
+		if s.Stable && (best < 0 || distance(s) < distance(spans[best])) {
 			best = i
 		}
 	}
 	if best < 0 {
-		return Interval{Exact: true}, nil
+		return Interval{Exact: true}, spans, nil
 	}
 	s := spans[best]
-	return Interval{Lo: s.lo, Hi: s.hi, Exact: true, Found: true}, nil
+	return Interval{Lo: clone(s.Lo), Hi: clone(s.Hi), Exact: true, Found: true}, spans, nil
+}
+
+// clone copies an end, so that an Interval never shares storage with spans.
+func clone(p *float64) *float64 {
+	if p == nil {
+		return nil
+	}
+	return ptr(*p)
+}
+
+// Span is an open interval of gains between consecutive boundaries of
+// c(k) = a + k·b (nil: unbounded), inside which stability is constant.
+type Span struct {
+	Lo, Hi *float64
+	Stable bool
+}
+
+// affine is a characteristic polynomial affine in the gain.
+type affine struct {
+	a, b poly.Poly
+	deg  int
+}
+
+func newAffine(a, b poly.Poly) (affine, error) {
+	if !a.Finite() || !b.Finite() {
+		return affine{}, fmt.Errorf("gainlimit: non-finite coefficient in a = %v or b = %v", []float64(a), []float64(b))
+	}
+	a, b = a.Trim(), b.Trim()
+	if len(b) == 0 {
+		return affine{}, fmt.Errorf("gainlimit: b is the zero polynomial: the gain does not enter c(k)")
+	}
+	if len(a) == 0 && len(b) == 1 {
+		return affine{}, fmt.Errorf("gainlimit: c(k) = k·%v has no roots to place", b[0])
+	}
+	return affine{a: a, b: b, deg: max(a.Degree(), b.Degree())}, nil
+}
+
+func (af affine) at(k float64) poly.Poly { return af.a.Add(af.b.Scale(k)) }
+
+func (af affine) stableAt(k float64) (bool, error) {
+	p := af.at(k)
+	if p.Degree() < af.deg {
+		return false, nil // a root went to infinity (or every z is a root)
+	}
+	return SchurStable(p)
+}
+
+func (af affine) spans(k0 float64) ([]Span, error) {
+	cands := affineCandidates(af.a, af.b)
+	spans := make([]Span, 0, len(cands)+1)
+	for i := 0; i <= len(cands); i++ {
+		var s Span
+		if i > 0 {
+			s.Lo = &cands[i-1]
+		}
+		if i < len(cands) {
+			s.Hi = &cands[i]
+		}
+		st, err := af.stableAt(innerPoint(s.Lo, s.Hi, k0))
+		if err != nil {
+			return nil, err
+		}
+		s.Stable = st
+		spans = append(spans, s)
+	}
+	return spans, nil
 }
 
 // innerPoint picks a test gain strictly inside (lo, hi): the midpoint, or a
