@@ -18,8 +18,8 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
-	"sort"
 
+	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 )
 
@@ -144,44 +144,37 @@ func distance(l complex128) float64 {
 	if cmplx.IsInf(l) {
 		return 0.5
 	}
-	if cmplx.Abs(l) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
+	if math.Max(math.Abs(real(l)), math.Abs(imag(l))) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
 		return 0.5 * cmplx.Abs((1/l-1)/(1/l+1))
 	}
-	return cmplx.Abs(1-l) / (2 * cmplx.Abs(1+l))
+	return math.Sqrt(sq(1-l)/sq(1+l)) / 2
 }
+
+// sq is |c|²; for parts of L within ±1e150 neither square overflows. A |1 + L| below
+// 1e-154 squares to 0 and reads as 1 + L = 0 on the circle.
+func sq(c complex128) float64 {
+	return real(c)*real(c) + imag(c)*imag(c)
+}
+
+// clusterReach is where a cluster stops: its gaps (half the offset, at
+// ratio 1.5) have grown to the uniform spacing π/GridPoints, so farther
+// out the uniform grid is the denser one.
+const clusterReach = 2 * math.Pi / GridPoints
 
 // walkGrid calls visit on the search grid in increasing order: GridPoints
 // uniform angles over [0, π] merged with geometric clusters around the
 // closed-loop poles within NearCircle of the circle (down to a 16th of the
 // pole's distance to it), points closer than 1e-14 rad merged.
 func walkGrid(poles []complex128, visit func(th float64)) {
-	var extra []float64
+	var clusters []anglegrid.Cluster
 	for _, p := range poles {
 		d := math.Abs(cmplx.Abs(p) - 1)
 		if d >= NearCircle {
 			continue
 		}
-		phi := math.Abs(cmplx.Phase(p))
-		extra = append(extra, phi)
-		for s := math.Max(d, 1e-12) / 16; s < 2*NearCircle; s *= 1.5 {
-			extra = append(extra, phi-s, phi+s)
-		}
+		clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(p)), Start: math.Max(d, 1e-12) / 16})
 	}
-	sort.Float64s(extra)
-	last := math.Inf(-1)
-	emit := func(th float64) {
-		if th < 0 || th > math.Pi || th-last < 1e-14 {
-			return
-		}
-		last = th
+	for _, th := range anglegrid.Build(nil, GridPoints, clusters, clusterReach, nil) {
 		visit(th)
-	}
-	j := 0
-	for i := 0; i <= GridPoints; i++ {
-		u := math.Pi * float64(i) / GridPoints
-		for ; j < len(extra) && extra[j] < u; j++ {
-			emit(extra[j])
-		}
-		emit(u)
 	}
 }

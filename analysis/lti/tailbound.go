@@ -25,10 +25,11 @@ type tailBound struct {
 // cost is n³ per squaring); larger models run the full horizon.
 const tailMaxOrder = 40
 
-// newTailBound builds the certificate for s, or reports false when it is
+// newTailBound builds the certificate for s (rows: A's nonzero entries,
+// sparseRows), or reports false when it is
 // not worth it or not available: order too high, I − A singular, or no
 // power of A below the horizon K contracts.
-func newTailBound(s System, K int) (*tailBound, bool) {
+func newTailBound(s System, rows [][]entry, K int) (*tailBound, bool) {
 	n := s.N
 	if n == 0 || n > tailMaxOrder {
 		return nil, false
@@ -61,8 +62,8 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		}
 		for i, c := range v {
 			if c != 0 {
-				for j, a := range s.A[i*n : (i+1)*n] {
-					w[j] += c * a
+				for _, e := range rows[i] {
+					w[e.j] += c * e.a
 				}
 			}
 		}
