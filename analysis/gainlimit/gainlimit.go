@@ -216,22 +216,8 @@ func affineCandidates(a, b poly.Poly) []float64 {
 		ks = append(ks, -coef(a, n)/bn)
 	}
 	thetas := []float64{0, math.Pi}
-	rec := func(p poly.Poly) poly.Poly {
-		r := make(poly.Poly, n+1)
-		for i := 0; i <= n; i++ {
-			r[i] = coef(p, n-i)
-		}
-		return r
-	}
-	q := a.Mul(rec(b)).Sub(rec(a).Mul(b))
-	if !negligible(q, a, b) {
-		if roots, ok := roots.Companion(q); ok {
-			for _, r := range roots {
-				if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
-					thetas = append(thetas, polishAngle(a, b, cmplx.Phase(r)))
-				}
-			}
-		}
+	for _, th := range circleAngles(a, b, n) {
+		thetas = append(thetas, polishAngle(a, b, th))
 	}
 	for _, th := range thetas {
 		z := cmplx.Rect(1, th)
@@ -254,6 +240,76 @@ func affineCandidates(a, b poly.Poly) []float64 {
 		out = append(out, k)
 	}
 	return out
+}
+
+// chebyshevMaxDegree: up to this n, circleAngles solves the reduced
+// polynomial in x = cos θ; the magnitudes of U_m's coefficients in powers
+// of x sum to about (1 + √2)^m, so beyond it the rounding they carry would
+// cost more digits than the full degree-2n companion does.
+const chebyshevMaxDegree = 16
+
+// circleAngles returns estimates of the angles θ in [0, π] where
+// Q(z) = a(z)b̃(z) − ã(z)b(z), b̃(z) = zⁿb(1/z), has a root e^{jθ} (within
+// circleRootTol of the circle); none when Q vanishes up to rounding.
+//
+// Q is anti-reciprocal: Q(z) = Σₘ cₘ (z^{n+m} − z^{n−m}) with cₘ = q[n+m],
+// so on the circle Q(e^{jθ}) = 2j·e^{jnθ}·sin θ·g(cos θ), where
+// g(x) = Σₘ cₘ U_{m−1}(x) (U the Chebyshev polynomials of the second kind:
+// sin mθ = sin θ·U_{m−1}(cos θ)). Its circle roots other than ±1 (θ = 0
+// and π are candidates anyway) are the roots of g in [−1, 1]: a problem
+// of degree n − 1 instead of 2n. A root of Q at radius e^{±ε} maps to
+// x = cos θ·cosh ε ∓ j·sin θ·sinh ε, so the gate |Im x| < circleRootTol,
+// |Re x| ≤ 1 + circleRootTol admits every root the gate on |z| would.
+func circleAngles(a, b poly.Poly, n int) []float64 {
+	rec := func(p poly.Poly) poly.Poly {
+		r := make(poly.Poly, n+1)
+		for i := 0; i <= n; i++ {
+			r[i] = coef(p, n-i)
+		}
+		return r
+	}
+	q := a.Mul(rec(b)).Sub(rec(a).Mul(b))
+	if negligible(q, a, b) {
+		return nil
+	}
+	var ths []float64
+	if n > chebyshevMaxDegree {
+		if rs, ok := roots.Companion(q); ok {
+			for _, r := range rs {
+				if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
+					ths = append(ths, cmplx.Phase(r))
+				}
+			}
+		}
+		return ths
+	}
+	g := make(poly.Poly, n)
+	prev, cur := poly.Poly{}, poly.Poly{1} // U₋₁ = 0, U₀ = 1
+	for m := 1; m <= n; m++ {
+		c := coef(q, n+m)
+		for i, v := range cur {
+			g[i] += c * v
+		}
+		// U_m = 2x·U_{m−1} − U_{m−2}
+		next := make(poly.Poly, len(cur)+1)
+		for i, v := range cur {
+			next[i+1] = 2 * v
+		}
+		for i, v := range prev {
+			next[i] -= v
+		}
+		prev, cur = cur, next
+	}
+	xs, ok := roots.Companion(g)
+	if !ok {
+		return nil
+	}
+	for _, x := range xs {
+		if math.Abs(imag(x)) < circleRootTol && math.Abs(real(x)) <= 1+circleRootTol {
+			ths = append(ths, math.Acos(math.Max(-1, math.Min(1, real(x)))))
+		}
+	}
+	return ths
 }
 
 // negligible reports whether q is zero up to rounding of the products a·b
