@@ -18,6 +18,17 @@ import (
 // the frequency-response and eigenvalue methods take over.
 const MaxAffineDegree = 10
 
+// evalAt is the evaluator with gain name set to k: the check's own when k
+// is the gain's value there (every block in scope is evaluated before the
+// loops, so it is only read, and gives what a sweep to k would compute),
+// else a sweep.
+func (c *checker) evalAt(name string, k float64) *evaluator {
+	if c.base.gain(name) == k {
+		return c.base
+	}
+	return c.base.sweep(name, k)
+}
+
 // modelAt builds a loop's model with gain name set to k.
 func (c *checker) modelAt(l *Loop, name string, k float64) (*lti.Loop, bool) {
 	return c.modelScaled(l, name, k, 1)
@@ -26,7 +37,7 @@ func (c *checker) modelAt(l *Loop, name string, k float64) (*lti.Loop, bool) {
 // modelScaled builds the model of a loop with gain name set to k and L
 // multiplied by alpha.
 func (c *checker) modelScaled(l *Loop, name string, k, alpha float64) (*lti.Loop, bool) {
-	ev := c.base.sweep(name, k)
+	ev := c.evalAt(name, k)
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)

@@ -34,7 +34,7 @@ type pendingFix struct {
 // loopAt evaluates a loop's characteristic polynomial and open loop with
 // gain name set to k.
 func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
-	return c.loopWith(l, c.base.sweep(name, k))
+	return c.loopWith(l, c.evalAt(name, k))
 }
 
 // loopWith evaluates a loop's characteristic polynomial and open loop with
@@ -499,12 +499,27 @@ const ZeroSnap = 1e-3
 // openOnCircle reports whether some loop has a closed-loop pole on the unit
 // circle with the gain set to zero.
 func (c *checker) openOnCircle(name string, loops []*Loop) bool {
-	for _, l := range loops {
-		_, ps, _ := c.decideAt(l, name, 0)
+	onCircle := func(ps []lti.Pole) bool {
 		for _, p := range ps {
 			if p.Place(c.env.Options.Tolerance) == lti.OnCircle {
 				return true
 			}
+		}
+		return false
+	}
+	for _, l := range loops {
+		// The common poles (a block pole matched by a zero: an integrator
+		// the gain at zero cuts out) are exact closed-loop poles; one on the
+		// circle answers without the eigenvalues of the rest.
+		m, ok := c.modelAt(l, name, 0)
+		if !ok {
+			continue
+		}
+		if onCircle(m.Common()) {
+			return true
+		}
+		if ps, err := m.Poles(); err == nil && onCircle(ps) {
+			return true
 		}
 	}
 	return false
