@@ -9,9 +9,8 @@ import (
 )
 
 // raisedGuard: a value closer than this (relative) to a boundary of a
-// raised loop's spans is never ruled out by the spans (the boundaries come
-// from an affine fit good to AffineTolerance, and its roots lose some
-// digits more).
+// raised loop's spans is not worth an eigenvalue check there (a pole is
+// then too near the circle for the check to call it outside).
 const raisedGuard = 1e-6
 
 // raisedLoops holds, for a gain on which every loop's characteristic
@@ -25,7 +24,10 @@ const raisedGuard = 1e-6
 // β in (1, 10^(r/20)), where β·L = −1: a phase crossing with a margin in
 // (0, r) dB, so GM < r. Hence a value at which a raised loop is unstable
 // cannot keep the margin. (The converse fails on conditionally stable
-// loops, so a boundary of the raised loops is only a guess to verify.)
+// loops, so a boundary of the raised loops is only a guess to verify.) A
+// value is ruled out only by an eigenvalue check of a raised loop's model
+// at that value (fails); the expanded polynomials only choose the guess
+// and where such a check is worth running.
 type raisedLoops struct {
 	c     *checker
 	name  string
@@ -34,16 +36,13 @@ type raisedLoops struct {
 	a, b  []poly.Poly // raised characteristic polynomial a + k·b per loop
 	iv    []gainlimit.Interval
 	spans [][]gainlimit.Span
-	// unstable caches the eigenvalue check of a span (loop, span index):
-	// true when the raised loop is certainly unstable inside it.
-	unstable map[[2]int]bool
 }
 
 // raised returns the raised loops, or nil when some loop's
 // characteristic polynomial is not affine in the gain or above
 // MaxAffineDegree.
 func (c *checker) raised(name string, k0 float64, loops []*Loop) *raisedLoops {
-	r := &raisedLoops{c: c, name: name, loops: loops, unstable: map[[2]int]bool{}}
+	r := &raisedLoops{c: c, name: name, loops: loops}
 	for _, l := range loops {
 		alpha := math.Pow(10, c.requiredGM(l)/20)
 		a, b, ok := c.affineScaled(l, name, k0, alpha)
@@ -87,31 +86,49 @@ func (r *raisedLoops) boundary(k0 float64, lim *GainLimits) (float64, bool) {
 	return best, !math.IsInf(best, 1) && best != 0
 }
 
-// fails reports whether k provably misses the required gain margin
-// because some raised loop is unstable there: k lies inside one of its
-// spans, clear of the ends, whose instability an eigenvalue check has
-// confirmed, and the Schur–Cohn test of the raised polynomial at k itself
-// agrees (so a boundary lost between the span's ends cannot hide a
-// stable stretch). False means "not ruled out", never "meets".
+// fails reports whether k provably misses the required gain margin: some
+// raised loop is certainly unstable at k by the eigenvalues of its model,
+// built from its blocks like every trial model. The spans and the
+// Schur–Cohn test of the expanded raised polynomial only choose where
+// that check is worth running: the expanded polynomial loses its roots'
+// accuracy when poles cluster (a double plant pole squared beside an
+// integrator), so it decides nothing by itself. False means "not ruled
+// out", never "meets".
 func (r *raisedLoops) fails(k float64) bool {
 	if r == nil {
 		return false
 	}
 	for i := range r.loops {
-		j := spanAt(r.spans[i], k)
-		if j < 0 || r.spans[i][j].Stable || !r.spanUnstable(i, j) {
+		if !r.likelyUnstable(i, k) {
 			continue
 		}
-		p := r.a[i].Add(r.b[i].Scale(k))
-		deg := max(r.a[i].Degree(), r.b[i].Degree())
-		if p.Degree() < deg {
-			return true // a root went to infinity
+		m, ok := r.c.modelScaled(r.loops[i], r.name, k, r.alpha[i])
+		if !ok {
+			continue
 		}
-		if st, err := gainlimit.SchurStable(p); err == nil && !st {
-			return true
+		if ps, err := m.Poles(); err == nil {
+			if v, _ := lti.Decide(ps, r.c.env.Options.Tolerance); v == lti.Unstable {
+				return true
+			}
 		}
 	}
 	return false
+}
+
+// likelyUnstable reports whether raised loop i looks unstable at k on its
+// expanded polynomial: k inside an unstable span, clear of its ends, and
+// Schur–Cohn agreeing at k itself.
+func (r *raisedLoops) likelyUnstable(i int, k float64) bool {
+	j := spanAt(r.spans[i], k)
+	if j < 0 || r.spans[i][j].Stable {
+		return false
+	}
+	p := r.a[i].Add(r.b[i].Scale(k))
+	if p.Degree() < max(r.a[i].Degree(), r.b[i].Degree()) {
+		return true // a root went to infinity
+	}
+	st, err := gainlimit.SchurStable(p)
+	return err == nil && !st
 }
 
 // spanAt is the index of the span holding k clear of its ends, or -1.
@@ -126,26 +143,4 @@ func spanAt(spans []gainlimit.Span, k float64) int {
 		return j
 	}
 	return -1
-}
-
-// spanUnstable checks span j of loop i once: the raised loop, built from
-// its blocks like every trial model, is certainly unstable at the span's
-// midpoint (or a step beyond its single end).
-func (r *raisedLoops) spanUnstable(i, j int) bool {
-	key := [2]int{i, j}
-	if v, ok := r.unstable[key]; ok {
-		return v
-	}
-	s := r.spans[i][j]
-	k := inner(s.Lo, s.Hi, 0.5)
-	m, ok := r.c.modelScaled(r.loops[i], r.name, k, r.alpha[i])
-	v := false
-	if ok {
-		if ps, err := m.Poles(); err == nil {
-			verdict, _ := lti.Decide(ps, r.c.env.Options.Tolerance)
-			v = verdict == lti.Unstable
-		}
-	}
-	r.unstable[key] = v
-	return v
 }

@@ -307,9 +307,7 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 		if guess < 0 {
 			lo, hi = hi, lo
 		}
-		// A raised loop unstable at hi already proves that hi misses the
-		// margin; the full check runs only when that is not shown.
-		if ok(lo) && (raised.fails(hi) || !ok(hi)) {
+		if ok(lo) && !ok(hi) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
