@@ -61,3 +61,44 @@ func TestRaisedLoopBoundsTheMargin(t *testing.T) {
 		t.Fatalf("only %d of %d pairs are stable and unstable when raised: the corpus does not exercise the claim", exercised, n)
 	}
 }
+
+// TestSafeValueWithClusteredPoles: the plant's double pole near z = 1,
+// squared in the second loop beside the controller's integrator, puts five
+// closed-loop poles close together, where the expanded characteristic
+// polynomial cannot place its roots. The current value of ki is unstable;
+// values below it keep 6 dB in both loops, so a safe value exists, and the
+// loops checked again at it (rounded down, as the fix offers it) keep the
+// margin.
+func TestSafeValueWithClusteredPoles(t *testing.T) {
+	src := `sample 1 ms
+block d = z^-1
+gain kp = 0.0794606
+gain ki = %s
+block c = kp + ki * 0.001 * z / (z - 1)
+block p = 1388.9 * (s/3.71908 + 1)^2 / ((s + 0.557862)^2 (s + 11.1572)) via zoh
+loop one {
+  forward c p
+  feedback d
+}
+loop two {
+  forward c p p
+  feedback d
+}
+`
+	opt := DefaultOptions()
+	opt.NoStepSamples = true
+	check := func(ki string) *Result {
+		return Check(context.Background(), "/t/cluster.loop", []byte(fmt.Sprintf(src, ki)), Env{Roots: []string{"/t"}, Options: opt})
+	}
+	res := check("2.62577")
+	lim := res.Gains[1].Limits
+	if res.Gains[1].Name != "ki" || lim == nil || lim.SafeMax == nil {
+		t.Fatalf("no safe value for ki: %+v", lim)
+	}
+	v := roundDown(*lim.SafeMax)
+	for _, l := range check(fmtNum(v)).Loops {
+		if gm := l.Margins.GainMarginDB; !l.Stable || gm == nil || *gm < 6 {
+			t.Errorf("ki = %s: loop %s stable %v, gain margin %v dB", fmtNum(v), l.Name, l.Stable, fmtPtr(gm))
+		}
+	}
+}
