@@ -363,8 +363,8 @@ func (c *checker) numericInterval(name string, k0 float64, loops []*Loop) (gainl
 // so each crossing of each loop meets its requirement exactly at
 // k0·10^((GM − required)/20). The candidates are tried from the largest
 // down, each verified by a full check just below (passes) and just above
-// (fails).
-func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
+// (fails; or a raised loop unstable there, which proves it).
+func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *GainLimits, raised *raisedLoops) (float64, bool) {
 	if !(k0 > 0) {
 		return 0, false
 	}
@@ -383,7 +383,7 @@ func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *Ga
 			continue
 		}
 		lo, hi := k*(1-SafeMaxTolerance/4), k*(1+SafeMaxTolerance/4)
-		if c.meets(name, lo, loops) && !c.meets(name, hi, loops) {
+		if c.meets(name, lo, loops) && (raised.fails(hi) || !c.meets(name, hi, loops)) {
 			return lo, true
 		}
 	}

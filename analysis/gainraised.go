@@ -2,10 +2,12 @@ package analysis
 
 import (
 	"math"
+	"math/cmplx"
 
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/lti"
 	"ringside/analysis/poly"
+	"ringside/analysis/roots"
 )
 
 // raisedGuard: a value closer than this (relative) to a boundary of a
@@ -34,6 +36,7 @@ type raisedLoops struct {
 	loops []*Loop
 	alpha []float64
 	a, b  []poly.Poly // raised characteristic polynomial a + k·b per loop
+	forms []affineForm
 	iv    []gainlimit.Interval
 	spans [][]gainlimit.Span
 }
@@ -54,6 +57,7 @@ func (c *checker) raised(name string, k0 float64, loops []*Loop) *raisedLoops {
 			return nil
 		}
 		r.alpha = append(r.alpha, alpha)
+		r.forms = append(r.forms, c.affineForm(l, name, k0))
 		r.a, r.b = append(r.a, a), append(r.b, b)
 		r.iv, r.spans = append(r.iv, iv), append(r.spans, spans)
 	}
@@ -87,13 +91,14 @@ func (r *raisedLoops) boundary(k0 float64, lim *GainLimits) (float64, bool) {
 }
 
 // fails reports whether k provably misses the required gain margin: some
-// raised loop is certainly unstable at k by the eigenvalues of its model,
-// built from its blocks like every trial model. The spans and the
-// Schur–Cohn test of the expanded raised polynomial only choose where
-// that check is worth running: the expanded polynomial loses its roots'
-// accuracy when poles cluster (a double plant pole squared beside an
-// integrator), so it decides nothing by itself. False means "not ruled
-// out", never "meets".
+// raised loop certainly has a pole outside the circle at k, by a root of
+// its polynomial whose first-order error bound keeps it outside
+// (rootOutside), else by the eigenvalues of its model, built from its
+// blocks like every trial model. The spans and the Schur–Cohn test of the
+// expanded polynomial only choose where a check is worth running: the
+// expanded polynomial loses its roots' accuracy when poles cluster (a
+// double plant pole squared beside an integrator), so it decides nothing
+// by itself. False means "not ruled out", never "meets".
 func (r *raisedLoops) fails(k float64) bool {
 	if r == nil {
 		return false
@@ -102,14 +107,75 @@ func (r *raisedLoops) fails(k float64) bool {
 		if !r.likelyUnstable(i, k) {
 			continue
 		}
-		m, ok := r.c.modelScaled(r.loops[i], r.name, k, r.alpha[i])
-		if !ok {
+		if r.rootOutside(i, k) || r.eigOutside(i, k) {
+			return true
+		}
+	}
+	return false
+}
+
+// eigOutside: the raised loop's model at k has a pole certainly outside
+// the circle: its radius less its bound is beyond 1 + tolerance, or beyond
+// 1 by twice its bound. (The tolerance is the band in which a reported
+// pole counts as on the circle; proving an auxiliary loop unstable needs
+// only the bound, and the factor two keeps the margin the pole implies
+// far above the gain margin's own accuracy.)
+func (r *raisedLoops) eigOutside(i int, k float64) bool {
+	m, ok := r.c.modelScaled(r.loops[i], r.name, k, r.alpha[i])
+	if !ok {
+		return false
+	}
+	ps, err := m.Poles()
+	if err != nil {
+		return false
+	}
+	for _, p := range ps {
+		if p.Place(r.c.env.Options.Tolerance) == lti.Outside || cmplx.Abs(p.Z)-2*p.Bound > 1 {
+			return true
+		}
+	}
+	return false
+}
+
+// rootOutside: a root z of the raised polynomial p = a + k·b lies outside
+// the circle by more than the tolerance and its error bound. The bound is
+// first order, as for the eigenvalues (Wilkinson, Rounding Errors in
+// Algebraic Processes, ch. 2: a simple root moves by δp(z)/p'(z)): twice
+// (|p(z)| + e·Σ|z|^m)/|p'(z)|, with e the affine fit's coefficient error
+// at k (affineForm.errAt) and |p(z)| the root finder's residual; it must
+// stay below a quarter of the distance to the next root, else the root is
+// in a cluster and nothing is claimed.
+func (r *raisedLoops) rootOutside(i int, k float64) bool {
+	p := r.a[i].Add(r.b[i].Scale(k)).Trim()
+	if p.Degree() < 1 {
+		return false
+	}
+	zs, ok := roots.Companion(p)
+	if !ok {
+		return false
+	}
+	e := r.forms[i].errAt(k, r.alpha[i])
+	dp := p.Deriv()
+	tol := r.c.env.Options.Tolerance
+	for j, z := range zs {
+		az := cmplx.Abs(z)
+		if az <= 1+tol {
 			continue
 		}
-		if ps, err := m.Poles(); err == nil {
-			if v, _ := lti.Decide(ps, r.c.env.Options.Tolerance); v == lti.Unstable {
-				return true
+		d := cmplx.Abs(dp.EvalC(z))
+		sum, pw := 0.0, 1.0
+		for range p {
+			sum, pw = sum+pw, pw*az
+		}
+		bound := 2 * (cmplx.Abs(p.EvalC(z)) + e*sum) / d
+		sep := math.Inf(1)
+		for m, w := range zs {
+			if m != j {
+				sep = math.Min(sep, cmplx.Abs(z-w))
 			}
+		}
+		if bound < sep/4 && az-bound > 1+tol {
+			return true
 		}
 	}
 	return false

@@ -64,6 +64,18 @@ func (c *checker) affineScaled(l *Loop, name string, k0, alpha float64) (a, b po
 type affineForm struct {
 	numA, numB, denA, denB poly.Poly
 	ok                     bool
+	// k0, h: the fit's centre and width; numScale, denScale: the largest
+	// coefficient of num and den over its four values (the check's scale).
+	k0, h              float64
+	numScale, denScale float64
+}
+
+// errAt bounds the error of each coefficient of den + alpha·num at k: the fit agrees with the evaluated polynomials to
+// AffineTolerance of their scale at four values spread over a width h
+// around k0, and an affine function's error grows at most linearly away
+// from them (by the distance over the closest pair's spacing, 0.37·h).
+func (f affineForm) errAt(k, alpha float64) float64 {
+	return AffineTolerance * (f.denScale + math.Abs(alpha)*f.numScale) * (1 + math.Abs(k-f.k0)/(0.37*f.h))
 }
 
 type formKey struct {
@@ -95,24 +107,23 @@ func (c *checker) fitAffine(l *Loop, name string, k0 float64) affineForm {
 		}
 		nums, dens = append(nums, open.Num), append(dens, open.Den)
 	}
-	line := func(ps []poly.Poly) (a, b poly.Poly, ok bool) {
+	line := func(ps []poly.Poly) (a, b poly.Poly, scale float64, ok bool) {
 		b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
 		a = ps[0].Sub(b.Scale(k0))
-		scale := 0.0
 		for _, p := range ps {
 			scale = math.Max(scale, maxAbs(p))
 		}
 		for i := 2; i < len(ks); i++ {
 			if !a.Add(b.Scale(ks[i]-k0)).Add(b.Scale(k0)).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
-				return nil, nil, false
+				return nil, nil, 0, false
 			}
 		}
-		return a, b, true
+		return a, b, scale, true
 	}
-	var f affineForm
+	f := affineForm{k0: k0, h: h}
 	var ok1, ok2 bool
-	f.numA, f.numB, ok1 = line(nums)
-	f.denA, f.denB, ok2 = line(dens)
+	f.numA, f.numB, f.numScale, ok1 = line(nums)
+	f.denA, f.denB, f.denScale, ok2 = line(dens)
 	f.ok = ok1 && ok2
 	return f
 }
@@ -297,17 +308,19 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
 	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
 	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
-	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim); found {
+	raised := c.raised(g.Name, k0, loops)
+	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim, raised); found {
 		lim.SafeMax = &v
 		return
 	}
-	raised := c.raised(g.Name, k0, loops)
 	if guess, found := raised.boundary(k0, lim); found {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if guess < 0 {
 			lo, hi = hi, lo
 		}
-		if ok(lo) && !ok(hi) {
+		// A raised loop unstable at hi already proves that hi misses the
+		// margin; the full check runs only when that is not shown.
+		if ok(lo) && (raised.fails(hi) || !ok(hi)) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
