@@ -241,11 +241,14 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	}
 	l.OK = true
 	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
-	m, err := mod.Margins(c.res.SampleT, poles)
+	resp, respErr := mod.Response(c.res.SampleT, poles)
+	err = respErr
+	if err == nil {
+		l.Margins, err = resp.Margins(c.res.SampleT)
+	}
 	if err != nil {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
-	l.Margins = m
 	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
 		stepOf := mod.Step
 		if c.env.Options.NoStepSamples {
@@ -259,7 +262,7 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 		}
 	}
 	if c.wants(sh.reqs, "disk_margin") {
-		c.diskMargin(l)
+		c.diskMargin(l, resp, respErr)
 	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)

@@ -10,22 +10,17 @@
 // [(1 − α/2)/(1 + α/2), (1 + α/2)/(1 − α/2)] and phases within ±2·atan(α/2).
 // For a real L, |S| is even in θ, so [0, π] covers the whole circle.
 //
-// The package takes L as a function of the angle, so any evaluation of the
-// loop (coefficients, factored blocks, a state-space form) plugs in.
+// The package finds the peak of |S − 1/2| sampled on a grid the caller
+// evaluated (package freq samples each loop once, on the grid its margins
+// use, for the margins, the peak sensitivity and the disk margin).
 package diskmargin
 
 import (
 	"errors"
 	"math"
-	"math/cmplx"
 
-	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 )
-
-// Response returns L(e^{jθ}) at θ rad/sample, 0 ≤ θ ≤ π. It may return an
-// infinite value at a pole of L on the unit circle (S = 0 there).
-type Response func(theta float64) complex128
 
 // Margin is a symmetric disk margin.
 type Margin struct {
@@ -42,19 +37,7 @@ type Margin struct {
 }
 
 const (
-	// GridPoints is the uniform part of the search grid over [0, π]. The
-	// peak of |S − 1/2| is a resonance of the closed loop; a closed-loop
-	// pole at distance d from the circle gives a peak of width about d, so
-	// the grid is refined geometrically around poles within NearCircle of
-	// the circle (down to d/16), and 512 uniform points cover the rest:
-	// every other pole lies at least NearCircle = 0.2 from the circle, so
-	// its features are at least about 0.2 rad wide, some 30 grid steps
-	// (π/512 ≈ 0.006 rad) across.
-	GridPoints = 512
-	// NearCircle: closed-loop poles with ||p| − 1| below it get extra grid
-	// points around their angle.
-	NearCircle = 0.2
-	// AngleTol is the width in rad/sample to which golden-section search
+	// AngleTol is the width in rad/sample (plus √ε relative) to which Brent's method
 	// narrows each local maximum of the grid. At a smooth maximum the value
 	// errs by the square of the angle error times the curvature, so the
 	// peak (and alpha) is found to far better than 1e-9 relative.
@@ -70,25 +53,27 @@ var ErrOnCircle = errors.New("diskmargin: 1 + L vanishes on the unit circle")
 // it, so there is no finite alpha.
 var ErrUnbounded = errors.New("diskmargin: L = 1 at every frequency, the disk margin is unbounded")
 
-// Compute returns the disk margin of L. closedPoles are the closed-loop
-// poles (the grid is refined near those close to the circle); the caller
-// must know the loop to be stable, since alpha says nothing otherwise.
-// The grid is walked with a window of three points, so a check of many
-// loops allocates next to nothing here.
-func Compute(L Response, closedPoles []complex128) (Margin, error) {
-	f := func(th float64) float64 { return distance(L(th)) }
-	var th, v [3]float64 // the last three grid points, oldest first
-	n := 0
+// FromGrid returns the disk margin from |S − 1/2| sampled on a sorted grid
+// of angles over [0, π] (vals[i] at grid[i]) dense enough to bracket its
+// peak, with f evaluating |S − 1/2| anywhere (DistanceND): each local
+// maximum of the samples is refined by Brent's method between its
+// neighbours, to AngleTol. The margins' own grid (package freq) serves, so
+// a loop's response is evaluated once for both.
+func FromGrid(grid, vals []float64, f func(float64) float64) (Margin, error) {
 	best, bestTh := -1.0, 0.0
-	// peak considers the middle point of the window (or an end of the
-	// grid) as a local maximum and refines it.
-	peak := func(i int, interior bool) {
-		if interior && (v[i] < v[i-1] || v[i] < v[i+1] || v[i] == v[i-1] && v[i] == v[i+1]) {
-			return // not a local maximum, or a flat stretch (nothing to refine)
+	last := len(grid) - 1
+	for i, v := range vals {
+		if math.IsInf(v, 1) || math.IsNaN(v) {
+			return Margin{}, ErrOnCircle
 		}
-		t, val := th[i], v[i]
-		if interior {
-			if u := search.GoldenMax(f, th[i-1], th[i+1], AngleTol); f(u) > val {
+		left := i == 0 || v >= vals[i-1]
+		right := i == last || v >= vals[i+1]
+		if !left || !right || i > 0 && i < last && v == vals[i-1] && v == vals[i+1] {
+			continue // not a local maximum, or a flat stretch (nothing to refine)
+		}
+		t, val := grid[i], v
+		if i > 0 && i < last {
+			if u := search.BrentMax(f, grid[i-1], grid[i+1], AngleTol); f(u) > val {
 				t, val = u, f(u)
 			}
 		}
@@ -96,29 +81,10 @@ func Compute(L Response, closedPoles []complex128) (Margin, error) {
 			best, bestTh = val, t
 		}
 	}
-	bad := false
-	walkGrid(closedPoles, func(t float64) {
-		val := f(t)
-		if math.IsInf(val, 1) || math.IsNaN(val) {
-			bad = true
-		}
-		th[0], th[1], th[2] = th[1], th[2], t
-		v[0], v[1], v[2] = v[1], v[2], val
-		n++
-		switch {
-		case n == 2 && v[1] >= v[2]: // θ = 0, the first point
-			peak(1, false)
-		case n >= 3:
-			peak(1, true)
-		}
-	})
-	if n >= 2 && v[2] >= v[1] { // θ = π, the last point
-		peak(2, false)
+	if best < 0 && len(vals) > 0 { // flat everywhere: any point is the peak
+		best, bestTh = vals[last], grid[last]
 	}
-	if best < 0 && n > 0 { // flat everywhere: any point is the peak
-		best, bestTh = v[2], th[2]
-	}
-	if bad || math.IsInf(best, 1) || math.IsNaN(best) {
+	if math.IsInf(best, 1) || math.IsNaN(best) {
 		return Margin{}, ErrOnCircle
 	}
 	if best == 0 {
@@ -138,43 +104,29 @@ func FromAlpha(alpha, peakTheta float64) Margin {
 	return m
 }
 
-// distance is |S − 1/2| = |1 − L| / (2|1 + L|), written so that a pole of L
-// on the circle (L infinite, S = 0) gives 1/2.
-func distance(l complex128) float64 {
-	if cmplx.IsInf(l) {
-		return 0.5
+// DistanceND is |S − 1/2| for L = N/D given apart: |D − N| / (2|D + N|),
+// which is 1/2 at a pole of L (D = 0) and +Inf where 1 + L = 0. N and D
+// are first scaled together by a power of two so that their squares
+// neither overflow nor underflow.
+func DistanceND(n, d complex128) float64 {
+	a, b := d-n, d+n
+	if m := math.Max(maxPart(a), maxPart(b)); m > 0x1p500 || m < 0x1p-500 {
+		if m == 0 {
+			return math.NaN() // N = D = 0: no value
+		}
+		_, e := math.Frexp(m)
+		a, b = ldexpC(a, -e), ldexpC(b, -e)
 	}
-	if math.Max(math.Abs(real(l)), math.Abs(imag(l))) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
-		return 0.5 * cmplx.Abs((1/l-1)/(1/l+1))
-	}
-	return math.Sqrt(sq(1-l)/sq(1+l)) / 2
+	return math.Sqrt(sq(a)/sq(b)) / 2
 }
 
-// sq is |c|²; for parts of L within ±1e150 neither square overflows. A |1 + L| below
-// 1e-154 squares to 0 and reads as 1 + L = 0 on the circle.
+func maxPart(c complex128) float64 { return math.Max(math.Abs(real(c)), math.Abs(imag(c))) }
+
+func ldexpC(c complex128, e int) complex128 {
+	return complex(math.Ldexp(real(c), e), math.Ldexp(imag(c), e))
+}
+
+// sq is |c|².
 func sq(c complex128) float64 {
 	return real(c)*real(c) + imag(c)*imag(c)
-}
-
-// clusterReach is where a cluster stops: its gaps (half the offset, at
-// ratio 1.5) have grown to the uniform spacing π/GridPoints, so farther
-// out the uniform grid is the denser one.
-const clusterReach = 2 * math.Pi / GridPoints
-
-// walkGrid calls visit on the search grid in increasing order: GridPoints
-// uniform angles over [0, π] merged with geometric clusters around the
-// closed-loop poles within NearCircle of the circle (down to a 16th of the
-// pole's distance to it), points closer than 1e-14 rad merged.
-func walkGrid(poles []complex128, visit func(th float64)) {
-	var clusters []anglegrid.Cluster
-	for _, p := range poles {
-		d := math.Abs(cmplx.Abs(p) - 1)
-		if d >= NearCircle {
-			continue
-		}
-		clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(p)), Start: math.Max(d, 1e-12) / 16})
-	}
-	for _, th := range anglegrid.Build(nil, GridPoints, clusters, clusterReach, nil) {
-		visit(th)
-	}
 }

@@ -21,6 +21,7 @@ import (
 	"math/cmplx"
 	"sort"
 
+	"ringside/analysis/diskmargin"
 	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 	"ringside/analysis/poly"
@@ -62,7 +63,7 @@ const (
 	// are located: far below any plotting or reporting resolution while
 	// still above the ~1e-16·π spacing of float64 angles near π.
 	RootTolRad = 1e-12
-	// TouchTol: a grid minimum of |g| (or |h|) that golden-section refines to
+	// TouchTol: a grid minimum of |g| (or |h|) that Brent's method refines to
 	// at most TouchTol times the size of its terms (|N||D|, resp.
 	// |N|² + |D|²) is a tangential touch and counts as a crossing. Rounding
 	// of the Horner evaluations alone is ~1e-15 of that size; a smaller
@@ -91,7 +92,7 @@ const (
 	// so 32 points per degree put about 16 grid points per root on average;
 	// roots closer than a grid cell sit near a pole or zero close to the
 	// circle, where the grid is refined geometrically, or are caught as a
-	// dip of |f| between two larger neighbours (golden-section refinement).
+	// dip of |f| between two larger neighbours (refined by Brent's method).
 	// The scipy cross-check (240 loops) and the structure cross-check find
 	// the same crossings as with 128 points per degree, at a quarter of
 	// the evaluations.
@@ -123,11 +124,49 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 	return lp.margins(T)
 }
 
+// Sampled is a loop's response on its search grid, evaluated once: the
+// margins and the disk margin both read it.
+type Sampled struct {
+	lp   loop
+	grid []float64
+	pts  gridValues
+}
+
+// SampleFactors evaluates the loop given by its factors on its search grid
+// (errors as ComputeFactors).
+func SampleFactors(f Factors, T float64) (*Sampled, error) {
+	lp, err := factorLoop(f, T)
+	if err != nil {
+		return nil, err
+	}
+	grid := lp.grid()
+	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid)}, nil
+}
+
+// Margins computes every margin of the sampled loop (see Compute).
+func (s *Sampled) Margins(T float64) (Margins, error) {
+	return s.lp.marginsOn(s.grid, s.pts, T)
+}
+
+// DiskMargin is the symmetric disk margin of the sampled loop
+// (diskmargin.FromGrid on the same grid: its clusters around the
+// closed-loop poles near the circle are those the disk margin's peaks
+// need). The caller must know the loop to be stable.
+func (s *Sampled) DiskMargin() (diskmargin.Margin, error) {
+	return diskmargin.FromGrid(s.grid, s.pts.disk, func(th float64) float64 {
+		return diskmargin.DistanceND(s.lp.eval(th))
+	})
+}
+
 // margins computes every margin of lp (see Compute).
 func (lp loop) margins(T float64) (Margins, error) {
-	var m Margins
 	grid := lp.grid()
-	pts := lp.evalGrid(grid)
+	return lp.marginsOn(grid, lp.evalGrid(grid), T)
+}
+
+// marginsOn computes every margin of lp from its values on the grid.
+func (lp loop) marginsOn(grid []float64, pts gridValues, T float64) (Margins, error) {
+	var m Margins
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
 
 	m.PhaseCrossings = lp.phaseCrossings(grid, pts.g, pts.gScale, T)
@@ -430,21 +469,33 @@ func (l loop) unitOnCircle() bool {
 // gridValues holds the functions the crossing and peak searches need at
 // every grid point, from one evaluation of N and D there.
 type gridValues struct {
-	g, gScale, h, hScale, sens []float64
+	g, gScale, h, hScale, sens, disk []float64
 }
 
 func (l loop) evalGrid(grid []float64) gridValues {
 	n := len(grid)
-	all := make([]float64, 5*n) // one allocation for the five series
-	v := gridValues{all[:n:n], all[n : 2*n : 2*n], all[2*n : 3*n : 3*n], all[3*n : 4*n : 4*n], all[4*n:]}
+	all := make([]float64, 6*n) // one allocation for the six series
+	part := func(i int) []float64 { return all[i*n : (i+1)*n : (i+1)*n] }
+	v := gridValues{part(0), part(1), part(2), part(3), part(4), part(5)}
 	for i, th := range grid {
 		N, D := l.eval(th)
 		nn, dd := sq(N), sq(D)
 		v.g[i] = imag(N * cmplx.Conj(D))
-		v.gScale[i] = fastAbs(N, nn) * fastAbs(D, dd)
 		v.h[i] = nn - dd
 		v.hScale[i] = nn + dd
-		v.sens[i] = fastAbs(D, dd) / fastAbs(N+D, sq(N+D))
+		sum, diff := sq(N+D), sq(D-N)
+		if normal(nn) && normal(dd) && normal(sum) && normal(diff) {
+			// Every square is a normal number: one rounding per root, the
+			// same values as the careful forms below, at half the work.
+			an, ad := math.Sqrt(nn), math.Sqrt(dd)
+			v.gScale[i] = an * ad
+			v.sens[i] = ad / math.Sqrt(sum)
+			v.disk[i] = math.Sqrt(diff/sum) / 2
+			continue
+		}
+		v.gScale[i] = fastAbs(N, nn) * fastAbs(D, dd)
+		v.sens[i] = fastAbs(D, dd) / fastAbs(N+D, sum)
+		v.disk[i] = diskmargin.DistanceND(N, D)
 	}
 	return v
 }
@@ -453,11 +504,15 @@ func (l loop) evalGrid(grid []float64) gridValues {
 // lost precision to underflow (√ of a normal number: one rounding), and
 // the careful cmplx.Abs otherwise: the grid evaluates it thousands of times.
 func fastAbs(c complex128, s float64) float64 {
-	if s > 0x1p-1000 && s < 0x1p1000 {
+	if normal(s) {
 		return math.Sqrt(s)
 	}
 	return cmplx.Abs(c)
 }
+
+// normal reports a square that neither overflowed nor lost precision to
+// underflow.
+func normal(s float64) bool { return s > 0x1p-1000 && s < 0x1p1000 }
 
 // grid also records the roots of N + D, which the peak search needs.
 func (l *loop) grid() []float64 {
@@ -515,7 +570,7 @@ func (l *loop) nearRoots() [][]complex128 {
 // within NoiseTol·scale of zero count as zero, and a run of such points is
 // one root (at its smallest |f|); sign changes between nonzero neighbours
 // are bisected; a grid minimum of |f| between two larger same-signed
-// neighbours is refined by golden section: if the refined |f| is within
+// neighbours is refined by Brent's method: if the refined |f| is within
 // TouchTol·scale it is one tangential touch, and if it dips deeper through
 // zero it is two roots.
 // fv and sv are f and scale on the grid, computed once by the caller.
@@ -611,15 +666,16 @@ func bisect(f, scale func(float64) float64, a, b, fa float64) float64 {
 	return a + (b-a)/2
 }
 
-// golden returns the minimiser of f on [a, b], narrowed to RootTolRad
-// (about 60 steps over a grid cell); f is assumed unimodal there, which a
+// golden returns the minimiser of f on [a, b] by Brent's method (golden
+// section with parabolic steps), to RootTolRad plus √ε relative: about a
+// dozen evaluations over a grid cell. f is assumed unimodal there, which a
 // grid minimum between two larger neighbours gives.
 func golden(f func(float64) float64, a, b float64) float64 {
-	return search.GoldenMax(func(x float64) float64 { return -f(x) }, a, b, RootTolRad)
+	return search.BrentMax(func(x float64) float64 { return -f(x) }, a, b, RootTolRad)
 }
 
 // bestOnGrid minimises obj over the grid (skipping points where it is not
-// defined) and refines the minimum by golden section between neighbours.
+// defined) and refines the minimum by Brent's method between neighbours.
 func (l loop) bestOnGrid(grid []float64, obj func(float64) (float64, bool)) (float64, bool) {
 	best, bestV := -1, math.Inf(1)
 	for i, th := range grid {

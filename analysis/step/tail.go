@@ -28,6 +28,7 @@ type Tail struct {
 	sigma, at10, at90          float64 // sign of Final; 10 % and 90 % of |Final|
 	k10, k90                   int     // first samples at 10 % and 90 % of Final; −1 before
 	lateFrom                   int     // the clamped horizon's second half starts here
+	quietUntil                 int     // before it, a sample below the peak moves only the band exit
 	lateDev                    float64
 	view                       bool
 	last, n                    int
@@ -42,8 +43,21 @@ func NewTail(final float64, view bool, horizon int) *Tail {
 		last: -1, k10: -1, k90: -1, lateFrom: horizon / 2, view: view}
 }
 
-// Add takes the next sample.
+// Add takes the next sample. Most samples of a long response only move the
+// last exit from the band: that path is kept small enough to inline.
 func (t *Tail) Add(v float64) {
+	if d := v - t.final; t.n >= t.quietUntil || t.sigma*d > t.peak {
+		t.add(v)
+	} else {
+		if d > t.width || -d > t.width {
+			t.last = t.n
+		}
+		t.n++
+	}
+}
+
+// add is Add for a sample that may move any figure.
+func (t *Tail) add(v float64) {
 	f := t.final
 	if f != 0 {
 		if o := t.sigma * (v - f); o > t.peak {
@@ -69,22 +83,34 @@ func (t *Tail) Add(v float64) {
 		t.lateDev = d
 	}
 	t.n++
+	if f != 0 && t.k90 >= 0 {
+		t.quietUntil = t.lateFrom
+	}
 }
 
 // Samples is how many samples were taken.
 func (t *Tail) Samples() int { return t.n }
 
+// Pending reports that no bound on the later samples can fix the figures
+// yet: the last sample is outside the band, the 90 % level is not reached,
+// or a view's samples are still to come.
+func (t *Tail) Pending() bool {
+	return t.view && t.n <= StepShown(t.last+1) || t.last >= t.n-1 || t.final != 0 && t.k90 < 0
+}
+
 // Done reports whether the samples so far fix every figure, given that
-// |y[j] − Final| ≤ bound for every sample j not yet taken.
-func (t *Tail) Done(bound float64) bool {
-	if !(bound >= 0) || math.IsInf(bound, 0) || t.view && t.n <= StepShown(t.last+1) || t.last >= t.n-1 {
+// every sample j not yet taken has |y[j] − Final| ≤ dev and
+// σ·(y[j] − Final) ≤ over (σ the sign of Final; over ≤ dev always holds
+// for the same proof, but a one-sided bound can be far smaller).
+func (t *Tail) Done(dev, over float64) bool {
+	if !(dev >= 0) || math.IsInf(dev, 0) || t.Pending() {
 		return false
 	}
 	if t.final == 0 {
-		return bound <= t.width // later |y| ≤ bound cannot widen the band
+		return dev <= t.width // later |y| ≤ dev cannot widen the band
 	}
 	af := math.Abs(t.final)
-	return t.k90 >= 0 && bound <= t.width && bound <= math.Max(t.peak, OvershootSlack*af)
+	return dev <= t.width && math.Min(over, dev) <= math.Max(t.peak, OvershootSlack*af)
 }
 
 // Result returns the figures of the samples taken (Final ≠ 0), with
