@@ -107,12 +107,19 @@ func (r *raisedLoops) fails(k float64) bool {
 		if !r.likelyUnstable(i, k) {
 			continue
 		}
-		if r.rootOutside(i, k) || r.eigOutside(i, k) {
+		// Near a span's end the root is barely outside, closer than the
+		// fit's bound allows to certify: only the eigenvalues can tell.
+		near := spanAt(r.spans[i], k, rootGuard) < 0
+		if !near && r.rootOutside(i, k) || r.eigOutside(i, k) {
 			return true
 		}
 	}
 	return false
 }
+
+// rootGuard: within this (relative) of a raised span's end, rootOutside
+// is not tried.
+const rootGuard = 1e-3
 
 // eigOutside: the raised loop's model at k has a pole certainly outside
 // the circle: its radius less its bound is beyond 1 + tolerance, or beyond
@@ -185,7 +192,7 @@ func (r *raisedLoops) rootOutside(i int, k float64) bool {
 // expanded polynomial: k inside an unstable span, clear of its ends, and
 // Schur–Cohn agreeing at k itself.
 func (r *raisedLoops) likelyUnstable(i int, k float64) bool {
-	j := spanAt(r.spans[i], k)
+	j := spanAt(r.spans[i], k, raisedGuard)
 	if j < 0 || r.spans[i][j].Stable {
 		return false
 	}
@@ -197,13 +204,14 @@ func (r *raisedLoops) likelyUnstable(i int, k float64) bool {
 	return err == nil && !st
 }
 
-// spanAt is the index of the span holding k clear of its ends, or -1.
-func spanAt(spans []gainlimit.Span, k float64) int {
+// spanAt is the index of the span holding k clear of its ends by guard
+// (relative), or -1.
+func spanAt(spans []gainlimit.Span, k, guard float64) int {
 	for j, s := range spans {
-		if s.Lo != nil && !(k-*s.Lo > raisedGuard*math.Max(math.Abs(k), math.Abs(*s.Lo))) {
+		if s.Lo != nil && !(k-*s.Lo > guard*math.Max(math.Abs(k), math.Abs(*s.Lo))) {
 			continue
 		}
-		if s.Hi != nil && !(*s.Hi-k > raisedGuard*math.Max(math.Abs(k), math.Abs(*s.Hi))) {
+		if s.Hi != nil && !(*s.Hi-k > guard*math.Max(math.Abs(k), math.Abs(*s.Hi))) {
 			continue
 		}
 		return j
