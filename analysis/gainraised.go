@@ -144,16 +144,24 @@ func (r *raisedLoops) eigOutside(i int, k float64) bool {
 	return false
 }
 
-// rootOutside: a root z of the raised polynomial p = a + k·b lies outside
-// the circle by more than the tolerance and its error bound. The bound is
-// first order, as for the eigenvalues (Wilkinson, Rounding Errors in
-// Algebraic Processes, ch. 2: a simple root moves by δp(z)/p'(z)): twice
-// (|p(z)| + e·Σ|z|^m)/|p'(z)|, with e the affine fit's coefficient error
-// at k (affineForm.errAt) and |p(z)| the root finder's residual; it must
-// stay below a quarter of the distance to the next root, else the root is
-// in a cluster and nothing is claimed.
+// rootOutside: a root of the raised polynomial p = a + k·b is certified
+// outside the circle, with the affine fit's coefficient error at k
+// (affineForm.errAt).
 func (r *raisedLoops) rootOutside(i int, k float64) bool {
-	p := r.a[i].Add(r.b[i].Scale(k)).Trim()
+	p := r.a[i].Add(r.b[i].Scale(k))
+	return rootCertifiedOutside(p, r.forms[i].errAt(k, r.alpha[i]), r.c.env.Options.Tolerance)
+}
+
+// rootCertifiedOutside reports whether some root z of p lies outside the
+// circle by more than tol and its error bound, when each coefficient of p
+// may be off by e. The bound is first order, as for the eigenvalues
+// (Wilkinson, Rounding Errors in Algebraic Processes, ch. 2: a simple root
+// moves by δp(z)/p'(z)): twice (|p(z)| + e·Σ|z|^m)/|p'(z)|, |p(z)| being
+// the root finder's residual. It must stay below a quarter of the distance
+// to the nearest other root, else z is in a cluster and nothing is
+// claimed.
+func rootCertifiedOutside(p poly.Poly, e, tol float64) bool {
+	p = p.Trim()
 	if p.Degree() < 1 {
 		return false
 	}
@@ -161,20 +169,17 @@ func (r *raisedLoops) rootOutside(i int, k float64) bool {
 	if !ok {
 		return false
 	}
-	e := r.forms[i].errAt(k, r.alpha[i])
 	dp := p.Deriv()
-	tol := r.c.env.Options.Tolerance
 	for j, z := range zs {
 		az := cmplx.Abs(z)
 		if az <= 1+tol {
 			continue
 		}
-		d := cmplx.Abs(dp.EvalC(z))
 		sum, pw := 0.0, 1.0
 		for range p {
 			sum, pw = sum+pw, pw*az
 		}
-		bound := 2 * (cmplx.Abs(p.EvalC(z)) + e*sum) / d
+		bound := 2 * (cmplx.Abs(p.EvalC(z)) + e*sum) / cmplx.Abs(dp.EvalC(z))
 		sep := math.Inf(1)
 		for m, w := range zs {
 			if m != j {

@@ -4,9 +4,12 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"math/rand"
 	"strings"
 	"testing"
+
+	"ringside/analysis/poly"
 )
 
 // TestRaisedLoopBoundsTheMargin checks the fact the safe-value search
@@ -100,5 +103,75 @@ loop two {
 		if gm := l.Margins.GainMarginDB; !l.Stable || gm == nil || *gm < 6 {
 			t.Errorf("ki = %s: loop %s stable %v, gain margin %v dB", fmtNum(v), l.Name, l.Stable, fmtPtr(gm))
 		}
+	}
+}
+
+// fromRoots expands Π(z − r) over real roots and Π(z² − 2·Re c·z + |c|²)
+// over complex pairs c, c̄.
+func fromRoots(reals []float64, pairs []complex128) poly.Poly {
+	p := poly.New(1)
+	for _, r := range reals {
+		p = p.Mul(poly.New(-r, 1))
+	}
+	for _, c := range pairs {
+		p = p.Mul(poly.New(cmplx.Abs(c)*cmplx.Abs(c), -2*real(c), 1))
+	}
+	return p
+}
+
+// TestRootCertifiedOutside: polynomials built from known roots. A root
+// well outside and apart from the others is certified; roots inside, on
+// the circle within the tolerance, or in a cluster whose expanded
+// polynomial scatters them across the circle ((z − 0.9995)⁵: computed
+// roots reach radius 1.0002) are never claimed outside. Over random root
+// sets the certificate never claims a root outside when none is.
+func TestRootCertifiedOutside(t *testing.T) {
+	const tol = 1e-6
+	e := func(p poly.Poly) float64 { return 1e-13 * maxAbs(p) }
+	cases := []struct {
+		name string
+		p    poly.Poly
+		want bool
+	}{
+		{"one root at 1.1", fromRoots([]float64{0.5, 0.9, 1.1}, nil), true},
+		{"a pair at radius 1.05", fromRoots([]float64{0.2}, []complex128{complex(0.6, 0.84)}), true},
+		{"all inside", fromRoots([]float64{0.5, 0.9, 0.99}, []complex128{complex(0.3, 0.9)}), false},
+		{"within the tolerance", fromRoots([]float64{1 + 1e-7, 0.3}, nil), false},
+		{"five-fold cluster inside", fromRoots([]float64{0.9995, 0.9995, 0.9995, 0.9995, 0.9995}, nil), false},
+	}
+	for _, c := range cases {
+		if got := rootCertifiedOutside(c.p, e(c.p), tol); got != c.want {
+			t.Errorf("%s: certified outside %v, want %v", c.name, got, c.want)
+		}
+	}
+	rng := rand.New(rand.NewSource(11))
+	claimed := 0
+	for trial := 0; trial < 2000; trial++ {
+		var re []float64
+		var pairs []complex128
+		outside := false
+		for i := 0; i < 1+rng.Intn(4); i++ {
+			r := 0.9 + 0.2*rng.Float64()
+			if rng.Intn(3) == 0 { // near-duplicates: clusters
+				r = 0.999 + 0.002*rng.Float64()
+			}
+			if rng.Intn(2) == 0 {
+				th := rng.Float64() * 3
+				pairs = append(pairs, cmplx.Rect(r, th))
+			} else {
+				re = append(re, r*float64(1-2*rng.Intn(2)))
+			}
+			outside = outside || r > 1+tol
+		}
+		p := fromRoots(re, pairs)
+		if rootCertifiedOutside(p, e(p), tol) {
+			claimed++
+			if !outside {
+				t.Fatalf("roots %v and pairs %v: no root outside, yet one was certified", re, pairs)
+			}
+		}
+	}
+	if claimed < 100 {
+		t.Fatalf("only %d certificates in 2000 trials: the test does not exercise the claim", claimed)
 	}
 }
