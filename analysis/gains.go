@@ -254,11 +254,11 @@ const SafeMaxTolerance = 1e-4
 // the Illinois variant of regula falsi (the margin in dB is smooth in the
 // gain, so this takes a handful of steps); otherwise it bisects.
 //
-// fhi is f's value at hi when known without computing it (NaN otherwise):
-// at a stability limit a closed-loop pole sits on the circle, L = −1 there,
-// so the gain margin is 0 dB and the excess is minus the requirement.
-func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
-	flo := f(lo)
+// flo is f's value at lo, already computed by the caller; fhi is f's value
+// at hi when known without computing it (NaN otherwise): at a stability
+// limit a closed-loop pole sits on the circle, L = −1 there, so the gain
+// margin is 0 dB and the excess is minus the requirement.
+func largestMeeting(f func(float64) float64, lo, hi, flo, fhi float64) float64 {
 	side := 0
 	for i := 0; i < 100 && hi-lo > SafeMaxTolerance*math.Max(math.Abs(lo), math.Abs(hi)); i++ {
 		mid := lo + (hi-lo)/2
@@ -306,57 +306,88 @@ func maxAbs(p poly.Poly) float64 {
 // margin in every loop using the gain.
 func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
-	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
-	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
-	raised := c.raised(g.Name, k0, loops)
-	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim, raised); found {
+	s := safeSearch{c: c, name: g.Name, loops: loops, lim: lim, raised: c.raised(g.Name, k0, loops)}
+	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim, s.raised); found {
 		lim.SafeMax = &v
 		return
 	}
-	if guess, found := raised.boundary(k0, lim); found {
+	if guess, found := s.raised.boundary(k0, lim); found {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if guess < 0 {
 			lo, hi = hi, lo
 		}
-		// A raised loop unstable at hi already proves that hi misses the
-		// margin; the full check runs only when that is not shown.
-		if ok(lo) && (raised.fails(hi) || !ok(hi)) {
+		if s.ok(lo) && s.fails(hi) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
 	}
-	if !raised.fails(k0) && ok(k0) {
-		hi := 0.0
-		if lim.StableMax != nil {
-			hi = *lim.StableMax
-		} else {
-			// No stability limit above: look for a margin limit within
-			// a million times the current size.
-			step := math.Max(math.Abs(k0), 1e-6)
-			found := false
-			for i := 0; i < 20; i++ {
-				hi = k0 + step*math.Pow(2, float64(i))
-				if !ok(hi) {
-					found = true
-					break
-				}
-			}
-			if !found {
-				lim.SafeMaxNote = "no finite upper limit found: every loop keeps its gain margin as the gain grows"
-				return
-			}
+	if !s.raised.fails(k0) {
+		if e0 := s.excess(k0); e0 >= 0 {
+			s.above(k0, e0)
+			return
 		}
-		fhi := math.NaN()
-		if lim.StableMax != nil {
-			fhi = -c.maxRequiredGM(loops)
-		}
-		v := largestMeeting(f, k0, hi, fhi)
-		lim.SafeMax = &v
-		return
 	}
-	// The current value fails: look below it, inside the stable interval
-	// when one is known, for a value that passes, then bisect up to the
-	// switch point.
+	s.below(k0)
+}
+
+// safeSearch is the search for one gain's safe value.
+type safeSearch struct {
+	c      *checker
+	name   string
+	loops  []*Loop
+	lim    *GainLimits
+	raised *raisedLoops
+}
+
+func (s *safeSearch) excess(k float64) float64 { return s.c.excess(s.name, k, s.loops) }
+
+func (s *safeSearch) ok(k float64) bool { return s.excess(k) >= 0 }
+
+// fails reports that k misses the margin: a raised loop unstable there
+// proves it, else a full check shows it.
+func (s *safeSearch) fails(k float64) bool { return s.raised.fails(k) || !s.ok(k) }
+
+// fhi is the excess at the stability limit when hi is that limit (see
+// largestMeeting), NaN otherwise.
+func (s *safeSearch) fhi(hi float64) float64 {
+	if s.lim.StableMax != nil && hi == *s.lim.StableMax {
+		return -s.c.maxRequiredGM(s.loops)
+	}
+	return math.NaN()
+}
+
+// above searches up from k0, which passes with excess e0: to the stability
+// limit, or to the first failing value of a doubling march.
+func (s *safeSearch) above(k0, e0 float64) {
+	hi := 0.0
+	if s.lim.StableMax != nil {
+		hi = *s.lim.StableMax
+	} else {
+		// No stability limit above: look for a margin limit within
+		// a million times the current size.
+		step := math.Max(math.Abs(k0), 1e-6)
+		found := false
+		for i := 0; i < 20; i++ {
+			hi = k0 + step*math.Pow(2, float64(i))
+			if s.fails(hi) {
+				found = true
+				break
+			}
+		}
+		if !found {
+			s.lim.SafeMaxNote = "no finite upper limit found: every loop keeps its gain margin as the gain grows"
+			return
+		}
+	}
+	v := largestMeeting(s.excess, k0, hi, e0, s.fhi(hi))
+	s.lim.SafeMax = &v
+}
+
+// below handles a failing current value: it looks below it, inside the
+// stable interval when one is known, for a value that passes, then
+// bisects up to the switch point.
+func (s *safeSearch) below(k0 float64) {
+	lim := s.lim
 	top := k0
 	floor := math.Inf(-1)
 	if lim.Found {
@@ -377,15 +408,11 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	}
 	sort.Sort(sort.Reverse(sort.Float64Slice(cands)))
 	for _, lo := range cands {
-		if lo <= floor || lo >= top || raised.fails(lo) {
+		if lo <= floor || lo >= top || s.raised.fails(lo) {
 			continue // raised.fails: a full check would fail too
 		}
-		if ok(lo) {
-			fhi := math.NaN()
-			if lim.StableMax != nil && top == *lim.StableMax {
-				fhi = -c.maxRequiredGM(loops)
-			}
-			v := largestMeeting(f, lo, top, fhi)
+		if e := s.excess(lo); e >= 0 {
+			v := largestMeeting(s.excess, lo, top, e, s.fhi(top))
 			lim.SafeMax = &v
 			return
 		}
