@@ -27,9 +27,10 @@ const raisedGuard = 1e-6
 // (0, r) dB, so GM < r. Hence a value at which a raised loop is unstable
 // cannot keep the margin. (The converse fails on conditionally stable
 // loops, so a boundary of the raised loops is only a guess to verify.) A
-// value is ruled out only by an eigenvalue check of a raised loop's model
-// at that value (fails); the expanded polynomials only choose the guess
-// and where such a check is worth running.
+// value is ruled out only where a raised loop certainly has a pole outside
+// the circle (fails: a certified root of its polynomial, else its model's
+// eigenvalues); the spans only choose the guess and where a check is worth
+// running.
 type raisedLoops struct {
 	c     *checker
 	name  string
