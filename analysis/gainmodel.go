@@ -271,34 +271,21 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		}
 		ks = append(ks, k)
 	}
-	type span struct {
-		lo, hi *float64
-		stable bool
-	}
-	var sp []span
+	var sp []gainlimit.Span
 	for i := 0; i <= len(ks); i++ {
-		var s span
+		var s gainlimit.Span
 		if i > 0 {
-			s.lo = &ks[i-1]
+			s.Lo = &ks[i-1]
 		}
 		if i < len(ks) {
-			s.hi = &ks[i]
+			s.Hi = &ks[i]
 		}
-		s.stable = c.stableAt(name, inner(s.lo, s.hi, 0.5), loops)
+		s.Stable = c.stableAt(name, inner(s.Lo, s.Hi, 0.5), loops)
 		sp = append(sp, s)
 	}
 	best := -1
-	dist := func(s span) float64 {
-		switch {
-		case s.lo != nil && k0 <= *s.lo:
-			return *s.lo - k0
-		case s.hi != nil && k0 >= *s.hi:
-			return k0 - *s.hi
-		}
-		return 0
-	}
 	for i, s := range sp {
-		if s.stable && (best < 0 || dist(s) < dist(sp[best])) {
+		if s.Stable && (best < 0 || s.Distance(k0) < sp[best].Distance(k0)) {
 			best = i
 		}
 	}
@@ -310,14 +297,14 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		return gainlimit.Interval{Exact: true}, true
 	}
 	s := sp[best]
-	contains := dist(s) == 0 && (s.lo == nil || *s.lo != k0) && (s.hi == nil || *s.hi != k0)
+	contains := s.Contains(k0)
 	if contains != cur {
 		return gainlimit.Interval{}, false
 	}
-	if !c.verifiedEnds(name, s.lo, s.hi, loops) {
+	if !c.verifiedEnds(name, s.Lo, s.Hi, loops) {
 		return gainlimit.Interval{}, false
 	}
-	return gainlimit.Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: contains, Found: true}, true
+	return gainlimit.Interval{Lo: s.Lo, Hi: s.Hi, Exact: true, ContainsCurrent: contains, Found: true}, true
 }
 
 // inner returns the point at fraction t of the span (lo, hi); a missing

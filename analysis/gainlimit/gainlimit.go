@@ -90,18 +90,9 @@ func AffineSpans(a, b poly.Poly, k0 float64) (Interval, []Span, error) {
 	if err != nil {
 		return Interval{}, nil, err
 	}
-	distance := func(s Span) float64 {
-		switch {
-		case s.Lo != nil && k0 <= *s.Lo:
-			return *s.Lo - k0
-		case s.Hi != nil && k0 >= *s.Hi:
-			return k0 - *s.Hi
-		}
-		return 0
-	}
 	if s0 {
 		for _, s := range spans {
-			if (s.Lo == nil || *s.Lo < k0) && (s.Hi == nil || k0 < *s.Hi) {
+			if s.Contains(k0) {
 				if !s.Stable {
 					break // disagreement: fall back below
 				}
@@ -114,7 +105,7 @@ func AffineSpans(a, b poly.Poly, k0 float64) (Interval, []Span, error) {
 	}
 	best := -1
 	for i, s := range spans {
-		if s.Stable && (best < 0 || distance(s) < distance(spans[best])) {
+		if s.Stable && (best < 0 || s.Distance(k0) < spans[best].Distance(k0)) {
 			best = i
 		}
 	}
@@ -138,6 +129,22 @@ func clone(p *float64) *float64 {
 type Span struct {
 	Lo, Hi *float64
 	Stable bool
+}
+
+// Contains reports whether k0 lies strictly inside the span.
+func (s Span) Contains(k0 float64) bool {
+	return (s.Lo == nil || *s.Lo < k0) && (s.Hi == nil || k0 < *s.Hi)
+}
+
+// Distance is how far k0 lies outside the span's closure (0 inside).
+func (s Span) Distance(k0 float64) float64 {
+	switch {
+	case s.Lo != nil && k0 <= *s.Lo:
+		return *s.Lo - k0
+	case s.Hi != nil && k0 >= *s.Hi:
+		return k0 - *s.Hi
+	}
+	return 0
 }
 
 // affine is a characteristic polynomial affine in the gain.
