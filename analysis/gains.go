@@ -70,10 +70,11 @@ type affineForm struct {
 	numScale, denScale float64
 }
 
-// errAt bounds the error of each coefficient of den + alpha·num at k: the fit agrees with the evaluated polynomials to
-// AffineTolerance of their scale at four values spread over a width h
-// around k0, and an affine function's error grows at most linearly away
-// from them (by the distance over the closest pair's spacing, 0.37·h).
+// errAt bounds the error of each coefficient of den + alpha·num at k: the
+// fit agrees with the evaluated polynomials to AffineTolerance of their
+// scale at four values spread over a width h around k0, and an affine
+// function's error grows at most linearly away from them (by the distance
+// over the closest pair's spacing, 0.37·h).
 func (f affineForm) errAt(k, alpha float64) float64 {
 	return AffineTolerance * (f.denScale + math.Abs(alpha)*f.numScale) * (1 + math.Abs(k-f.k0)/(0.37*f.h))
 }
