@@ -163,7 +163,7 @@ func (r *raisedLoops) rootOutside(i int, k float64) bool {
 // claimed.
 func rootCertifiedOutside(p poly.Poly, e, tol float64) bool {
 	p = p.Trim()
-	if p.Degree() < 1 {
+	if p.Degree() < 1 || !p.Finite() {
 		return false
 	}
 	zs, ok := roots.Companion(p)

@@ -268,6 +268,9 @@ const chebyshevMaxDegree = 16
 // x = cos θ·cosh ε ∓ j·sin θ·sinh ε, so the gate |Im x| < circleRootTol,
 // |Re x| ≤ 1 + circleRootTol admits every root the gate on |z| would.
 func circleAngles(a, b poly.Poly, n int) []float64 {
+	// Q is bilinear in a and b: scaling each by a power of two (exact)
+	// keeps its roots and every product finite.
+	a, b = unitScale([]poly.Poly{a})[0], unitScale([]poly.Poly{b})[0]
 	rec := func(p poly.Poly) poly.Poly {
 		r := make(poly.Poly, n+1)
 		for i := 0; i <= n; i++ {
@@ -279,17 +282,28 @@ func circleAngles(a, b poly.Poly, n int) []float64 {
 	if negligible(q, a, b) {
 		return nil
 	}
+	if n <= chebyshevMaxDegree {
+		if g := cosPoly(q, n); g.Finite() {
+			return cosAngles(g)
+		}
+	}
 	var ths []float64
-	if n > chebyshevMaxDegree {
-		if rs, ok := roots.Companion(q); ok {
-			for _, r := range rs {
-				if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
-					ths = append(ths, cmplx.Phase(r))
-				}
+	if !q.Finite() {
+		return nil
+	}
+	if rs, ok := roots.Companion(q); ok {
+		for _, r := range rs {
+			if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
+				ths = append(ths, cmplx.Phase(r))
 			}
 		}
-		return ths
 	}
+	return ths
+}
+
+// cosPoly is g(x) = Σₘ cₘ U_{m−1}(x), cₘ = q[n+m]; a non-finite g sends
+// circleAngles back to Q itself.
+func cosPoly(q poly.Poly, n int) poly.Poly {
 	g := make(poly.Poly, n)
 	prev, cur := poly.Poly{}, poly.Poly{1} // U₋₁ = 0, U₀ = 1
 	for m := 1; m <= n; m++ {
@@ -307,10 +321,17 @@ func circleAngles(a, b poly.Poly, n int) []float64 {
 		}
 		prev, cur = cur, next
 	}
+	return g
+}
+
+// cosAngles returns acos x for the roots x of g in [−1, 1] (see the gate
+// in circleAngles).
+func cosAngles(g poly.Poly) []float64 {
 	xs, ok := roots.Companion(g)
 	if !ok {
 		return nil
 	}
+	var ths []float64
 	for _, x := range xs {
 		if math.Abs(imag(x)) < circleRootTol && math.Abs(real(x)) <= 1+circleRootTol {
 			ths = append(ths, math.Acos(math.Max(-1, math.Min(1, real(x)))))
