@@ -9,6 +9,7 @@ import (
 	"ringside/analysis/freq"
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/lti"
+	"ringside/analysis/poly"
 )
 
 // MaxAffineDegree is the highest characteristic-polynomial degree for which
@@ -17,14 +18,34 @@ import (
 // the frequency-response and eigenvalue methods take over.
 const MaxAffineDegree = 10
 
+// evalAt is the evaluator with gain name set to k: the check's own when k
+// is the gain's value there (every block in scope is evaluated before the
+// loops, so it is only read, and gives what a sweep to k would compute),
+// else a sweep.
+func (c *checker) evalAt(name string, k float64) *evaluator {
+	if c.base.gain(name) == k {
+		return c.base
+	}
+	return c.base.sweep(name, k)
+}
+
 // modelAt builds a loop's model with gain name set to k.
 func (c *checker) modelAt(l *Loop, name string, k float64) (*lti.Loop, bool) {
-	ev := c.base.sweep(name, k)
+	return c.modelScaled(l, name, k, 1)
+}
+
+// modelScaled builds the model of a loop with gain name set to k and L
+// multiplied by alpha.
+func (c *checker) modelScaled(l *Loop, name string, k, alpha float64) (*lti.Loop, bool) {
+	ev := c.evalAt(name, k)
 	sh := shapeOf(l.Stmt)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
 	fb, ok2 := c.elements(ev, sh.fb, false)
 	if !ok1 || !ok2 {
 		return nil, false
+	}
+	if alpha != 1 {
+		fwd = append(fwd, element{name: "raised", tf: poly.RConst(alpha), fac: lti.Const(alpha)})
 	}
 	m, err := model(fwd, fb, sh.positive)
 	return m, err == nil
@@ -109,8 +130,52 @@ const scalingTol = 1e-12
 
 // scalingForm returns, when gain name only scales loop l's L
 // (L(k) = (k/k1)·L(k1): a proportional gain, a gain block on the path), the
-// loop's model at k1 (k0, or 1 when k0 is 0).
+// loop's model at k1 (k0, or 1 when k0 is 0). Kept per loop and gain, like
+// affineForm.
 func (c *checker) scalingForm(l *Loop, name string, k0 float64) (*lti.Loop, float64, bool) {
+	key := scalingKey{l, name}
+	if f, ok := c.forms.Load(key); ok {
+		s := f.(scaling)
+		return s.m, s.k1, s.ok
+	}
+	var s scaling
+	if !c.affineForm(l, name, k0).notScaling(k0) {
+		s.m, s.k1, s.ok = c.fitScaling(l, name, k0)
+	}
+	c.forms.Store(key, s)
+	return s.m, s.k1, s.ok
+}
+
+type scalingKey formKey
+
+type scaling struct {
+	m  *lti.Loop
+	k1 float64
+	ok bool
+}
+
+// notScaleTol: an affine form whose constant numerator or gain-dependent
+// denominator is larger than this, relative to the rest, has a term that
+// k·L(1) lacks, far above the fit's AffineTolerance.
+const notScaleTol = 1e-4
+
+// notScaling reports whether an affine L = (numA + k·numB)/(denA + k·denB)
+// certainly does not scale with the gain. L(k) = k·R for every k forces
+// numA + k·numB = k·R·(denA + k·denB), so denB = 0 and numA = 0; a form
+// clearly violating that would fail fitScaling's comparison of two models
+// anyway, and two model builds are saved.
+func (f affineForm) notScaling(k0 float64) bool {
+	if !f.ok {
+		return false
+	}
+	h := math.Max(math.Abs(k0), 1)
+	num, den := maxAbs(f.numA)+h*maxAbs(f.numB), maxAbs(f.denA)+h*maxAbs(f.denB)
+	return maxAbs(f.numA) > notScaleTol*num || h*maxAbs(f.denB) > notScaleTol*den
+}
+
+// fitScaling compares the loop's models at k1 and 2·k1: L scales when the
+// second's gain is twice the first's and their poles and zeros agree.
+func (c *checker) fitScaling(l *Loop, name string, k0 float64) (*lti.Loop, float64, bool) {
 	k1 := k0
 	if k1 == 0 {
 		k1 = 1
@@ -206,34 +271,21 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		}
 		ks = append(ks, k)
 	}
-	type span struct {
-		lo, hi *float64
-		stable bool
-	}
-	var sp []span
+	var sp []gainlimit.Span
 	for i := 0; i <= len(ks); i++ {
-		var s span
+		var s gainlimit.Span
 		if i > 0 {
-			s.lo = &ks[i-1]
+			s.Lo = &ks[i-1]
 		}
 		if i < len(ks) {
-			s.hi = &ks[i]
+			s.Hi = &ks[i]
 		}
-		s.stable = c.stableAt(name, inner(s.lo, s.hi, 0.5), loops)
+		s.Stable = c.stableAt(name, inner(s.Lo, s.Hi, 0.5), loops)
 		sp = append(sp, s)
 	}
 	best := -1
-	dist := func(s span) float64 {
-		switch {
-		case s.lo != nil && k0 <= *s.lo:
-			return *s.lo - k0
-		case s.hi != nil && k0 >= *s.hi:
-			return k0 - *s.hi
-		}
-		return 0
-	}
 	for i, s := range sp {
-		if s.stable && (best < 0 || dist(s) < dist(sp[best])) {
+		if s.Stable && (best < 0 || s.Distance(k0) < sp[best].Distance(k0)) {
 			best = i
 		}
 	}
@@ -245,14 +297,14 @@ func (c *checker) spans(name string, k0 float64, loops []*Loop, cands []float64)
 		return gainlimit.Interval{Exact: true}, true
 	}
 	s := sp[best]
-	contains := dist(s) == 0 && (s.lo == nil || *s.lo != k0) && (s.hi == nil || *s.hi != k0)
+	contains := s.Contains(k0)
 	if contains != cur {
 		return gainlimit.Interval{}, false
 	}
-	if !c.verifiedEnds(name, s.lo, s.hi, loops) {
+	if !c.verifiedEnds(name, s.Lo, s.Hi, loops) {
 		return gainlimit.Interval{}, false
 	}
-	return gainlimit.Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: contains, Found: true}, true
+	return gainlimit.Interval{Lo: s.Lo, Hi: s.Hi, Exact: true, ContainsCurrent: contains, Found: true}, true
 }
 
 // inner returns the point at fraction t of the span (lo, hi); a missing
@@ -298,8 +350,8 @@ func (c *checker) numericInterval(name string, k0 float64, loops []*Loop) (gainl
 // so each crossing of each loop meets its requirement exactly at
 // k0·10^((GM − required)/20). The candidates are tried from the largest
 // down, each verified by a full check just below (passes) and just above
-// (fails).
-func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
+// (fails; or a raised loop unstable there, which proves it).
+func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *GainLimits, raised *raisedLoops) (float64, bool) {
 	if !(k0 > 0) {
 		return 0, false
 	}
@@ -318,7 +370,7 @@ func (c *checker) scalingSafeMax(name string, k0 float64, loops []*Loop, lim *Ga
 			continue
 		}
 		lo, hi := k*(1-SafeMaxTolerance/4), k*(1+SafeMaxTolerance/4)
-		if c.meets(name, lo, loops) && !c.meets(name, hi, loops) {
+		if c.meets(name, lo, loops) && (raised.fails(hi) || !c.meets(name, hi, loops)) {
 			return lo, true
 		}
 	}

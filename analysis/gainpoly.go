@@ -151,8 +151,7 @@ func (c *checker) mergedSpans(name string, k0 float64, loops []*Loop, cands []fl
 		}
 		ks = append(ks, k)
 	}
-	type run struct{ lo, hi *float64 }
-	var runs []run
+	var runs []gainlimit.Span // stable spans, joined across stable candidates
 	open := false
 	for i := 0; i <= len(ks); i++ {
 		var lo, hi *float64
@@ -167,25 +166,16 @@ func (c *checker) mergedSpans(name string, k0 float64, loops []*Loop, cands []fl
 			continue
 		}
 		if open {
-			runs[len(runs)-1].hi = hi
+			runs[len(runs)-1].Hi = hi
 		} else {
-			runs = append(runs, run{lo, hi})
+			runs = append(runs, gainlimit.Span{Lo: lo, Hi: hi, Stable: true})
 		}
 		open = hi != nil && c.stableAt(name, *hi, loops)
 	}
 	cur := c.stableAt(name, k0, loops)
-	dist := func(r run) float64 {
-		switch {
-		case r.lo != nil && k0 <= *r.lo:
-			return *r.lo - k0
-		case r.hi != nil && k0 >= *r.hi:
-			return k0 - *r.hi
-		}
-		return 0
-	}
 	best := -1
 	for i, r := range runs {
-		if best < 0 || dist(r) < dist(runs[best]) {
+		if best < 0 || r.Distance(k0) < runs[best].Distance(k0) {
 			best = i
 		}
 	}
@@ -196,11 +186,11 @@ func (c *checker) mergedSpans(name string, k0 float64, loops []*Loop, cands []fl
 		return gainlimit.Interval{Exact: true}, true
 	}
 	r := runs[best]
-	contains := dist(r) == 0 && (r.lo == nil || *r.lo != k0) && (r.hi == nil || *r.hi != k0)
-	if contains != cur || !c.verifiedEnds(name, r.lo, r.hi, loops) || !c.unstableBeyond(name, r.lo, r.hi, loops) {
+	contains := r.Contains(k0)
+	if contains != cur || !c.verifiedEnds(name, r.Lo, r.Hi, loops) || !c.unstableBeyond(name, r.Lo, r.Hi, loops) {
 		return gainlimit.Interval{}, false
 	}
-	return gainlimit.Interval{Lo: r.lo, Hi: r.hi, Exact: true, ContainsCurrent: contains, Found: true}, true
+	return gainlimit.Interval{Lo: r.Lo, Hi: r.Hi, Exact: true, ContainsCurrent: contains, Found: true}, true
 }
 
 // unstableBeyond checks each end of (lo, hi): the loops must not be

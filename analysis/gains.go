@@ -34,7 +34,7 @@ type pendingFix struct {
 // loopAt evaluates a loop's characteristic polynomial and open loop with
 // gain name set to k.
 func (c *checker) loopAt(l *Loop, name string, k float64) (poly.Poly, poly.Rational, bool) {
-	return c.loopWith(l, c.base.sweep(name, k))
+	return c.loopWith(l, c.evalAt(name, k))
 }
 
 // loopWith evaluates a loop's characteristic polynomial and open loop with
@@ -64,6 +64,19 @@ func (c *checker) affineScaled(l *Loop, name string, k0, alpha float64) (a, b po
 type affineForm struct {
 	numA, numB, denA, denB poly.Poly
 	ok                     bool
+	// k0, h: the fit's centre and width; numScale, denScale: the largest
+	// coefficient of num and den over its four values (the check's scale).
+	k0, h              float64
+	numScale, denScale float64
+}
+
+// errAt bounds the error of each coefficient of den + alpha·num at k: the
+// fit agrees with the evaluated polynomials to AffineTolerance of their
+// scale at four values spread over a width h around k0, and an affine
+// function's error grows at most linearly away from them (by the distance
+// over the closest pair's spacing, 0.37·h).
+func (f affineForm) errAt(k, alpha float64) float64 {
+	return AffineTolerance * (f.denScale + math.Abs(alpha)*f.numScale) * (1 + math.Abs(k-f.k0)/(0.37*f.h))
 }
 
 type formKey struct {
@@ -95,24 +108,23 @@ func (c *checker) fitAffine(l *Loop, name string, k0 float64) affineForm {
 		}
 		nums, dens = append(nums, open.Num), append(dens, open.Den)
 	}
-	line := func(ps []poly.Poly) (a, b poly.Poly, ok bool) {
+	line := func(ps []poly.Poly) (a, b poly.Poly, scale float64, ok bool) {
 		b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
 		a = ps[0].Sub(b.Scale(k0))
-		scale := 0.0
 		for _, p := range ps {
 			scale = math.Max(scale, maxAbs(p))
 		}
 		for i := 2; i < len(ks); i++ {
 			if !a.Add(b.Scale(ks[i]-k0)).Add(b.Scale(k0)).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
-				return nil, nil, false
+				return nil, nil, 0, false
 			}
 		}
-		return a, b, true
+		return a, b, scale, true
 	}
-	var f affineForm
+	f := affineForm{k0: k0, h: h}
 	var ok1, ok2 bool
-	f.numA, f.numB, ok1 = line(nums)
-	f.denA, f.denB, ok2 = line(dens)
+	f.numA, f.numB, f.numScale, ok1 = line(nums)
+	f.denA, f.denB, f.denScale, ok2 = line(dens)
 	f.ok = ok1 && ok2
 	return f
 }
@@ -164,10 +176,7 @@ func (c *checker) limitsOf(g *Gain, loops []*Loop) *GainLimits {
 		return lim
 	}
 	lim.StableMin, lim.StableMax, lim.Exact, lim.CurrentStable, lim.Found = iv.Lo, iv.Hi, iv.Exact, iv.ContainsCurrent, iv.Found
-	if c.openOnCircle(g.Name, loops) {
-		snapZero(lim.StableMin, lim.StableMax)
-		snapZero(lim.StableMax, lim.StableMin)
-	}
+	c.snapEnds(g.Name, loops, lim.StableMin, lim.StableMax)
 	c.safeMax(g, loops, lim)
 	return lim
 }
@@ -246,11 +255,11 @@ const SafeMaxTolerance = 1e-4
 // the Illinois variant of regula falsi (the margin in dB is smooth in the
 // gain, so this takes a handful of steps); otherwise it bisects.
 //
-// fhi is f's value at hi when known without computing it (NaN otherwise):
-// at a stability limit a closed-loop pole sits on the circle, L = −1 there,
-// so the gain margin is 0 dB and the excess is minus the requirement.
-func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
-	flo := f(lo)
+// flo is f's value at lo, already computed by the caller; fhi is f's value
+// at hi when known without computing it (NaN otherwise): at a stability
+// limit a closed-loop pole sits on the circle, L = −1 there, so the gain
+// margin is 0 dB and the excess is minus the requirement.
+func largestMeeting(f func(float64) float64, lo, hi, flo, fhi float64) float64 {
 	side := 0
 	for i := 0; i < 100 && hi-lo > SafeMaxTolerance*math.Max(math.Abs(lo), math.Abs(hi)); i++ {
 		mid := lo + (hi-lo)/2
@@ -278,39 +287,6 @@ func largestMeeting(f func(float64) float64, lo, hi, fhi float64) float64 {
 	return lo
 }
 
-// marginBoundary returns, for a gain on which every loop's characteristic
-// polynomial is affine, the value where the required gain margin runs out:
-// GM ≥ r dB means the loop with L raised by r dB is still stable, so the
-// boundary is an end of the exact stable interval of that raised loop
-// (its upper end above the current value when the current value passes;
-// otherwise the upper end of the nearest raised-stable interval below).
-// It is a guess that the caller verifies: the margin convention (the
-// crossing nearest 0 dB) can differ on conditionally stable loops.
-func (c *checker) marginBoundary(name string, k0 float64, loops []*Loop, lim *GainLimits) (float64, bool) {
-	if !lim.Exact {
-		return 0, false
-	}
-	best := math.Inf(1)
-	for _, l := range loops {
-		a, b, ok := c.affineScaled(l, name, k0, math.Pow(10, c.requiredGM(l)/20))
-		if !ok || max(a.Degree(), b.Degree()) > MaxAffineDegree {
-			return 0, false
-		}
-		iv, err := gainlimit.Affine(a, b, k0)
-		if err != nil || !iv.Found || iv.Hi == nil {
-			return 0, false
-		}
-		if !iv.ContainsCurrent && *iv.Hi > k0 {
-			return 0, false
-		}
-		best = math.Min(best, *iv.Hi)
-	}
-	if lim.StableMax != nil {
-		best = math.Min(best, *lim.StableMax)
-	}
-	return best, !math.IsInf(best, 1) && best != 0
-}
-
 func (c *checker) maxRequiredGM(loops []*Loop) float64 {
 	m := 0.0
 	for _, l := range loops {
@@ -331,54 +307,88 @@ func maxAbs(p poly.Poly) float64 {
 // margin in every loop using the gain.
 func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	k0 := g.Value
-	ok := func(k float64) bool { return c.meets(g.Name, k, loops) }
-	f := func(k float64) float64 { return c.excess(g.Name, k, loops) }
-	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim); found {
+	s := safeSearch{c: c, name: g.Name, loops: loops, lim: lim, raised: c.raised(g.Name, k0, loops)}
+	if v, found := c.scalingSafeMax(g.Name, k0, loops, lim, s.raised); found {
 		lim.SafeMax = &v
 		return
 	}
-	if guess, found := c.marginBoundary(g.Name, k0, loops, lim); found {
+	if guess, found := s.raised.boundary(k0, lim); found {
 		lo, hi := guess*(1-SafeMaxTolerance/4), guess*(1+SafeMaxTolerance/4)
 		if guess < 0 {
 			lo, hi = hi, lo
 		}
-		if ok(lo) && !ok(hi) {
+		if s.ok(lo) && s.fails(hi) {
 			lim.SafeMax = &lo // within SafeMaxTolerance of the switch
 			return
 		}
 	}
-	if ok(k0) {
-		hi := 0.0
-		if lim.StableMax != nil {
-			hi = *lim.StableMax
-		} else {
-			// No stability limit above: look for a margin limit within
-			// a million times the current size.
-			step := math.Max(math.Abs(k0), 1e-6)
-			found := false
-			for i := 0; i < 20; i++ {
-				hi = k0 + step*math.Pow(2, float64(i))
-				if !ok(hi) {
-					found = true
-					break
-				}
-			}
-			if !found {
-				lim.SafeMaxNote = "no finite upper limit found: every loop keeps its gain margin as the gain grows"
-				return
-			}
+	if !s.raised.fails(k0) {
+		if e0 := s.excess(k0); e0 >= 0 {
+			s.above(k0, e0)
+			return
 		}
-		fhi := math.NaN()
-		if lim.StableMax != nil {
-			fhi = -c.maxRequiredGM(loops)
-		}
-		v := largestMeeting(f, k0, hi, fhi)
-		lim.SafeMax = &v
-		return
 	}
-	// The current value fails: look below it, inside the stable interval
-	// when one is known, for a value that passes, then bisect up to the
-	// switch point.
+	s.below(k0)
+}
+
+// safeSearch is the search for one gain's safe value.
+type safeSearch struct {
+	c      *checker
+	name   string
+	loops  []*Loop
+	lim    *GainLimits
+	raised *raisedLoops
+}
+
+func (s *safeSearch) excess(k float64) float64 { return s.c.excess(s.name, k, s.loops) }
+
+func (s *safeSearch) ok(k float64) bool { return s.excess(k) >= 0 }
+
+// fails reports that k misses the margin: a raised loop unstable there
+// proves it, else a full check shows it.
+func (s *safeSearch) fails(k float64) bool { return s.raised.fails(k) || !s.ok(k) }
+
+// fhi is the excess at the stability limit when hi is that limit (see
+// largestMeeting), NaN otherwise.
+func (s *safeSearch) fhi(hi float64) float64 {
+	if s.lim.StableMax != nil && hi == *s.lim.StableMax {
+		return -s.c.maxRequiredGM(s.loops)
+	}
+	return math.NaN()
+}
+
+// above searches up from k0, which passes with excess e0: to the stability
+// limit, or to the first failing value of a doubling march.
+func (s *safeSearch) above(k0, e0 float64) {
+	hi := 0.0
+	if s.lim.StableMax != nil {
+		hi = *s.lim.StableMax
+	} else {
+		// No stability limit above: look for a margin limit within
+		// a million times the current size.
+		step := math.Max(math.Abs(k0), 1e-6)
+		found := false
+		for i := 0; i < 20; i++ {
+			hi = k0 + step*math.Pow(2, float64(i))
+			if s.fails(hi) {
+				found = true
+				break
+			}
+		}
+		if !found {
+			s.lim.SafeMaxNote = "no finite upper limit found: every loop keeps its gain margin as the gain grows"
+			return
+		}
+	}
+	v := largestMeeting(s.excess, k0, hi, e0, s.fhi(hi))
+	s.lim.SafeMax = &v
+}
+
+// below handles a failing current value: it looks below it, inside the
+// stable interval when one is known, for a value that passes, then
+// bisects up to the switch point.
+func (s *safeSearch) below(k0 float64) {
+	lim := s.lim
 	top := k0
 	floor := math.Inf(-1)
 	if lim.Found {
@@ -399,15 +409,11 @@ func (c *checker) safeMax(g *Gain, loops []*Loop, lim *GainLimits) {
 	}
 	sort.Sort(sort.Reverse(sort.Float64Slice(cands)))
 	for _, lo := range cands {
-		if lo <= floor || lo >= top {
-			continue
+		if lo <= floor || lo >= top || s.raised.fails(lo) {
+			continue // raised.fails: a full check would fail too
 		}
-		if ok(lo) {
-			fhi := math.NaN()
-			if lim.StableMax != nil && top == *lim.StableMax {
-				fhi = -c.maxRequiredGM(loops)
-			}
-			v := largestMeeting(f, lo, top, fhi)
+		if e := s.excess(lo); e >= 0 {
+			v := largestMeeting(s.excess, lo, top, e, s.fhi(top))
 			lim.SafeMax = &v
 			return
 		}
@@ -532,22 +538,49 @@ const ZeroSnap = 1e-3
 // openOnCircle reports whether some loop has a closed-loop pole on the unit
 // circle with the gain set to zero.
 func (c *checker) openOnCircle(name string, loops []*Loop) bool {
-	for _, l := range loops {
-		_, ps, _ := c.decideAt(l, name, 0)
+	onCircle := func(ps []lti.Pole) bool {
 		for _, p := range ps {
 			if p.Place(c.env.Options.Tolerance) == lti.OnCircle {
 				return true
 			}
 		}
+		return false
+	}
+	for _, l := range loops {
+		// The common poles (a block pole matched by a zero: an integrator
+		// the gain at zero cuts out) are exact closed-loop poles; one on the
+		// circle answers without the eigenvalues of the rest.
+		m, ok := c.modelAt(l, name, 0)
+		if !ok {
+			continue
+		}
+		if onCircle(m.Common()) {
+			return true
+		}
+		if ps, err := m.Poles(); err == nil && onCircle(ps) {
+			return true
+		}
 	}
 	return false
 }
 
-func snapZero(end, other *float64) {
-	if end == nil || other == nil {
-		return
+// snapEnds sets an end of the interval (lo, hi) of gain name to zero when
+// it lies within ZeroSnap of it and some loop has a pole on the circle at
+// zero. The eigenvalue check at zero runs only when an end is that close:
+// otherwise its answer changes nothing.
+func (c *checker) snapEnds(name string, loops []*Loop, lo, hi *float64) {
+	if (nearZero(lo, hi) || nearZero(hi, lo)) && c.openOnCircle(name, loops) {
+		snapZero(lo, hi)
+		snapZero(hi, lo)
 	}
-	if math.Abs(*end) <= ZeroSnap*math.Abs(*other-*end) {
+}
+
+func nearZero(end, other *float64) bool {
+	return end != nil && other != nil && math.Abs(*end) <= ZeroSnap*math.Abs(*other-*end)
+}
+
+func snapZero(end, other *float64) {
+	if nearZero(end, other) {
 		*end = 0
 	}
 }

@@ -88,7 +88,7 @@ func polys(fwd, fb []poly.Rational, positive bool) (open poly.Rational, char pol
 // elements resolves the names of a path; ok is false when one failed (and
 // was reported when diags is set).
 func (c *checker) elements(ev *evaluator, names []*syntax.Ident, report bool) ([]element, bool) {
-	var out []element
+	out := make([]element, 0, len(names))
 	ok := true
 	for _, id := range names {
 		d, found := c.res.Scope[id.Name]

@@ -228,10 +228,7 @@ func (c *checker) robustLoop(ctx context.Context, l *Loop, vs []*Gain) {
 	}
 	if res.Interval != nil {
 		r.IntervalLo, r.IntervalHi = res.Interval.Lo, res.Interval.Hi
-		if c.openOnCircle(f.Names[0], []*Loop{l}) { // zero is then an exact end
-			snapZero(r.IntervalLo, r.IntervalHi)
-			snapZero(r.IntervalHi, r.IntervalLo)
-		}
+		c.snapEnds(f.Names[0], []*Loop{l}, r.IntervalLo, r.IntervalHi) // zero is then an exact end
 	}
 	l.Robust = r
 	r.IllPosed = res.IllPosed

@@ -65,86 +65,137 @@ const (
 // Should the inner test disagree with k0's own (a boundary lost to
 // rounding), Affine falls back to Numeric and reports Exact false.
 func Affine(a, b poly.Poly, k0 float64) (Interval, error) {
-	if !a.Finite() || !b.Finite() {
-		return Interval{}, fmt.Errorf("gainlimit: non-finite coefficient in a = %v or b = %v", []float64(a), []float64(b))
+	iv, _, err := AffineSpans(a, b, k0)
+	return iv, err
+}
+
+// AffineSpans is Affine, with the spans between consecutive candidates in
+// increasing order of k, each decided by SchurStable at an inner point (the
+// midpoint, or a step of max(1, |end|) beyond a single end, or k0 for the
+// whole line). The spans are nil when the interval came from the Numeric
+// fallback.
+func AffineSpans(a, b poly.Poly, k0 float64) (Interval, []Span, error) {
+	af, err := newAffine(a, b)
+	if err != nil {
+		return Interval{}, nil, err
 	}
 	if math.IsNaN(k0) || math.IsInf(k0, 0) {
-		return Interval{}, fmt.Errorf("gainlimit: current gain %v is not finite", k0)
+		return Interval{}, nil, fmt.Errorf("gainlimit: current gain %v is not finite", k0)
 	}
-	a, b = a.Trim(), b.Trim()
-	if len(b) == 0 {
-		return Interval{}, fmt.Errorf("gainlimit: b is the zero polynomial: the gain does not enter c(k)")
-	}
-	if len(a) == 0 && len(b) == 1 {
-		return Interval{}, fmt.Errorf("gainlimit: c(k) = k·%v has no roots to place", b[0])
-	}
-	c := func(k float64) poly.Poly { return a.Add(b.Scale(k)) }
-	deg := max(a.Degree(), b.Degree())
-	stableAt := func(k float64) (bool, error) {
-		p := c(k)
-		if p.Degree() < deg {
-			return false, nil // a root went to infinity (or every z is a root)
-		}
-		return SchurStable(p)
-	}
-	cands := affineCandidates(a, b)
-
-	s0, err := stableAt(k0)
+	spans, err := af.spans(k0)
 	if err != nil {
-		return Interval{}, err
+		return Interval{}, nil, err
 	}
-	// Intervals between candidates: index i is (cands[i-1], cands[i]).
-	type span struct {
-		lo, hi   *float64
-		stable   bool
-		distance float64
-	}
-	var spans []span
-	for i := 0; i <= len(cands); i++ {
-		var lo, hi *float64
-		if i > 0 {
-			lo = ptr(cands[i-1])
-		}
-		if i < len(cands) {
-			hi = ptr(cands[i])
-		}
-		st, err := stableAt(innerPoint(lo, hi, k0))
-		if err != nil {
-			return Interval{}, err
-		}
-		d := 0.0
-		if lo != nil && k0 <= *lo {
-			d = *lo - k0
-		}
-		if hi != nil && k0 >= *hi {
-			d = k0 - *hi
-		}
-		spans = append(spans, span{lo, hi, st, d})
+	s0, err := af.stableAt(k0)
+	if err != nil {
+		return Interval{}, nil, err
 	}
 	if s0 {
 		for _, s := range spans {
-			if (s.lo == nil || *s.lo < k0) && (s.hi == nil || k0 < *s.hi) {
-				if !s.stable {
+			if s.Contains(k0) {
+				if !s.Stable {
 					break // disagreement: fall back below
 				}
-				return Interval{Lo: s.lo, Hi: s.hi, Exact: true, ContainsCurrent: true, Found: true}, nil
+				return Interval{Lo: clone(s.Lo), Hi: clone(s.Hi), Exact: true, ContainsCurrent: true, Found: true}, spans, nil
 			}
 		}
-		iv, err := Numeric(func(k float64) (poly.Poly, error) { return c(k), nil }, k0)
+		iv, err := Numeric(func(k float64) (poly.Poly, error) { return af.at(k), nil }, k0)
 		iv.Exact = false
-		return iv, err
+		return iv, nil, err
 	}
 	best := -1
 	for i, s := range spans {
-		if s.stable && (best < 0 || s.distance < spans[best].distance) {
+		if s.Stable && (best < 0 || s.Distance(k0) < spans[best].Distance(k0)) {
 			best = i
 		}
 	}
 	if best < 0 {
-		return Interval{Exact: true}, nil
+		return Interval{Exact: true}, spans, nil
 	}
 	s := spans[best]
-	return Interval{Lo: s.lo, Hi: s.hi, Exact: true, Found: true}, nil
+	return Interval{Lo: clone(s.Lo), Hi: clone(s.Hi), Exact: true, Found: true}, spans, nil
+}
+
+// clone copies an end, so that an Interval never shares storage with spans.
+func clone(p *float64) *float64 {
+	if p == nil {
+		return nil
+	}
+	return ptr(*p)
+}
+
+// Span is an open interval of gains between consecutive boundaries of
+// c(k) = a + k·b (nil: unbounded), inside which stability is constant.
+type Span struct {
+	Lo, Hi *float64
+	Stable bool
+}
+
+// Contains reports whether k0 lies strictly inside the span.
+func (s Span) Contains(k0 float64) bool {
+	return (s.Lo == nil || *s.Lo < k0) && (s.Hi == nil || k0 < *s.Hi)
+}
+
+// Distance is how far k0 lies outside the span's closure (0 inside).
+func (s Span) Distance(k0 float64) float64 {
+	switch {
+	case s.Lo != nil && k0 <= *s.Lo:
+		return *s.Lo - k0
+	case s.Hi != nil && k0 >= *s.Hi:
+		return k0 - *s.Hi
+	}
+	return 0
+}
+
+// affine is a characteristic polynomial affine in the gain.
+type affine struct {
+	a, b poly.Poly
+	deg  int
+}
+
+func newAffine(a, b poly.Poly) (affine, error) {
+	if !a.Finite() || !b.Finite() {
+		return affine{}, fmt.Errorf("gainlimit: non-finite coefficient in a = %v or b = %v", []float64(a), []float64(b))
+	}
+	a, b = a.Trim(), b.Trim()
+	if len(b) == 0 {
+		return affine{}, fmt.Errorf("gainlimit: b is the zero polynomial: the gain does not enter c(k)")
+	}
+	if len(a) == 0 && len(b) == 1 {
+		return affine{}, fmt.Errorf("gainlimit: c(k) = k·%v has no roots to place", b[0])
+	}
+	return affine{a: a, b: b, deg: max(a.Degree(), b.Degree())}, nil
+}
+
+func (af affine) at(k float64) poly.Poly { return af.a.Add(af.b.Scale(k)) }
+
+func (af affine) stableAt(k float64) (bool, error) {
+	p := af.at(k)
+	if p.Degree() < af.deg {
+		return false, nil // a root went to infinity (or every z is a root)
+	}
+	return SchurStable(p)
+}
+
+func (af affine) spans(k0 float64) ([]Span, error) {
+	cands := affineCandidates(af.a, af.b)
+	spans := make([]Span, 0, len(cands)+1)
+	for i := 0; i <= len(cands); i++ {
+		var s Span
+		if i > 0 {
+			s.Lo = &cands[i-1]
+		}
+		if i < len(cands) {
+			s.Hi = &cands[i]
+		}
+		st, err := af.stableAt(innerPoint(s.Lo, s.Hi, k0))
+		if err != nil {
+			return nil, err
+		}
+		s.Stable = st
+		spans = append(spans, s)
+	}
+	return spans, nil
 }
 
 // innerPoint picks a test gain strictly inside (lo, hi): the midpoint, or a
@@ -172,22 +223,8 @@ func affineCandidates(a, b poly.Poly) []float64 {
 		ks = append(ks, -coef(a, n)/bn)
 	}
 	thetas := []float64{0, math.Pi}
-	rec := func(p poly.Poly) poly.Poly {
-		r := make(poly.Poly, n+1)
-		for i := 0; i <= n; i++ {
-			r[i] = coef(p, n-i)
-		}
-		return r
-	}
-	q := a.Mul(rec(b)).Sub(rec(a).Mul(b))
-	if !negligible(q, a, b) {
-		if roots, ok := roots.Companion(q); ok {
-			for _, r := range roots {
-				if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
-					thetas = append(thetas, polishAngle(a, b, cmplx.Phase(r)))
-				}
-			}
-		}
+	for _, th := range circleAngles(a, b, n) {
+		thetas = append(thetas, polishAngle(a, b, th))
 	}
 	for _, th := range thetas {
 		z := cmplx.Rect(1, th)
@@ -210,6 +247,97 @@ func affineCandidates(a, b poly.Poly) []float64 {
 		out = append(out, k)
 	}
 	return out
+}
+
+// chebyshevMaxDegree: up to this n, circleAngles solves the reduced
+// polynomial in x = cos θ; the magnitudes of U_m's coefficients in powers
+// of x sum to about (1 + √2)^m, so beyond it the rounding they carry would
+// cost more digits than the full degree-2n companion does.
+const chebyshevMaxDegree = 16
+
+// circleAngles returns estimates of the angles θ in [0, π] where
+// Q(z) = a(z)b̃(z) − ã(z)b(z), b̃(z) = zⁿb(1/z), has a root e^{jθ} (within
+// circleRootTol of the circle); none when Q vanishes up to rounding.
+//
+// Q is anti-reciprocal: Q(z) = Σₘ cₘ (z^{n+m} − z^{n−m}) with cₘ = q[n+m],
+// so on the circle Q(e^{jθ}) = 2j·e^{jnθ}·sin θ·g(cos θ), where
+// g(x) = Σₘ cₘ U_{m−1}(x) (U the Chebyshev polynomials of the second kind:
+// sin mθ = sin θ·U_{m−1}(cos θ)). Its circle roots other than ±1 (θ = 0
+// and π are candidates anyway) are the roots of g in [−1, 1]: a problem
+// of degree n − 1 instead of 2n. A root of Q at radius e^{±ε} maps to
+// x = cos θ·cosh ε ∓ j·sin θ·sinh ε, so the gate |Im x| < circleRootTol,
+// |Re x| ≤ 1 + circleRootTol admits every root the gate on |z| would.
+func circleAngles(a, b poly.Poly, n int) []float64 {
+	// Q is bilinear in a and b: scaling each by a power of two (exact)
+	// keeps its roots and every product finite.
+	a, b = unitScale([]poly.Poly{a})[0], unitScale([]poly.Poly{b})[0]
+	rec := func(p poly.Poly) poly.Poly {
+		r := make(poly.Poly, n+1)
+		for i := 0; i <= n; i++ {
+			r[i] = coef(p, n-i)
+		}
+		return r
+	}
+	q := a.Mul(rec(b)).Sub(rec(a).Mul(b))
+	if negligible(q, a, b) {
+		return nil
+	}
+	if n <= chebyshevMaxDegree {
+		if g := cosPoly(q, n); g.Finite() {
+			return cosAngles(g)
+		}
+	}
+	var ths []float64
+	if !q.Finite() {
+		return nil
+	}
+	if rs, ok := roots.Companion(q); ok {
+		for _, r := range rs {
+			if math.Abs(cmplx.Abs(r)-1) < circleRootTol && imag(r) >= 0 {
+				ths = append(ths, cmplx.Phase(r))
+			}
+		}
+	}
+	return ths
+}
+
+// cosPoly is g(x) = Σₘ cₘ U_{m−1}(x), cₘ = q[n+m]; a non-finite g sends
+// circleAngles back to Q itself.
+func cosPoly(q poly.Poly, n int) poly.Poly {
+	g := make(poly.Poly, n)
+	prev, cur := poly.Poly{}, poly.Poly{1} // U₋₁ = 0, U₀ = 1
+	for m := 1; m <= n; m++ {
+		c := coef(q, n+m)
+		for i, v := range cur {
+			g[i] += c * v
+		}
+		// U_m = 2x·U_{m−1} − U_{m−2}
+		next := make(poly.Poly, len(cur)+1)
+		for i, v := range cur {
+			next[i+1] = 2 * v
+		}
+		for i, v := range prev {
+			next[i] -= v
+		}
+		prev, cur = cur, next
+	}
+	return g
+}
+
+// cosAngles returns acos x for the roots x of g in [−1, 1] (see the gate
+// in circleAngles).
+func cosAngles(g poly.Poly) []float64 {
+	xs, ok := roots.Companion(g)
+	if !ok {
+		return nil
+	}
+	var ths []float64
+	for _, x := range xs {
+		if math.Abs(imag(x)) < circleRootTol && math.Abs(real(x)) <= 1+circleRootTol {
+			ths = append(ths, math.Acos(math.Max(-1, math.Min(1, real(x)))))
+		}
+	}
+	return ths
 }
 
 // negligible reports whether q is zero up to rounding of the products a·b

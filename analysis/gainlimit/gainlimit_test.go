@@ -364,3 +364,30 @@ func TestLargestMeeting(t *testing.T) {
 		t.Error("NaN: reported ok")
 	}
 }
+
+// TestCircleAngles: c(k) = zⁿ + k has a root on the unit circle exactly at
+// θ = mπ/n (m = 0 … n), where zⁿ is real (sin nθ = 0, trigonometry). Both
+// ways of finding the angles, the reduced polynomial in cos θ (n up to
+// chebyshevMaxDegree) and the degree-2n companion beyond, must find every
+// inner angle.
+func TestCircleAngles(t *testing.T) {
+	for n := 1; n <= chebyshevMaxDegree+4; n++ {
+		got := circleAngles(poly.Monomial(1, n), poly.New(1), n)
+		for m := 1; m < n; m++ {
+			want := float64(m) * math.Pi / float64(n)
+			found := false
+			for _, th := range got {
+				found = found || math.Abs(th-want) < 1e-9
+			}
+			if !found {
+				t.Errorf("n = %d: angle %d·π/%d = %.12f not among %v", n, m, n, want, got)
+			}
+		}
+		for _, th := range got {
+			m := th * float64(n) / math.Pi
+			if math.Abs(m-math.Round(m)) > 1e-6 {
+				t.Errorf("n = %d: angle %v is not a multiple of π/%d", n, th, n)
+			}
+		}
+	}
+}

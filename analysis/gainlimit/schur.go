@@ -52,18 +52,19 @@ func SchurStable(p poly.Poly) (bool, error) {
 	if err != nil {
 		return false, err
 	}
-	a := append([]float64(nil), q...)
+	buf := make([]float64, 2*len(q))
+	a, next := buf[:len(q)], buf[len(q):]
+	copy(a, q)
 	for n := len(a) - 1; n >= 1; n-- {
 		rescale(a[:n+1])
 		lead, low := a[n], a[0]
 		if math.Abs(low) > (1-SchurTolerance)*math.Abs(lead) {
 			return false, nil
 		}
-		next := make([]float64, n)
 		for j := 0; j < n; j++ {
 			next[j] = lead*a[j+1] - low*a[n-1-j]
 		}
-		a = next
+		a, next = next[:n], a
 	}
 	return true, nil
 }
