@@ -84,16 +84,10 @@ func (c *checker) run(ctx context.Context) {
 	c.gainValues()
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev
-	c.blocks(ev)
-	c.realizations(ev)
 	// Every block in scope is evaluated before the loops, which then only
 	// read the shared evaluator and can be analysed side by side.
-	for _, name := range sortedDecls(c.res.Scope) {
-		if d := c.res.Scope[name]; d.Block != nil {
-			ev.block(d)
-		}
-	}
-	c.usedBlocks(ev)
+	c.blocks(ev)
+	c.realizations(ev)
 	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
 		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
@@ -153,25 +147,6 @@ func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
 		}
 	}()
 	return c.loop(ev, ls)
-}
-
-// usedBlocks fills in the blocks of used files (transfer function, poles,
-// zeros) in the same pass, so that every view of such a block reads this
-// result. Their findings belong to the check of their own file.
-func (c *checker) usedBlocks(ev *evaluator) {
-	own := c.diags
-	c.diags = &diagList{}
-	defer func() { c.diags = own }()
-	for _, name := range sortedDecls(c.res.Scope) {
-		d := c.res.Scope[name]
-		if d.Block == nil || d.Path == c.res.Path {
-			continue
-		}
-		fillBlock(d.Block, ev.block(d))
-		if d.Block.OK {
-			c.blockPoles(d.Block)
-		}
-	}
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {

@@ -85,6 +85,8 @@ type blockValue struct {
 	contOK bool // cont valid (s and constant blocks)
 	gains  map[string]bool
 	busy   bool
+	// key is the block's memo key (blockMemoKey), "" when not memoised.
+	key string
 }
 
 type evalError struct {

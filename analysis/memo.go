@@ -1,12 +1,14 @@
 package analysis
 
 import (
+	"crypto/sha256"
 	"encoding/binary"
 	"math"
 	"sync"
 
 	"ringside/analysis/discretize"
 	"ringside/analysis/lti"
+	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 	"ringside/analysis/step"
@@ -72,6 +74,8 @@ type memoFile struct {
 	// nums holds results of pure numeric functions of coefficients:
 	// roots of block polynomials, discretizations.
 	nums map[string]numResult
+	// blocks holds blocks' evaluations and findings (blockMemoKey).
+	blocks map[string]*blockEntry
 	// loopTexts and gainTexts hold the one-line summaries of loops and
 	// gains, keyed by the loop's or the gain limits' memo key (the text is
 	// a function of the result).
@@ -86,14 +90,15 @@ type numResult struct {
 
 func newMemoFile() *memoFile {
 	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{},
-		loopTexts: map[string]string{}, gainTexts: map[string]string{}}
+		blocks: map[string]*blockEntry{}, loopTexts: map[string]string{}, gainTexts: map[string]string{}}
 }
 
-func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
-func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
-func numsOf(f *memoFile) map[string]numResult    { return f.nums }
-func loopTextsOf(f *memoFile) map[string]string  { return f.loopTexts }
-func gainTextsOf(f *memoFile) map[string]string  { return f.gainTexts }
+func loopsOf(f *memoFile) map[string]*loopEntry   { return f.loops }
+func gainsOf(f *memoFile) map[string]*GainLimits  { return f.gains }
+func numsOf(f *memoFile) map[string]numResult     { return f.nums }
+func blocksOf(f *memoFile) map[string]*blockEntry { return f.blocks }
+func loopTextsOf(f *memoFile) map[string]string   { return f.loopTexts }
+func gainTextsOf(f *memoFile) map[string]string   { return f.gainTexts }
 
 // lookup finds key among this check's entries, then the previous check's.
 func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
@@ -246,7 +251,10 @@ func stmtSrc(src []byte, n syntax.Node) []byte {
 
 // loopKey is the key of a loop's analysis, or "" when the loop is not to be
 // memoised (an element that does not resolve: its messages depend on the
-// whole scope).
+// whole scope). It is the SHA-256 digest of what the analysis reads: the
+// loop as written, each element's block key (blockMemoKey; else its
+// statement, coefficients and factored form), realize line and gains with
+// their ranges, the sample period and the options.
 func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 	sh := shapeOf(ls)
 	fwd, ok1 := c.elements(ev, sh.fwd, false)
@@ -254,7 +262,7 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 	if !ok1 || !ok2 || c.env.Options.Quick {
 		return ""
 	}
-	k := make(keyBuf, 0, 1024) // room for the usual key: one allocation
+	k := make(keyBuf, 0, 512) // room for the usual key: one allocation
 	k.str(c.res.Path)
 	k.bytes(stmtSrc(c.root.file.Src, ls))
 	k.num(c.res.SampleT)
@@ -262,13 +270,23 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 	for _, e := range append(fwd, fb...) {
 		k.str(e.name)
 		k.str(e.decl.Path)
-		k.bytes(c.declSrc(e.decl))
-		k.poly(e.tf.Num)
-		k.poly(e.tf.Den)
-		k.factored(e.fac, e.facErr)
-		k.str(c.realizeKey(e))
+		var bv *blockValue
 		if e.block != nil {
-			for _, g := range sortedKeys(ev.memo[e.name].gains) {
+			bv = ev.memo[e.name]
+		}
+		if bv != nil && bv.key != "" {
+			// The block's key stands for its statement and everything
+			// its value depends on.
+			k.str(bv.key)
+		} else {
+			k.bytes(c.declSrc(e.decl))
+			k.poly(e.tf.Num)
+			k.poly(e.tf.Den)
+			k.factored(e.fac, e.facErr)
+		}
+		k.str(c.realizeKey(e))
+		if bv != nil {
+			for _, g := range sortedKeys(bv.gains) {
 				k.str(g)
 				if d := c.res.Scope[g]; d != nil {
 					k.bytes(c.declSrc(d)) // its range too
@@ -277,7 +295,8 @@ func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
 		}
 		k.str("")
 	}
-	return string(k)
+	sum := sha256.Sum256(k)
+	return string(sum[:])
 }
 
 // declStmt is the statement declaring d.
@@ -526,7 +545,11 @@ func (c *checker) dependents() *gainDeps {
 		for g := range bv.gains {
 			deps.blocks[g] = append(deps.blocks[g], name)
 		}
-		deps.keys[name] = c.blockKey(d)
+		if bv.key != "" {
+			deps.keys[name] = bv.key // stands for all blockKey holds
+		} else {
+			deps.keys[name] = c.blockKey(d)
+		}
 	}
 	return deps
 }
@@ -682,4 +705,132 @@ func (r *memoRun) discretize(h poly.Rational, opt discretize.Options) (poly.Rati
 		return numResult{tf: tf, err: err}
 	})
 	return v.tf, v.err
+}
+
+// blockEntry is a block's evaluation and findings as one check made them:
+// the value (never modified once made), the poles, zeros and DC gain, and
+// what was reported, with spans relative to the block's statement.
+type blockEntry struct {
+	bv     *blockValue
+	poles  []pole.Info
+	zeros  []pole.Info
+	dc     float64
+	diags  []Diagnostic
+	starts []syntax.Pos // the statement's start when recorded, per diags
+}
+
+// blockMemoKey is the key of d's evaluation and findings: the block's file,
+// name and statement as written, the sample period and the pole
+// tolerance, and for each name its expression uses, the gain's value or
+// the named block's own key with where it is declared (a later block is an
+// error). "" when not memoised: no memo, or a name that does not resolve
+// (its message suggests names from the whole scope), or a named block not
+// memoised itself. The key is a SHA-256 digest of all that.
+func (c *checker) blockMemoKey(ev *evaluator, d *Decl) string {
+	if c.memo == nil || d.Block.Stmt == nil {
+		return ""
+	}
+	k := make(keyBuf, 0, 256)
+	k.str("block")
+	k.str(d.Path)
+	k.str(d.Name)
+	k.bytes(c.declSrc(d))
+	k.num(c.res.SampleT)
+	k.num(c.env.Options.Tolerance)
+	ok := true
+	if d.Block.Stmt.Expr != nil {
+		syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
+			x, isRef := n.(*syntax.NameRef)
+			if !isRef || !ok {
+				return ok
+			}
+			k.str(x.Name)
+			ref := c.res.Scope[x.Name]
+			switch {
+			case ref == nil:
+				ok = false
+			case ref.Gain != nil:
+				k.str("gain")
+				k.num(ev.gain(x.Name))
+			case ref == d:
+				k.str("itself")
+			default:
+				bv := ev.memo[x.Name]
+				if bv == nil || bv.key == "" {
+					ok = false
+					return false
+				}
+				k.str(bv.key)
+				k.num(float64(boolBit(ref.Path == d.Path && ref.Ident.From > d.Ident.From)))
+				k.num(float64(boolBit(ref.Block.Stmt.Via == nil)))
+			}
+			return ok
+		})
+	}
+	if !ok {
+		return ""
+	}
+	sum := sha256.Sum256(k)
+	return string(sum[:])
+}
+
+func boolBit(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// recordBlock makes an entry of d's evaluation bv (already in d.Block) and of
+// what it reported; false when a span lies outside d's statement.
+func (c *checker) recordBlock(d *Decl, bv *blockValue, diags []Diagnostic) (*blockEntry, bool) {
+	b := d.Block
+	st := declStmt(d)
+	e := &blockEntry{bv: bv, poles: b.Poles, zeros: b.Zeros, dc: b.DCGain}
+	for _, x := range diags {
+		x = cloneDiag(x)
+		inside := true
+		eachSpan(&x, func(path string, s *syntax.Span) {
+			if path != d.Path || s.From < st.Pos() || s.To > st.End() {
+				inside = false
+			}
+		})
+		if !inside {
+			return nil, false
+		}
+		e.diags = append(e.diags, x)
+		e.starts = append(e.starts, st.Pos())
+	}
+	return e, true
+}
+
+// replayBlock places a stored entry in this check: d's Block filled in,
+// the spans moved with the statement.
+func (c *checker) replayBlock(e *blockEntry, d *Decl) (*blockJob, bool) {
+	b := d.Block
+	fillBlock(b, e.bv)
+	b.Poles, b.Zeros, b.DCGain = e.poles, e.zeros, e.dc
+	j := &blockJob{decl: d, bv: e.bv}
+	if d.Path != c.res.Path {
+		return j, true
+	}
+	st := declStmt(d)
+	j.diags = make([]Diagnostic, len(e.diags))
+	for i, x := range e.diags {
+		x = cloneDiag(x)
+		shift := st.Pos() - e.starts[i]
+		eachSpan(&x, func(_ string, s *syntax.Span) {
+			s.From += shift
+			s.To += shift
+		})
+		j.diags[i] = x
+	}
+	return j, true
+}
+
+// keepBlock keeps a block's entry for the next check.
+func (r *memoRun) keepBlock(key string, e *blockEntry) {
+	r.mu.Lock()
+	r.next.blocks[key] = e
+	r.mu.Unlock()
 }

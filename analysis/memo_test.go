@@ -2,6 +2,7 @@ package analysis
 
 import (
 	"context"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -58,7 +59,30 @@ func checkBoth(t *testing.T, memo *Memo, path string, src []byte, env Env) *Resu
 			t.Errorf("gain %s: limits differ with the memo", g.Name)
 		}
 	}
+	sameBlocks(t, got.Blocks, plain.Blocks)
 	return got
+}
+
+// sameBlocks fails when blocks differ in anything but their statement and
+// realization (read afresh by every check).
+func sameBlocks(t *testing.T, got, want []*Block) {
+	t.Helper()
+	if len(got) != len(want) {
+		t.Fatalf("%d blocks with the memo, %d without", len(got), len(want))
+	}
+	for i, b := range want {
+		a, p := *got[i], *b
+		if a.Stmt == nil || p.Stmt == nil || a.Stmt.From != p.Stmt.From {
+			t.Errorf("block %s: statement not of this check", b.Name)
+		}
+		a.Stmt, p.Stmt, a.Realization, p.Realization = nil, nil, nil, nil
+		if math.IsNaN(a.DCGain) && math.IsNaN(p.DCGain) {
+			a.DCGain, p.DCGain = 0, 0
+		}
+		if !reflect.DeepEqual(a, p) {
+			t.Errorf("block %s differs with the memo:\n%+v\n%+v", b.Name, a, p)
+		}
+	}
 }
 
 // TestMemoSameAsFresh edits the demo files (a gain value that changes the
@@ -125,5 +149,66 @@ func TestMemoGainEdit(t *testing.T) {
 		if same != (l.Name != "l5") {
 			t.Errorf("loop %s: reused %v", l.Name, same)
 		}
+	}
+	// Blocks too: only c5, which names kp5, is evaluated again.
+	for k, b := range second.Blocks {
+		if len(b.Poles) == 0 {
+			continue
+		}
+		same := &b.Poles[0] == &first.Blocks[k].Poles[0]
+		if same != (b.Name != "c5") {
+			t.Errorf("block %s: reused %v", b.Name, same)
+		}
+	}
+}
+
+// The files of every expected diagnostic (unknown names, later blocks,
+// mixed variables, realize lines, used files...) check the same through
+// the memo after lines move, a block changes and a name changes, so a
+// block or loop replayed from the memo carries what a fresh check finds.
+func TestMemoSameAsFreshDiagFiles(t *testing.T) {
+	files, _ := filepath.Glob("testdata/diag/*.loop")
+	if len(files) == 0 {
+		t.Fatal("no testdata/diag files")
+	}
+	for _, path := range files {
+		path, _ = filepath.Abs(path)
+		src, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		env := Env{Roots: []string{filepath.Dir(path)}}
+		memo := NewMemo()
+		text := string(src)
+		checkBoth(t, memo, path, []byte(text), env)
+		for _, edit := range []func(string) string{
+			func(s string) string { return "# moved\n\n" + s },
+			func(s string) string { return strings.Replace(s, "0.5", "0.55", 1) },
+			func(s string) string { return strings.Replace(s, "z - ", "z -  ", 2) },
+			func(s string) string { return strings.Replace(s, "block p", "block pp", 1) },
+			func(s string) string { return strings.Replace(s, "block pp", "block p", 1) },
+		} {
+			text = edit(text)
+			checkBoth(t, memo, path, []byte(text), env)
+		}
+	}
+}
+
+// Blocks that name each other in a cycle, or name a block declared later,
+// check the same with the memo, and edits around them too.
+func TestMemoCyclesAndLaterBlocks(t *testing.T) {
+	srcs := []string{
+		"sample 1 ms\nblock a = b * 2\nblock b = a / (z - 0.5)\nloop l {\n  forward a\n}\n",
+		"sample 1 ms\nblock a = later + 1\nblock later = 1 / (z - 0.5)\nblock c = a * later\nloop l {\n  forward c\n}\n",
+		"sample 1 ms\ngain k = 2\nblock a = k / (z - 0.9)\nblock b = a * a\nblock c = b + a\nloop l {\n  forward c\n  feedback z^-1\n}\n",
+		"sample 1 ms\nblock s1 = 1 / (s + 2) via zoh\nblock s2 = s1 * 3\nblock zz = s2 * z^-1\nloop l {\n  forward zz\n}\n",
+	}
+	for _, src := range srcs {
+		memo := NewMemo()
+		env := Env{Roots: []string{"/m"}}
+		checkBoth(t, memo, "/m/a.loop", []byte(src), env)
+		checkBoth(t, memo, "/m/a.loop", []byte("\n"+src), env)
+		checkBoth(t, memo, "/m/a.loop", []byte(strings.Replace(src, "0.5", "0.25", 1)), env)
+		checkBoth(t, memo, "/m/a.loop", []byte(strings.Replace(src, "k = 2", "k = 3", 1)), env)
 	}
 }
