@@ -74,24 +74,42 @@ type diagPlace struct {
 }
 
 // blockUsers maps each block name to the loops that use it, directly or
-// inside a block that is on a path, in loop order: one walk per loop, so
-// a file of many loops and integrators costs loops × blocks reached, not
-// loops × blocks.
+// inside a block that is on a path, in loop order. What each name reaches
+// is found once (reachedFrom), so a file of many loops and integrators costs
+// loops × names reached, not loops × blocks.
 func (c *checker) blockUsers() map[string][]*Loop {
 	users := map[string][]*Loop{}
+	reached := map[string][]string{}
+	last := map[string]*Loop{} // the last loop added to each name's users
 	for _, l := range c.res.Loops {
-		seen := map[string]bool{}
-		for _, n := range l.Forward {
-			c.reach(n, seen)
-		}
-		for _, n := range l.Feedback {
-			c.reach(n, seen)
-		}
-		for n := range seen {
-			users[n] = append(users[n], l)
+		for _, path := range [2][]string{l.Forward, l.Feedback} {
+			for _, n := range path {
+				for _, m := range c.reachedFrom(n, reached) {
+					if last[m] != l {
+						last[m] = l
+						users[m] = append(users[m], l)
+					}
+				}
+			}
 		}
 	}
 	return users
+}
+
+// reachedFrom lists from and every name its expression refers to
+// (transitively), computed once per name into memo.
+func (c *checker) reachedFrom(from string, memo map[string][]string) []string {
+	if r, ok := memo[from]; ok {
+		return r
+	}
+	seen := map[string]bool{}
+	c.reach(from, seen)
+	r := make([]string, 0, len(seen))
+	for n := range seen {
+		r = append(r, n)
+	}
+	memo[from] = r
+	return r
 }
 
 // reach adds block from and every name its expression refers to
