@@ -80,11 +80,12 @@ type diagPlace struct {
 func (c *checker) blockUsers() map[string][]*Loop {
 	users := map[string][]*Loop{}
 	reached := map[string][]string{}
+	seen := map[string]bool{}  // scratch for reachedFrom
 	last := map[string]*Loop{} // the last loop added to each name's users
 	for _, l := range c.res.Loops {
 		for _, path := range [2][]string{l.Forward, l.Feedback} {
 			for _, n := range path {
-				for _, m := range c.reachedFrom(n, reached) {
+				for _, m := range c.reachedFrom(n, reached, seen) {
 					if last[m] != l {
 						last[m] = l
 						users[m] = append(users[m], l)
@@ -97,12 +98,12 @@ func (c *checker) blockUsers() map[string][]*Loop {
 }
 
 // reachedFrom lists from and every name its expression refers to
-// (transitively), computed once per name into memo.
-func (c *checker) reachedFrom(from string, memo map[string][]string) []string {
+// (transitively), computed once per name into memo; seen is scratch.
+func (c *checker) reachedFrom(from string, memo map[string][]string, seen map[string]bool) []string {
 	if r, ok := memo[from]; ok {
 		return r
 	}
-	seen := map[string]bool{}
+	clear(seen)
 	c.reach(from, seen)
 	r := make([]string, 0, len(seen))
 	for n := range seen {
