@@ -4,10 +4,9 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
 
 	"ringside/analysis/diskmargin"
-	"ringside/analysis/lti"
+	"ringside/analysis/freq"
 )
 
 // DiskMargin is a loop's symmetric disk margin and the frequency where
@@ -17,23 +16,13 @@ type DiskMargin struct {
 	PeakHz float64
 }
 
-// modelResponse is the evaluator of L(e^{jθ}) the disk margin reads: the
-// loop's model, block by block (cancelled pairs cancel exactly); any other
-// evaluation of the loop can take its place.
-func modelResponse(m *lti.Loop) diskmargin.Response {
-	return func(th float64) complex128 { return m.At(cmplx.Rect(1, th)) }
-}
-
-// diskMargin computes the symmetric disk margin of a stable loop.
-func (c *checker) diskMargin(l *Loop) {
-	if !l.Stable || l.Model == nil {
+// diskMargin computes the symmetric disk margin of a stable loop from its
+// sampled response (the margins' grid, evaluated once).
+func (c *checker) diskMargin(l *Loop, resp *freq.Sampled) {
+	if !l.Stable {
 		return
 	}
-	poles := make([]complex128, len(l.Poles))
-	for i, p := range l.Poles {
-		poles[i] = p.Z
-	}
-	m, err := diskmargin.Compute(modelResponse(l.Model), poles)
+	m, err := resp.DiskMargin()
 	if errors.Is(err, diskmargin.ErrUnbounded) {
 		return // no finite figure: the JSON has null, the loop is static
 	}

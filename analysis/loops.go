@@ -241,11 +241,13 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	}
 	l.OK = true
 	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
-	m, err := mod.Margins(c.res.SampleT, poles)
+	resp, err := mod.Response(c.res.SampleT, poles)
+	if err == nil {
+		l.Margins, err = resp.Margins(c.res.SampleT)
+	}
 	if err != nil {
 		c.diags.add(c.res.Path, l.Stmt.Name.Span, Warning, CodeNumeric, fmt.Sprintf("loop %s: margins could not be computed: %v", l.Name, err))
 	}
-	l.Margins = m
 	if l.Stable && c.wants(sh.reqs, "overshoot", "settling") {
 		stepOf := mod.Step
 		if c.env.Options.NoStepSamples {
@@ -258,8 +260,8 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 			l.Step = &st
 		}
 	}
-	if c.wants(sh.reqs, "disk_margin") {
-		c.diskMargin(l)
+	if c.wants(sh.reqs, "disk_margin") && resp != nil {
+		c.diskMargin(l, resp)
 	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)

@@ -18,8 +18,8 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
-	"sort"
 
+	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 )
 
@@ -73,22 +73,37 @@ var ErrUnbounded = errors.New("diskmargin: L = 1 at every frequency, the disk ma
 // Compute returns the disk margin of L. closedPoles are the closed-loop
 // poles (the grid is refined near those close to the circle); the caller
 // must know the loop to be stable, since alpha says nothing otherwise.
-// The grid is walked with a window of three points, so a check of many
-// loops allocates next to nothing here.
 func Compute(L Response, closedPoles []complex128) (Margin, error) {
 	f := func(th float64) float64 { return distance(L(th)) }
-	var th, v [3]float64 // the last three grid points, oldest first
-	n := 0
+	grid := searchGrid(closedPoles)
+	vals := make([]float64, len(grid))
+	for i, th := range grid {
+		vals[i] = f(th)
+	}
+	return FromGrid(grid, vals, f)
+}
+
+// FromGrid returns the disk margin from |S − 1/2| sampled on a sorted grid
+// of angles over [0, π] (vals[i] at grid[i]) dense enough to bracket its
+// peak, with f evaluating |S − 1/2| anywhere (DistanceND): each local
+// maximum of the samples is refined by golden section between its
+// neighbours, to AngleTol. The margins' own grid (package freq) serves, so
+// a loop's response is evaluated once for both.
+func FromGrid(grid, vals []float64, f func(float64) float64) (Margin, error) {
 	best, bestTh := -1.0, 0.0
-	// peak considers the middle point of the window (or an end of the
-	// grid) as a local maximum and refines it.
-	peak := func(i int, interior bool) {
-		if interior && (v[i] < v[i-1] || v[i] < v[i+1] || v[i] == v[i-1] && v[i] == v[i+1]) {
-			return // not a local maximum, or a flat stretch (nothing to refine)
+	last := len(grid) - 1
+	for i, v := range vals {
+		if math.IsInf(v, 1) || math.IsNaN(v) {
+			return Margin{}, ErrOnCircle
 		}
-		t, val := th[i], v[i]
-		if interior {
-			if u := search.GoldenMax(f, th[i-1], th[i+1], AngleTol); f(u) > val {
+		left := i == 0 || v >= vals[i-1]
+		right := i == last || v >= vals[i+1]
+		if !left || !right || i > 0 && i < last && v == vals[i-1] && v == vals[i+1] {
+			continue // not a local maximum, or a flat stretch (nothing to refine)
+		}
+		t, val := grid[i], v
+		if i > 0 && i < last {
+			if u := search.GoldenMax(f, grid[i-1], grid[i+1], AngleTol); f(u) > val {
 				t, val = u, f(u)
 			}
 		}
@@ -96,29 +111,10 @@ func Compute(L Response, closedPoles []complex128) (Margin, error) {
 			best, bestTh = val, t
 		}
 	}
-	bad := false
-	walkGrid(closedPoles, func(t float64) {
-		val := f(t)
-		if math.IsInf(val, 1) || math.IsNaN(val) {
-			bad = true
-		}
-		th[0], th[1], th[2] = th[1], th[2], t
-		v[0], v[1], v[2] = v[1], v[2], val
-		n++
-		switch {
-		case n == 2 && v[1] >= v[2]: // θ = 0, the first point
-			peak(1, false)
-		case n >= 3:
-			peak(1, true)
-		}
-	})
-	if n >= 2 && v[2] >= v[1] { // θ = π, the last point
-		peak(2, false)
+	if best < 0 && len(vals) > 0 { // flat everywhere: any point is the peak
+		best, bestTh = vals[last], grid[last]
 	}
-	if best < 0 && n > 0 { // flat everywhere: any point is the peak
-		best, bestTh = v[2], th[2]
-	}
-	if bad || math.IsInf(best, 1) || math.IsNaN(best) {
+	if math.IsInf(best, 1) || math.IsNaN(best) {
 		return Margin{}, ErrOnCircle
 	}
 	if best == 0 {
@@ -144,44 +140,57 @@ func distance(l complex128) float64 {
 	if cmplx.IsInf(l) {
 		return 0.5
 	}
-	if cmplx.Abs(l) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
+	if math.Max(math.Abs(real(l)), math.Abs(imag(l))) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
 		return 0.5 * cmplx.Abs((1/l-1)/(1/l+1))
 	}
-	return cmplx.Abs(1-l) / (2 * cmplx.Abs(1+l))
+	return math.Sqrt(sq(1-l)/sq(1+l)) / 2
 }
 
-// walkGrid calls visit on the search grid in increasing order: GridPoints
-// uniform angles over [0, π] merged with geometric clusters around the
-// closed-loop poles within NearCircle of the circle (down to a 16th of the
-// pole's distance to it), points closer than 1e-14 rad merged.
-func walkGrid(poles []complex128, visit func(th float64)) {
-	var extra []float64
+// DistanceND is |S − 1/2| for L = N/D given apart: |D − N| / (2|D + N|),
+// which is 1/2 at a pole of L (D = 0) and +Inf where 1 + L = 0. N and D
+// are first scaled together by a power of two so that their squares
+// neither overflow nor underflow.
+func DistanceND(n, d complex128) float64 {
+	a, b := d-n, d+n
+	if m := math.Max(maxPart(a), maxPart(b)); m > 0x1p500 || m < 0x1p-500 {
+		if m == 0 {
+			return math.NaN() // N = D = 0: no value
+		}
+		_, e := math.Frexp(m)
+		a, b = ldexpC(a, -e), ldexpC(b, -e)
+	}
+	return math.Sqrt(sq(a)/sq(b)) / 2
+}
+
+func maxPart(c complex128) float64 { return math.Max(math.Abs(real(c)), math.Abs(imag(c))) }
+
+func ldexpC(c complex128, e int) complex128 {
+	return complex(math.Ldexp(real(c), e), math.Ldexp(imag(c), e))
+}
+
+// sq is |c|²; for parts of L within ±1e150 neither square overflows. A |1 + L| below
+// 1e-154 squares to 0 and reads as 1 + L = 0 on the circle.
+func sq(c complex128) float64 {
+	return real(c)*real(c) + imag(c)*imag(c)
+}
+
+// clusterReach is where a cluster stops: its gaps (half the offset, at
+// ratio 1.5) have grown to the uniform spacing π/GridPoints, so farther
+// out the uniform grid is the denser one.
+const clusterReach = 2 * math.Pi / GridPoints
+
+// searchGrid is the grid Compute samples: GridPoints uniform angles over
+// [0, π] merged with geometric clusters around the closed-loop poles within
+// NearCircle of the circle (down to a 16th of the pole's distance to it),
+// points closer than 1e-14 rad merged.
+func searchGrid(poles []complex128) []float64 {
+	var clusters []anglegrid.Cluster
 	for _, p := range poles {
 		d := math.Abs(cmplx.Abs(p) - 1)
 		if d >= NearCircle {
 			continue
 		}
-		phi := math.Abs(cmplx.Phase(p))
-		extra = append(extra, phi)
-		for s := math.Max(d, 1e-12) / 16; s < 2*NearCircle; s *= 1.5 {
-			extra = append(extra, phi-s, phi+s)
-		}
+		clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(p)), Start: math.Max(d, 1e-12) / 16})
 	}
-	sort.Float64s(extra)
-	last := math.Inf(-1)
-	emit := func(th float64) {
-		if th < 0 || th > math.Pi || th-last < 1e-14 {
-			return
-		}
-		last = th
-		visit(th)
-	}
-	j := 0
-	for i := 0; i <= GridPoints; i++ {
-		u := math.Pi * float64(i) / GridPoints
-		for ; j < len(extra) && extra[j] < u; j++ {
-			emit(extra[j])
-		}
-		emit(u)
-	}
+	return anglegrid.Build(nil, GridPoints, clusters, clusterReach, nil)
 }

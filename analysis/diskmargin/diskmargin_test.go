@@ -133,7 +133,7 @@ func TestCrossCheckNumpy(t *testing.T) {
 			continue
 		}
 		loops = append(loops, L)
-		in = append(in, refLoop{highFirst(L.Num), highFirst(L.Den)})
+		in = append(in, refLoop{L.Num.HighFirst(), L.Den.HighFirst()})
 	}
 	var ref []struct{ Peak, Theta float64 }
 	scipyref.RunJSON(t, py, []string{script}, in, &ref)
@@ -153,14 +153,6 @@ func TestCrossCheckNumpy(t *testing.T) {
 		}
 	}
 	t.Logf("%d loops, worst relative difference %.2g", len(loops), worst)
-}
-
-func highFirst(p poly.Poly) []float64 {
-	out := make([]float64, len(p))
-	for i, c := range p {
-		out[len(p)-1-i] = c
-	}
-	return out
 }
 
 // TestZeroLoop: L ≡ 0 (an open loop) has S = 1, |S − 1/2| = 1/2 at every

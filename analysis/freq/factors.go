@@ -88,15 +88,11 @@ func sampledZero(f func(th float64) (v, scale float64)) bool {
 
 // ComputeFactors is Compute for a loop given by its factors.
 func ComputeFactors(f Factors, T float64) (Margins, error) {
-	if err := f.check(); err != nil {
-		return Margins{}, err
-	}
-	lp, err := prepareT(T)
+	s, err := SampleFactors(f, T)
 	if err != nil {
 		return Margins{}, err
 	}
-	lp.fac = &f
-	return lp.margins(T)
+	return s.Margins(T)
 }
 
 // GainMarginFactors is GainMargin for a loop given by its factors.

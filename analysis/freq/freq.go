@@ -21,6 +21,8 @@ import (
 	"math/cmplx"
 	"sort"
 
+	"ringside/analysis/diskmargin"
+	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 	"ringside/analysis/poly"
 	polyroots "ringside/analysis/roots"
@@ -122,11 +124,53 @@ func Compute(L poly.Rational, T float64) (Margins, error) {
 	return lp.margins(T)
 }
 
+// Sampled is a loop's response on its search grid, evaluated once: the
+// margins and the disk margin both read it.
+type Sampled struct {
+	lp   loop
+	grid []float64
+	pts  gridValues
+}
+
+// SampleFactors evaluates the loop given by its factors on its search grid
+// (errors as ComputeFactors).
+func SampleFactors(f Factors, T float64) (*Sampled, error) {
+	if err := f.check(); err != nil {
+		return nil, err
+	}
+	lp, err := prepareT(T)
+	if err != nil {
+		return nil, err
+	}
+	lp.fac = &f
+	grid := lp.grid()
+	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid)}, nil
+}
+
+// Margins computes every margin of the sampled loop (see Compute).
+func (s *Sampled) Margins(T float64) (Margins, error) {
+	return s.lp.marginsOn(s.grid, s.pts, T)
+}
+
+// DiskMargin is the symmetric disk margin of the sampled loop
+// (diskmargin.FromGrid on the same grid: its clusters around the
+// closed-loop poles near the circle are those the disk margin's peaks
+// need). The caller must know the loop to be stable.
+func (s *Sampled) DiskMargin() (diskmargin.Margin, error) {
+	return diskmargin.FromGrid(s.grid, s.pts.disk, func(th float64) float64 {
+		return diskmargin.DistanceND(s.lp.eval(th))
+	})
+}
+
 // margins computes every margin of lp (see Compute).
 func (lp loop) margins(T float64) (Margins, error) {
-	var m Margins
 	grid := lp.grid()
-	pts := lp.evalGrid(grid)
+	return lp.marginsOn(grid, lp.evalGrid(grid), T)
+}
+
+// marginsOn computes every margin of lp from its values on the grid.
+func (lp loop) marginsOn(grid []float64, pts gridValues, T float64) (Margins, error) {
+	var m Margins
 	toHz := func(th float64) float64 { return th / (2 * math.Pi * T) }
 
 	m.PhaseCrossings = lp.phaseCrossings(grid, pts.g, pts.gScale, T)
@@ -429,12 +473,14 @@ func (l loop) unitOnCircle() bool {
 // gridValues holds the functions the crossing and peak searches need at
 // every grid point, from one evaluation of N and D there.
 type gridValues struct {
-	g, gScale, h, hScale, sens []float64
+	g, gScale, h, hScale, sens, disk []float64
 }
 
 func (l loop) evalGrid(grid []float64) gridValues {
 	n := len(grid)
-	v := gridValues{make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)}
+	all := make([]float64, 6*n) // one allocation for the six series
+	part := func(i int) []float64 { return all[i*n : (i+1)*n : (i+1)*n] }
+	v := gridValues{part(0), part(1), part(2), part(3), part(4), part(5)}
 	for i, th := range grid {
 		N, D := l.eval(th)
 		nn, dd := sq(N), sq(D)
@@ -442,7 +488,8 @@ func (l loop) evalGrid(grid []float64) gridValues {
 		v.gScale[i] = fastAbs(N, nn) * fastAbs(D, dd)
 		v.h[i] = nn - dd
 		v.hScale[i] = nn + dd
-		v.sens[i] = fastAbs(D, dd) / cmplx.Abs(N+D)
+		v.sens[i] = fastAbs(D, dd) / fastAbs(N+D, sq(N+D))
+		v.disk[i] = diskmargin.DistanceND(N, D)
 	}
 	return v
 }
@@ -464,53 +511,27 @@ func (l *loop) grid() []float64 {
 		n = max(len(l.fac.Zeros), len(l.fac.Poles), 1)
 	}
 	count := max(minBaseGrid, baseGridPerDegree*n)
-	uniform := make([]float64, 0, count+1)
-	for i := 0; i <= count; i++ {
-		uniform = append(uniform, math.Pi*float64(i)/float64(count))
-	}
-	// The extra points are few: sort them alone and merge them into the
-	// (already sorted) uniform grid.
-	g := make([]float64, 0, 512)
+	// Geometric clusters near θ = 0 and π (π·10⁻ᵏ in from each end), and
+	// around the angle of every root near the circle. A cluster stops
+	// where its gaps (half the offset, at ratio 1.5) reach the uniform
+	// spacing: farther out the uniform grid is the denser one.
+	var ends [20]float64
 	for k := 1; k <= 10; k++ {
 		e := math.Pi * math.Pow(10, -float64(k))
-		g = append(g, e, math.Pi-e)
+		ends[10-k], ends[9+k] = e, math.Pi-e
 	}
+	var clusters []anglegrid.Cluster
 	for _, rs := range l.nearRoots() {
 		for _, r := range rs {
 			d := math.Abs(cmplx.Abs(r) - 1)
 			if d >= nearCircle {
 				continue
 			}
-			phi := math.Abs(cmplx.Phase(r))
-			w := math.Max(d, 1e-10)
-			for s := w / 16; s < 2*nearCircle; s *= 1.5 {
-				g = append(g, phi-s, phi+s)
-			}
-			g = append(g, phi)
+			clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(r)), Start: math.Max(d, 1e-10) / 16})
 		}
 	}
-	sort.Float64s(g)
-	merged := make([]float64, 0, len(uniform)+len(g))
-	for i, j := 0, 0; i < len(uniform) || j < len(g); {
-		if j == len(g) || (i < len(uniform) && uniform[i] <= g[j]) {
-			merged = append(merged, uniform[i])
-			i++
-		} else {
-			merged = append(merged, g[j])
-			j++
-		}
-	}
-	out := merged[:0]
-	for _, v := range merged {
-		if v < 0 || v > math.Pi {
-			continue
-		}
-		if len(out) > 0 && v-out[len(out)-1] < 1e-14 {
-			continue
-		}
-		out = append(out, v)
-	}
-	return out
+	reach := math.Min(2*nearCircle, 2*math.Pi/float64(count))
+	return anglegrid.Build(nil, count, clusters, reach, ends[:])
 }
 
 // nearRoots returns the roots of N, D and N + D (the last kept in
@@ -680,7 +701,7 @@ func (l loop) peakSensitivity(grid []float64, pts gridValues) (db, th float64, o
 	}
 	sens := func(x float64) float64 {
 		N, D := l.eval(x)
-		return cmplx.Abs(D) / cmplx.Abs(N+D)
+		return fastAbs(D, sq(D)) / fastAbs(N+D, sq(N+D))
 	}
 	v := pts.sens
 	best, bestTh := -1.0, 0.0

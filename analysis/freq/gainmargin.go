@@ -24,7 +24,7 @@ func (lp loop) gainMargin(T float64) *float64 {
 	g, gs := make([]float64, len(grid)), make([]float64, len(grid))
 	for i, th := range grid {
 		N, D := lp.eval(th)
-		g[i], gs[i] = imag(N*cmplx.Conj(D)), cmplx.Abs(N)*cmplx.Abs(D)
+		g[i], gs[i] = imag(N*cmplx.Conj(D)), fastAbs(N, sq(N))*fastAbs(D, sq(D))
 	}
 	var gm *float64
 	for _, c := range lp.phaseCrossings(grid, g, gs, T) {

@@ -17,7 +17,10 @@ const maxBalanceSweeps = 400
 // chain of lags closed by a small gain (its row and column norms already
 // look equal link by link), where the balanced matrix is nearly normal and
 // the unbalanced one has eigenvalue condition numbers near 1e15.
-func balance(a []float64, n int) {
+//
+// It returns the exponents of D: D = diag(2^exps[i]).
+func balance(a []float64, n int) (exps []int) {
+	exps = make([]int, n)
 	for sweep := 0; sweep < maxBalanceSweeps; sweep++ {
 		changed := false
 		for i := 0; i < n; i++ {
@@ -45,10 +48,12 @@ func balance(a []float64, n int) {
 				a[j*n+i] = math.Ldexp(a[j*n+i], e)
 				a[i*n+j] = math.Ldexp(a[i*n+j], -e)
 			}
+			exps[i] += e
 			changed = true
 		}
 		if !changed {
-			return
+			return exps
 		}
 	}
+	return exps
 }

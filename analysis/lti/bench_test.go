@@ -66,3 +66,21 @@ func BenchmarkMargins(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkStepFigures: the step figures alone (the simulation stops once
+// the rest of the response cannot change them).
+func BenchmarkStepFigures(b *testing.B) {
+	fwd, fb := thirdOrder(b)
+	l := NewLoop(fwd, fb, false)
+	ps, _ := l.Poles()
+	r := 0.0
+	for _, p := range ps {
+		r = max(r, cmplx.Abs(p.Z))
+	}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, err := l.StepFigures(1e-3, r); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -261,6 +261,12 @@ func (l *Loop) Margins(T float64, poles []Pole) (freq.Margins, error) {
 	return freq.ComputeFactors(l.Factors(poles), T)
 }
 
+// Response samples the cancelled L, block by block, on the margins' search
+// grid once, for the margins and the disk margin to read.
+func (l *Loop) Response(T float64, poles []Pole) (*freq.Sampled, error) {
+	return freq.SampleFactors(l.Factors(poles), T)
+}
+
 // Step simulates the unit step response, reference to the forward path's
 // output, on the state-space model of the whole loop as written (nothing
 // cancelled: a cancelled pair may still shape the output), for a loop
@@ -301,11 +307,11 @@ func (l *Loop) step(T, maxRadius float64, view bool) (step.Result, error) {
 		return step.Result{}, err
 	}
 	K, clamped := step.Horizon(cl.N, maxRadius)
-	y, stopped, err := simulate(cl, K, final, view)
+	sim, err := simulate(cl, K, final, view)
 	if err != nil {
 		return step.Result{}, err
 	}
-	return step.FromSamples(y, T, final, clamped && !stopped)
+	return sim.result(T, final, clamped && !sim.stopped)
 }
 
 // dcGain is T(1) = G(1)/(1 + σG(1)H(1)) from the factors, as
@@ -324,43 +330,61 @@ func dcGain(g, h Factored, sigma float64) (float64, error) {
 	return v, nil
 }
 
+// simulation is what simulate returns: the figures read as the samples
+// went by, the samples kept, and whether it stopped before the horizon.
+type simulation struct {
+	watch   *step.Tail
+	y       []float64
+	stopped bool
+}
+
+// result returns the step figures of the simulation; clamped says the
+// horizon was cut at step.MaxSamples and run to its end.
+func (sim simulation) result(T, final float64, clamped bool) (step.Result, error) {
+	if final == 0 {
+		return step.FromSamples(sim.y, T, final, clamped)
+	}
+	return sim.watch.Result(T, sim.y, clamped)
+}
+
 // simulate runs x[k+1] = A x[k] + B, y[k] = C x[k] + D from x = 0 for K
 // samples, over A's nonzero entries only (a chain of delays or sections is
-// sparse: the work is the number of links, not n²). It stops early, and
-// reports so, once a tailBound on the rest of the response shows that no
-// later sample can change a step figure (step.Tail): the figures are those
-// of the full horizon, at a fraction of its length for slow loops.
-func simulate(s System, K int, final float64, view bool) ([]float64, bool, error) {
+// sparse: the work is the number of links, not n²). It reads the figures
+// as it goes (step.Tail) and keeps only the samples a view shows
+// (step.ShownMax, none when view is false), except for a response with
+// final = 0, whose band needs every sample. It stops early, and reports
+// so, once a tailBound on the rest of the response shows that no later
+// sample can change a step figure: the figures are those of the full
+// horizon, at a fraction of its length for slow loops.
+func simulate(s System, K int, final float64, view bool) (simulation, error) {
 	n := s.N
-	type entry struct {
-		j int
-		a float64
-	}
-	rows := make([][]entry, n)
-	for i := 0; i < n; i++ {
-		for j, a := range s.A[i*n : (i+1)*n] {
-			if a != 0 {
-				rows[i] = append(rows[i], entry{j, a})
-			}
-		}
+	rows := sparseRows(s.A, n)
+	keep := 0
+	switch {
+	case final == 0:
+		keep = K
+	case view:
+		keep = min(K, step.ShownMax)
 	}
 	x, nx := make([]float64, n), make([]float64, n)
 	tb, early := newTailBound(s, K)
-	watch := step.NewTail(final, view)
-	y := make([]float64, 0, min(K, 4096))
+	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
 	for k := 0; k < K; k++ {
-		if early && k%tailCheckEvery == 0 && watch.Done(tb.bound(x, final)) {
-			return y, true, nil
+		if early && k%tailCheckEvery == 0 && sim.watch.Done(tb.bound(x, final)) {
+			sim.stopped = true
+			return sim, nil
 		}
 		v := s.D
 		for i, c := range s.C {
 			v += c * x[i]
 		}
-		if math.IsInf(v, 0) || math.IsNaN(v) {
-			return nil, false, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
+		if v-v != 0 { // ±Inf or NaN
+			return simulation{}, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
 		}
-		y = append(y, v)
-		watch.Add(v)
+		if k < keep {
+			sim.y = append(sim.y, v)
+		}
+		sim.watch.Add(v)
 		for i, row := range rows {
 			acc := s.B[i]
 			for _, e := range row {
@@ -370,7 +394,26 @@ func simulate(s System, K int, final float64, view bool) ([]float64, bool, error
 		}
 		x, nx = nx, x
 	}
-	return y, false, nil
+	return sim, nil
+}
+
+// entry is a nonzero entry of a row of A: its column and value.
+type entry struct {
+	j int
+	a float64
+}
+
+// sparseRows lists the nonzero entries of each row of the n×n matrix a.
+func sparseRows(a []float64, n int) [][]entry {
+	rows := make([][]entry, n)
+	for i := 0; i < n; i++ {
+		for j, v := range a[i*n : (i+1)*n] {
+			if v != 0 {
+				rows[i] = append(rows[i], entry{j, v})
+			}
+		}
+	}
+	return rows
 }
 
 // tailCheckEvery is how often (in samples) simulate tries to stop early.

@@ -72,16 +72,16 @@ func TestEarlyStopAgainstScipy(t *testing.T) {
 			r = math.Max(r, cmplx.Abs(p))
 		}
 		K, _ := step.Horizon(s.N, r)
-		y, _, err := simulate(s, K, final, false)
+		sim, err := simulate(s, K, final, false)
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := step.FromSamples(y, 1, final, false)
+		res, err := sim.result(1, final, false)
 		if err != nil {
 			t.Fatal(err)
 		}
 		cases = append(cases, tcase{N: s.N, A: s.A, B: s.B, C: s.C, D: s.D, K: K, Final: final,
-			settle: int(math.Round(res.SettlingS)), over: res.OvershootPct, rise: int(math.Round(res.RiseTimeS)), nSamples: len(y)})
+			settle: int(math.Round(res.SettlingS)), over: res.OvershootPct, rise: int(math.Round(res.RiseTimeS)), nSamples: sim.watch.Samples()})
 	}
 	in, _ := json.Marshal(cases)
 	cmd := exec.Command(py, "-c", stepFiguresPy)

@@ -47,41 +47,64 @@ func TestEarlyStopKeepsFigures(t *testing.T) {
 			r = math.Max(r, cmplx.Abs(p))
 		}
 		K, clamped := step.Horizon(s.N, r)
-		full, _, err := simulate(s, K, math.NaN(), true) // NaN: the bound never allows a stop
-		if err != nil {
-			t.Fatal(err)
-		}
+		full := plainStep(s, K)
 		view := trial%2 == 0 // with and without the samples a view shows
-		short, early, err := simulate(s, K, final, view)
+		sim, err := simulate(s, K, final, view)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if early {
+		if sim.stopped {
 			stopped++
 		}
 		a, errA := step.FromSamples(full, 1, final, clamped)
-		b, errB := step.FromSamples(short, 1, final, clamped && !early)
+		b, errB := sim.result(1, final, clamped && !sim.stopped)
 		if errA != nil || errB != nil {
 			t.Fatal(errA, errB)
 		}
-		if a.SettlingS != b.SettlingS || a.RiseTimeS != b.RiseTimeS || (a.Settled && !b.Settled) ||
+		if a.SettlingS != b.SettlingS || a.RiseTimeS != b.RiseTimeS || a.Settled != b.Settled ||
 			math.Abs(a.OvershootPct-b.OvershootPct) > 100*step.OvershootSlack {
-			t.Fatalf("trial %d (%d of %d samples): full %+v\nearly %+v", trial, len(short), len(full),
+			t.Fatalf("trial %d (%d of %d samples): full %+v\nearly %+v", trial, sim.watch.Samples(), len(full),
 				[]any{a.SettlingS, a.RiseTimeS, a.OvershootPct, a.Settled}, []any{b.SettlingS, b.RiseTimeS, b.OvershootPct, b.Settled})
 		}
-		if early && view {
+		if view {
 			keep := step.StepShown(int(b.SettlingS))
-			for k := 0; k < keep && k < len(short); k++ {
-				if short[k] != full[k] {
+			for k := 0; k < keep && k < len(sim.y); k++ {
+				if sim.y[k] != full[k] {
 					t.Fatalf("trial %d: sample %d differs", trial, k)
 				}
 			}
-			if len(short) < keep {
-				t.Fatalf("trial %d: %d samples kept, a view shows %d", trial, len(short), keep)
+			if len(sim.y) < min(keep, len(full)) {
+				t.Fatalf("trial %d: %d samples kept, a view shows %d", trial, len(sim.y), keep)
 			}
+		} else if final != 0 && len(sim.y) != 0 {
+			t.Fatalf("trial %d: %d samples kept with no view", trial, len(sim.y))
 		}
 	}
 	if stopped < 300 {
 		t.Errorf("only %d of 400 loops stopped early", stopped)
 	}
+}
+
+// plainStep is the reference: every sample of x[k+1] = A x[k] + B,
+// y[k] = C x[k] + D from x = 0, dense and with no early stop.
+func plainStep(s System, K int) []float64 {
+	n := s.N
+	x, nx := make([]float64, n), make([]float64, n)
+	y := make([]float64, K)
+	for k := range y {
+		v := s.D
+		for i, c := range s.C {
+			v += c * x[i]
+		}
+		y[k] = v
+		for i := 0; i < n; i++ {
+			acc := s.B[i]
+			for j := 0; j < n; j++ {
+				acc += s.A[i*n+j] * x[j]
+			}
+			nx[i] = acc
+		}
+		x, nx = nx, x
+	}
+	return y
 }

@@ -179,6 +179,16 @@ func (p Poly) Finite() bool {
 	return true
 }
 
+// HighFirst returns the coefficients highest power first (the order numpy
+// and most references write them in).
+func (p Poly) HighFirst() []float64 {
+	out := make([]float64, len(p))
+	for i, v := range p {
+		out[len(p)-1-i] = v
+	}
+	return out
+}
+
 // FromRoots returns the monic polynomial with the given roots. Complex roots
 // must come with their conjugates; the imaginary residue is dropped.
 func FromRoots(roots []complex128) Poly {

@@ -136,14 +136,18 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 func FromSamples(y []float64, T, final float64, clamped bool) (Result, error) {
 	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1 - final}
 	figures(&r, clamped)
+	return r, checkFinite(r)
+}
+
+// checkFinite refuses figures that overflow: samples dwarfing a tiny
+// Final mean the response grows, so the radius the caller gave was wrong.
+func checkFinite(r Result) error {
 	for _, v := range []float64{r.OvershootPct, r.RiseTimeS, r.SettlingS, r.SteadyStateError} {
 		if math.IsInf(v, 0) || math.IsNaN(v) {
-			// Samples dwarfing a tiny Final: the response grows, so the
-			// radius the caller gave was wrong.
-			return Result{}, fmt.Errorf("step: step figures overflow: the response grows, the closed loop is not stable as claimed")
+			return fmt.Errorf("step: step figures overflow: the response grows, the closed loop is not stable as claimed")
 		}
 	}
-	return r, nil
+	return nil
 }
 
 // figures fills overshoot, rise, settling and Settled from the samples.

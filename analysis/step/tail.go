@@ -1,6 +1,9 @@
 package step
 
-import "math"
+import (
+	"fmt"
+	"math"
+)
 
 // OvershootSlack is how much overshoot (as a fraction of |Final|) a
 // response may still gain after an early stop when none has been seen yet:
@@ -10,43 +13,83 @@ import "math"
 // is printed or compared with.
 const OvershootSlack = 1e-6
 
-// Tail follows the samples of a step response as they are produced and
-// says when a bound on every later deviation |y[j] − Final| proves that no
-// later sample can change a figure: the settling time (the last exit from
-// the band is behind), the overshoot (the peak is behind, to
-// OvershootSlack), the rise time (the 90 % level is reached) and, when
-// asked, the samples a view shows (StepShown). Stopping there gives the
-// figures the full horizon would give.
+// Tail reads the step figures off the samples of a response as they are
+// produced, without keeping them, and says when a bound on every later
+// deviation |y[j] − Final| proves that no later sample can change a figure:
+// the settling time (the last exit from the band is behind), the overshoot
+// (the peak is behind, to OvershootSlack), the rise time (the 90 % level is
+// reached) and, when asked, the samples a view shows (StepShown). Stopping
+// there gives the figures the full horizon would give. The figures are
+// those of figures (same definitions, same order of operations); a
+// response with Final = 0, whose band depends on the largest sample of
+// all, keeps its samples and is read by FromSamples instead.
 type Tail struct {
 	final, width, peak, maxAbs float64
-	k90, view                  bool
+	sigma, at10, at90          float64 // sign of Final; 10 % and 90 % of |Final|
+	k10, k90                   int     // first samples at 10 % and 90 % of Final; −1 before
+	lateFrom                   int     // the clamped horizon's second half starts here
+	quietUntil                 int     // before it, a sample below the peak moves only the band exit
+	lateDev                    float64
+	view                       bool
 	last, n                    int
 }
 
-// NewTail starts a tracker for a response with steady-state value final;
-// view asks for the samples a view shows as well as the figures.
-func NewTail(final float64, view bool) *Tail {
-	return &Tail{final: final, width: band * math.Abs(final), last: -1, view: view}
+// NewTail starts a tracker for a response with steady-state value final
+// simulated for at most horizon samples; view asks for the samples a view
+// shows as well as the figures.
+func NewTail(final float64, view bool, horizon int) *Tail {
+	af := math.Abs(final)
+	return &Tail{final: final, width: band * af, sigma: math.Copysign(1, final), at10: 0.1 * af, at90: 0.9 * af,
+		last: -1, k10: -1, k90: -1, lateFrom: horizon / 2, view: view}
 }
 
-// Add takes the next sample.
+// Add takes the next sample. Most samples of a long response only move the
+// last exit from the band: that path is kept small enough to inline.
 func (t *Tail) Add(v float64) {
+	if d := v - t.final; t.n >= t.quietUntil || t.sigma*d > t.peak {
+		t.add(v)
+	} else {
+		if d > t.width || -d > t.width {
+			t.last = t.n
+		}
+		t.n++
+	}
+}
+
+// add is Add for a sample that may move any figure.
+func (t *Tail) add(v float64) {
 	f := t.final
 	if f != 0 {
-		s := math.Copysign(1, f)
-		t.peak = math.Max(t.peak, s*(v-f))
-		if s*v >= 0.9*math.Abs(f) {
-			t.k90 = true
+		if o := t.sigma * (v - f); o > t.peak {
+			t.peak = o
+		}
+		if t.k90 < 0 {
+			if t.k10 < 0 && t.sigma*v >= t.at10 {
+				t.k10 = t.n
+			}
+			if t.sigma*v >= t.at90 {
+				t.k90 = t.n
+			}
 		}
 	} else {
 		t.maxAbs = math.Max(t.maxAbs, math.Abs(v))
 		t.width = band * t.maxAbs
 	}
-	if math.Abs(v-f) > t.width {
+	d := math.Abs(v - f)
+	if d > t.width {
 		t.last = t.n
 	}
+	if t.n >= t.lateFrom && d > t.lateDev {
+		t.lateDev = d
+	}
 	t.n++
+	if f != 0 && t.k90 >= 0 {
+		t.quietUntil = t.lateFrom
+	}
 }
+
+// Samples is how many samples were taken.
+func (t *Tail) Samples() int { return t.n }
 
 // Done reports whether the samples so far fix every figure, given that
 // |y[j] − Final| ≤ bound for every sample j not yet taken.
@@ -58,7 +101,30 @@ func (t *Tail) Done(bound float64) bool {
 		return bound <= t.width // later |y| ≤ bound cannot widen the band
 	}
 	af := math.Abs(t.final)
-	return t.k90 && bound <= t.width && bound <= math.Max(t.peak, OvershootSlack*af)
+	return t.k90 >= 0 && bound <= t.width && bound <= math.Max(t.peak, OvershootSlack*af)
+}
+
+// Result returns the figures of the samples taken (Final ≠ 0), with
+// samples the kept first samples for a view (nil for none); clamped says
+// the horizon was cut at MaxSamples and run to its end (see Horizon).
+// Errors as FromSamples.
+func (t *Tail) Result(T float64, samples []float64, clamped bool) (Result, error) {
+	if t.final == 0 {
+		return Result{}, fmt.Errorf("step: a response with steady state 0 is read from its samples")
+	}
+	f := t.final
+	af := math.Abs(f)
+	r := Result{Samples: samples, T: T, Final: f, SteadyStateError: 1 - f, OvershootPct: 100 * t.peak / af}
+	if t.k10 >= 0 && t.k90 >= 0 {
+		r.RiseTimeS = float64(t.k90-t.k10) * T
+	}
+	r.SettlingS = float64(t.last+1) * T
+	if clamped {
+		r.Settled = t.last+1 <= t.n/2 && t.lateDev <= t.width/2
+	} else {
+		r.Settled = t.last < t.n-1
+	}
+	return r, checkFinite(r)
 }
 
 // StepShown is how many samples views keep of a response that settles

@@ -15,9 +15,11 @@ from scipy.optimize import minimize_scalar
 
 
 def dist(num, den, th):
+    # |1 - L| / (2|1 + L|) with L = n/d, written as |d - n| / (2|d + n|) so
+    # that a pole of L on the circle (an integrator at theta = 0) gives 1/2.
     z = np.exp(1j * np.asarray(th))
-    L = np.polyval(num, z) / np.polyval(den, z)
-    return np.abs(1 - L) / (2 * np.abs(1 + L))
+    n, d = np.polyval(num, z), np.polyval(den, z)
+    return np.abs(d - n) / (2 * np.abs(d + n))
 
 
 def peak(num, den):

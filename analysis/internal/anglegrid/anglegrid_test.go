@@ -1,0 +1,71 @@
+package anglegrid
+
+import (
+	"math"
+	"math/rand"
+	"sort"
+	"testing"
+)
+
+// naive is the grid by definition: every point listed, sorted, filtered.
+func naive(count int, clusters []Cluster, reach float64, extra []float64) []float64 {
+	var all []float64
+	for i := 0; i < count; i++ {
+		all = append(all, math.Pi*float64(i)/float64(count))
+	}
+	all = append(all, math.Pi)
+	all = append(all, extra...)
+	for _, c := range clusters {
+		all = append(all, c.Center)
+		for s := c.Start; s < reach; s *= Ratio {
+			all = append(all, c.Center-s, c.Center+s)
+		}
+	}
+	sort.Float64s(all)
+	var out []float64
+	for _, v := range all {
+		if v < 0 || v > math.Pi || len(out) > 0 && v-out[len(out)-1] < MinGap {
+			continue
+		}
+		out = append(out, v)
+	}
+	return out
+}
+
+func TestBuildMatchesSortedDefinition(t *testing.T) {
+	rng := rand.New(rand.NewSource(4))
+	for trial := 0; trial < 300; trial++ {
+		count := 16 + rng.Intn(600)
+		var cs []Cluster
+		for i := rng.Intn(12); i > 0; i-- {
+			c := Cluster{Center: math.Pi * rng.Float64(), Start: math.Pow(10, -1-9*rng.Float64())}
+			if rng.Intn(5) == 0 {
+				c.Center = 0 // clusters at the ends spill outside [0, π]
+			}
+			cs = append(cs, c)
+		}
+		var extra []float64
+		for i := rng.Intn(6); i > 0; i-- {
+			extra = append(extra, math.Pi*rng.Float64())
+		}
+		sort.Float64s(extra)
+		reach := 0.4 * rng.Float64()
+		got, want := Build(nil, count, cs, reach, extra), naive(count, cs, reach, extra)
+		if len(got) != len(want) {
+			t.Fatalf("trial %d: %d points, want %d", trial, len(got), len(want))
+		}
+		for i := range got {
+			if got[i] != want[i] {
+				t.Fatalf("trial %d: point %d is %v, want %v", trial, i, got[i], want[i])
+			}
+		}
+	}
+}
+
+func BenchmarkBuild(b *testing.B) {
+	cs := []Cluster{{0, 1e-11}, {0.03, 0.001}, {0.031, 0.002}, {3.1, 0.002}, {0.5, 0.01}}
+	var dst []float64
+	for i := 0; i < b.N; i++ {
+		dst = Build(dst, 256, cs, 2*math.Pi/256, nil)
+	}
+}
