@@ -21,7 +21,8 @@ var punct = map[byte]tokKind{'+': tPlus, '-': tMinus, '*': tStar, '/': tSlash, '
 // it cannot use is reported with its exact span and skipped.
 type lexer struct {
 	src      []byte
-	text     string // src as one string: token and comment texts are slices of it
+	text     string // src[base:] as one string: token and comment texts are slices of it
+	base     int
 	off      int
 	depth    int // open '(' count; newlines inside parentheses are skipped
 	toks     []token
@@ -31,12 +32,16 @@ type lexer struct {
 }
 
 // lex tokenizes src completely; the last token is always tEOF.
-func lex(src []byte) *lexer {
+func lex(src []byte) *lexer { return lexRange(src, BOMLen(src), len(src)) }
+
+// lexRange tokenizes src[from:to] as if the text ended at to; positions
+// are those of src. The last token is tEOF at to.
+func lexRange(src []byte, from, to int) *lexer {
 	// About one token per three bytes in real files: allocate once.
-	// One copy of the source as a string: every text below is a slice
-	// of it, not an allocation of its own.
-	lx := &lexer{src: src, text: string(src), toks: make([]token, 0, len(src)/3+8)}
-	lx.off = BOMLen(src)
+	// One copy of the text as a string: every text below is a slice of
+	// it, not an allocation of its own.
+	lx := &lexer{src: src[:to], base: from, text: string(src[from:to]), toks: make([]token, 0, (to-from)/3+8)}
+	lx.off = from
 	lx.run()
 	return lx
 }
@@ -50,7 +55,7 @@ func (lx *lexer) errorf(from, to int, format string, args ...any) {
 }
 
 func (lx *lexer) emit(k tokKind, from, to int) {
-	lx.toks = append(lx.toks, token{kind: k, Span: Span{Pos(from), Pos(to)}, text: lx.text[from:to]})
+	lx.toks = append(lx.toks, token{kind: k, Span: Span{Pos(from), Pos(to)}, text: lx.text[from-lx.base : to-lx.base]})
 }
 
 func isLetter(b byte) bool { return b == '_' || 'a' <= b && b <= 'z' || 'A' <= b && b <= 'Z' }
@@ -188,7 +193,7 @@ func (lx *lexer) comment() {
 	}
 	lx.off = end
 	lx.checkUTF8(start, end)
-	lx.comments = append(lx.comments, &Comment{Span{Pos(start), Pos(end)}, lx.text[start:end]})
+	lx.comments = append(lx.comments, &Comment{Span{Pos(start), Pos(end)}, lx.text[start-lx.base : end-lx.base]})
 }
 
 // checkUTF8 reports each invalid byte in src[from:to].
@@ -243,12 +248,12 @@ func (lx *lexer) str() {
 	if i < len(lx.src) && lx.src[i] == '"' {
 		lx.checkUTF8(start+1, i)
 		lx.off = i + 1
-		lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(lx.off)}, text: lx.text[start+1 : i]})
+		lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(lx.off)}, text: lx.text[start+1-lx.base : i-lx.base]})
 		return
 	}
 	end := i
 	lx.errorf(start, end, "unterminated string (missing closing '\"')")
 	lx.checkUTF8(start+1, end)
 	lx.off = end
-	lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(end)}, text: lx.text[start+1 : end]})
+	lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(end)}, text: lx.text[start+1-lx.base : end-lx.base]})
 }
