@@ -19,23 +19,36 @@ func (d *diagList) add(path string, span syntax.Span, sev Severity, code, msg st
 }
 
 // sorted returns the diagnostics of path in source order (errors first at
-// equal positions).
+// equal positions, else in the order added). The order is found on small
+// keys and the diagnostics, large, are copied once.
 func (d *diagList) sorted(path string) []Diagnostic {
-	out := make([]Diagnostic, 0, len(d.list)) // nearly all are the file's own
-	for _, x := range d.list {
-		if x.Path == path {
-			out = append(out, x)
+	type key struct {
+		from syntax.Pos
+		sev  Severity
+		i    int
+	}
+	keys := make([]key, 0, len(d.list)) // nearly all are the file's own
+	for i := range d.list {
+		if x := &d.list[i]; x.Path == path {
+			keys = append(keys, key{x.Span.From, x.Severity, i})
 		}
 	}
-	if len(out) == 0 {
+	if len(keys) == 0 {
 		return nil // as before: none is nil, not empty
 	}
-	slices.SortStableFunc(out, func(a, b Diagnostic) int {
-		if c := cmp.Compare(a.Span.From, b.Span.From); c != 0 {
+	slices.SortFunc(keys, func(a, b key) int {
+		if c := cmp.Compare(a.from, b.from); c != 0 {
 			return c
 		}
-		return cmp.Compare(a.Severity, b.Severity)
+		if c := cmp.Compare(a.sev, b.sev); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.i, b.i)
 	})
+	out := make([]Diagnostic, len(keys))
+	for j, k := range keys {
+		out[j] = d.list[k.i]
+	}
 	return out
 }
 
