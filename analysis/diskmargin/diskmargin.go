@@ -54,7 +54,7 @@ const (
 	// NearCircle: closed-loop poles with ||p| − 1| below it get extra grid
 	// points around their angle.
 	NearCircle = 0.2
-	// AngleTol is the width in rad/sample to which golden-section search
+	// AngleTol is the width in rad/sample (plus √ε relative) to which Brent's method
 	// narrows each local maximum of the grid. At a smooth maximum the value
 	// errs by the square of the angle error times the curvature, so the
 	// peak (and alpha) is found to far better than 1e-9 relative.
@@ -86,7 +86,7 @@ func Compute(L Response, closedPoles []complex128) (Margin, error) {
 // FromGrid returns the disk margin from |S − 1/2| sampled on a sorted grid
 // of angles over [0, π] (vals[i] at grid[i]) dense enough to bracket its
 // peak, with f evaluating |S − 1/2| anywhere (DistanceND): each local
-// maximum of the samples is refined by golden section between its
+// maximum of the samples is refined by Brent's method between its
 // neighbours, to AngleTol. The margins' own grid (package freq) serves, so
 // a loop's response is evaluated once for both.
 func FromGrid(grid, vals []float64, f func(float64) float64) (Margin, error) {
@@ -103,7 +103,7 @@ func FromGrid(grid, vals []float64, f func(float64) float64) (Margin, error) {
 		}
 		t, val := grid[i], v
 		if i > 0 && i < last {
-			if u := search.GoldenMax(f, grid[i-1], grid[i+1], AngleTol); f(u) > val {
+			if u := search.BrentMax(f, grid[i-1], grid[i+1], AngleTol); f(u) > val {
 				t, val = u, f(u)
 			}
 		}
