@@ -87,6 +87,9 @@ func (c *checker) blockJob(ev *evaluator, d *Decl, alone bool) *blockJob {
 		defer func() { ev.diags = saved }()
 	}
 	bv := sub.block(d)
+	if !alone {
+		bv.gainNames = sortedKeys(bv.gains)
+	}
 	lc := *c
 	lc.diags = own
 	lc.findings(d.Block, bv)
@@ -124,7 +127,7 @@ func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
 	for _, b := range c.res.Blocks {
 		order = append(order, c.res.Scope[b.Name])
 	}
-	for _, name := range sortedDecls(c.res.Scope) {
+	for _, name := range c.names {
 		if d := c.res.Scope[name]; d.Block != nil && d.Path != c.res.Path {
 			order = append(order, d)
 		}
@@ -187,7 +190,10 @@ func (c *checker) blockRefs(d *Decl) []*Decl {
 func fillBlock(b *Block, bv *blockValue) {
 	b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
 	b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
-	b.Gains = sortedKeys(bv.gains)
+	b.Gains = bv.gainNames
+	if b.Gains == nil {
+		b.Gains = sortedKeys(bv.gains)
+	}
 	if b.Var == 's' && b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
 		b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
 		if p := b.Stmt.Via.Prewarp; p != nil {

@@ -76,11 +76,14 @@ type checker struct {
 	fitSearches int
 	// memo is this check's view of Env.Memo (nil: none).
 	memo *memoRun
+	// names are the names in scope, sorted (set once the scope is built).
+	names []string
 }
 
 func (c *checker) run(ctx context.Context) {
 	c.samples()
 	c.declare()
+	c.names = sortedDecls(c.res.Scope)
 	c.gainValues()
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev

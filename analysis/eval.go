@@ -87,6 +87,9 @@ type blockValue struct {
 	busy   bool
 	// key is the block's memo key (blockMemoKey), "" when not memoised.
 	key string
+	// gainNames is gains sorted, set by the block stage before the value
+	// is shared (nil: sort when needed).
+	gainNames []string
 }
 
 type evalError struct {

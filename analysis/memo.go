@@ -536,7 +536,7 @@ func (c *checker) dependents() *gainDeps {
 	if c.memo == nil {
 		return deps
 	}
-	for _, name := range sortedDecls(c.res.Scope) {
+	for _, name := range c.names {
 		d := c.res.Scope[name]
 		bv := c.base.memo[name]
 		if d.Block == nil || bv == nil || len(bv.gains) == 0 {

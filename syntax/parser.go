@@ -64,7 +64,7 @@ func parseRange(src []byte, lines *Lines, from, to int) (*File, ErrorList, int) 
 
 // minChunk is the smallest piece of a file parsed on a processor of its
 // own: below it, starting a goroutine costs more than it saves.
-const minChunk = 16 << 10
+const minChunk = 8 << 10
 
 // chunkCuts splits src into about n pieces for parseChunks: the offsets
 // from the start of the text to its end, each cut at the start of a line
