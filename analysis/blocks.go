@@ -134,6 +134,7 @@ func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
 	}
 	const visiting, cyclic = -1, -2
 	level := make(map[*Decl]int, len(order))
+	c.refs = make(map[*Decl][]*Decl, len(order))
 	var visit func(d *Decl) int
 	visit = func(d *Decl) int {
 		if l, seen := level[d]; seen {
@@ -144,7 +145,9 @@ func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
 		}
 		level[d] = visiting
 		l := 0
-		for _, ref := range c.blockRefs(d) {
+		refs := c.blockRefs(d)
+		c.refs[d] = refs
+		for _, ref := range refs {
 			dl := visit(ref)
 			if dl == cyclic {
 				l = cyclic

@@ -78,6 +78,9 @@ type checker struct {
 	memo *memoRun
 	// names are the names in scope, sorted (set once the scope is built).
 	names []string
+	// refs are the other blocks in scope each block's expression names
+	// (set by the block stage).
+	refs map[*Decl][]*Decl
 }
 
 func (c *checker) run(ctx context.Context) {

@@ -74,21 +74,26 @@ type diagPlace struct {
 }
 
 // blockUsers maps each block name to the loops that use it, directly or
-// inside a block that is on a path, in loop order. What each name reaches
-// is found once (reachedFrom), so a file of many loops and integrators costs
-// loops × names reached, not loops × blocks.
+// inside a block that is on a path, in loop order. What each block
+// reaches is found once (reachedFrom), from the names each block's
+// expression refers to (refs, found by the block stage), so a file of many
+// loops and integrators costs loops × blocks reached, not loops × blocks.
 func (c *checker) blockUsers() map[string][]*Loop {
 	users := map[string][]*Loop{}
-	reached := map[string][]string{}
-	seen := map[string]bool{}  // scratch for reachedFrom
-	last := map[string]*Loop{} // the last loop added to each name's users
+	reached := map[*Decl][]*Decl{}
+	seen := map[*Decl]bool{}  // scratch for reachedFrom
+	last := map[*Decl]*Loop{} // the last loop added to each block's users
 	for _, l := range c.res.Loops {
 		for _, path := range [2][]string{l.Forward, l.Feedback} {
 			for _, n := range path {
-				for _, m := range c.reachedFrom(n, reached, seen) {
+				d := c.res.Scope[n]
+				if d == nil || d.Block == nil {
+					continue
+				}
+				for _, m := range c.reachedFrom(d, reached, seen) {
 					if last[m] != l {
 						last[m] = l
-						users[m] = append(users[m], l)
+						users[m.Name] = append(users[m.Name], l)
 					}
 				}
 			}
@@ -97,39 +102,32 @@ func (c *checker) blockUsers() map[string][]*Loop {
 	return users
 }
 
-// reachedFrom lists from and every name its expression refers to
-// (transitively), computed once per name into memo; seen is scratch.
-func (c *checker) reachedFrom(from string, memo map[string][]string, seen map[string]bool) []string {
+// reachedFrom lists block from and every block its expression refers to
+// (transitively), computed once per block into memo; seen is scratch.
+func (c *checker) reachedFrom(from *Decl, memo map[*Decl][]*Decl, seen map[*Decl]bool) []*Decl {
 	if r, ok := memo[from]; ok {
 		return r
 	}
 	clear(seen)
 	c.reach(from, seen)
-	r := make([]string, 0, len(seen))
-	for n := range seen {
-		r = append(r, n)
+	r := make([]*Decl, 0, len(seen))
+	for d := range seen {
+		r = append(r, d)
 	}
 	memo[from] = r
 	return r
 }
 
-// reach adds block from and every name its expression refers to
-// (transitively) to seen.
-func (c *checker) reach(from string, seen map[string]bool) {
+// reach adds block from and every block it refers to (transitively) to
+// seen.
+func (c *checker) reach(from *Decl, seen map[*Decl]bool) {
 	if seen[from] {
 		return
 	}
 	seen[from] = true
-	d := c.res.Scope[from]
-	if d == nil || d.Block == nil || d.Block.Stmt == nil || d.Block.Stmt.Expr == nil {
-		return
+	for _, ref := range c.refs[from] {
+		c.reach(ref, seen)
 	}
-	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
-		if id, ok := n.(*syntax.NameRef); ok {
-			c.reach(id.Name, seen)
-		}
-		return true
-	})
 }
 
 func pronoun(names []string) string {
