@@ -256,47 +256,86 @@ func stmtSrc(src []byte, n syntax.Node) []byte {
 // statement, coefficients and factored form), realize line and gains with
 // their ranges, the sample period and the options.
 func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
-	sh := shapeOf(ls)
-	fwd, ok1 := c.elements(ev, sh.fwd, false)
-	fb, ok2 := c.elements(ev, sh.fb, false)
-	if !ok1 || !ok2 || c.env.Options.Quick {
+	if c.env.Options.Quick {
 		return ""
 	}
-	k := make(keyBuf, 0, 512) // room for the usual key: one allocation
+	sh := shapeOf(ls)
+	k := getKeyBuf()
+	defer putKeyBuf(k)
 	k.str(c.res.Path)
 	k.bytes(stmtSrc(c.root.file.Src, ls))
 	k.num(c.res.SampleT)
 	k.options(c.env.Options)
-	for _, e := range append(fwd, fb...) {
-		k.str(e.name)
-		k.str(e.decl.Path)
-		var bv *blockValue
-		if e.block != nil {
-			bv = ev.memo[e.name]
-		}
-		if bv != nil && bv.key != "" {
-			// The block's key stands for its statement and everything
-			// its value depends on.
-			k.str(bv.key)
-		} else {
-			k.bytes(c.declSrc(e.decl))
-			k.poly(e.tf.Num)
-			k.poly(e.tf.Den)
-			k.factored(e.fac, e.facErr)
-		}
-		k.str(c.realizeKey(e))
-		if bv != nil {
-			for _, g := range sortedKeys(bv.gains) {
-				k.str(g)
-				if d := c.res.Scope[g]; d != nil {
-					k.bytes(c.declSrc(d)) // its range too
-				}
+	for _, path := range [2][]*syntax.Ident{sh.fwd, sh.fb} {
+		k.str("path")
+		for _, id := range path {
+			if !c.elementKey(k, ev, id.Name) {
+				return ""
 			}
 		}
-		k.str("")
 	}
-	sum := sha256.Sum256(k)
+	sum := sha256.Sum256(*k)
 	return string(sum[:])
+}
+
+// elementKey adds to k what a loop's analysis reads of the path element
+// name; false when it does not resolve or its block cannot be used.
+func (c *checker) elementKey(k *keyBuf, ev *evaluator, name string) bool {
+	d := c.res.Scope[name]
+	if d == nil {
+		return false
+	}
+	k.str(name)
+	k.str(d.Path)
+	if d.Gain != nil {
+		k.str("gain")
+		k.bytes(c.declSrc(d))
+		k.num(ev.gain(name))
+		return true
+	}
+	bv := ev.block(d)
+	if !bv.ok {
+		return false
+	}
+	if bv.key != "" {
+		// The block's key stands for its statement and everything its
+		// value depends on.
+		k.str(bv.key)
+	} else {
+		k.bytes(c.declSrc(d))
+		k.poly(bv.tf.Num)
+		k.poly(bv.tf.Den)
+		k.factored(bv.fac, bv.facErr)
+	}
+	k.str(c.realizeKey(element{block: d.Block, decl: d}))
+	gains := bv.gainNames
+	if gains == nil {
+		gains = sortedKeys(bv.gains)
+	}
+	for _, g := range gains {
+		k.str(g)
+		if gd := c.res.Scope[g]; gd != nil {
+			k.bytes(c.declSrc(gd)) // its range too
+		}
+	}
+	k.str("")
+	return true
+}
+
+// keyBufs keeps the buffers keys are built in (the keys themselves are
+// digests): a check of many loops then allocates none.
+var keyBufs = sync.Pool{New: func() any { k := make(keyBuf, 0, 1024); return &k }}
+
+func getKeyBuf() *keyBuf {
+	k := keyBufs.Get().(*keyBuf)
+	*k = (*k)[:0]
+	return k
+}
+
+func putKeyBuf(k *keyBuf) {
+	if cap(*k) <= 64<<10 { // an unusual key's large buffer is not kept
+		keyBufs.Put(k)
+	}
 }
 
 // declStmt is the statement declaring d.
@@ -730,7 +769,8 @@ func (c *checker) blockMemoKey(ev *evaluator, d *Decl) string {
 	if c.memo == nil || d.Block.Stmt == nil {
 		return ""
 	}
-	k := make(keyBuf, 0, 256)
+	k := getKeyBuf()
+	defer putKeyBuf(k)
 	k.str("block")
 	k.str(d.Path)
 	k.str(d.Name)
@@ -770,7 +810,7 @@ func (c *checker) blockMemoKey(ev *evaluator, d *Decl) string {
 	if !ok {
 		return ""
 	}
-	sum := sha256.Sum256(k)
+	sum := sha256.Sum256(*k)
 	return string(sum[:])
 }
 
