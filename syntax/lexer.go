@@ -2,6 +2,7 @@ package syntax
 
 import (
 	"fmt"
+	"sync"
 	"unicode/utf8"
 )
 
@@ -13,8 +14,9 @@ var stmtKeywords = map[string]bool{
 	"realize": true,
 }
 
-// punct maps one-byte operators to their kinds.
-var punct = map[byte]tokKind{'+': tPlus, '-': tMinus, '*': tStar, '/': tSlash, '^': tCaret,
+// punct maps one-byte operators to their kinds (tEOF, zero: none), a
+// table rather than a map: it is read for every operator of every file.
+var punct = [utf8.RuneSelf]tokKind{'+': tPlus, '-': tMinus, '*': tStar, '/': tSlash, '^': tCaret,
 	'=': tAssign, '(': tLParen, ')': tRParen, '{': tLBrace, '}': tRBrace, '%': tPercent}
 
 // lexer turns source bytes into tokens. It never stops at an error: a byte
@@ -38,12 +40,41 @@ func lex(src []byte) *lexer { return lexRange(src, BOMLen(src), len(src)) }
 // are those of src. The last token is tEOF at to.
 func lexRange(src []byte, from, to int) *lexer {
 	// About one token per three bytes in real files: allocate once.
+	return lexInto(src, from, to, make([]token, 0, (to-from)/3+8))
+}
+
+// lexInto is lexRange appending the tokens to toks.
+func lexInto(src []byte, from, to int, toks []token) *lexer {
 	// One copy of the text as a string: every text below is a slice of
 	// it, not an allocation of its own.
-	lx := &lexer{src: src[:to], base: from, text: string(src[from:to]), toks: make([]token, 0, (to-from)/3+8)}
+	lx := &lexer{src: src[:to], base: from, text: string(src[from:to]), toks: toks}
 	lx.off = from
 	lx.run()
 	return lx
+}
+
+// tokenLists keeps the parser's token lists between parses: the tree keeps
+// no token, and a list as long as the file, made anew for every parse of
+// an edited file, is most of what parsing allocates.
+var tokenLists sync.Pool
+
+// pooledTokens returns an empty token list, from the pool when it has one.
+func pooledTokens(n int) []token {
+	if p, ok := tokenLists.Get().(*[]token); ok {
+		return (*p)[:0]
+	}
+	return make([]token, 0, n)
+}
+
+// recycleTokens returns a list to the pool, cleared (its texts would keep
+// the source alive), unless it is unusually large.
+func recycleTokens(toks []token) {
+	if cap(toks) > 1<<20 {
+		return
+	}
+	clear(toks)
+	toks = toks[:0]
+	tokenLists.Put(&toks)
 }
 
 func (lx *lexer) errorf(from, to int, format string, args ...any) {
@@ -104,7 +135,8 @@ func (lx *lexer) run() {
 				lx.errorf(start, lx.off, "unexpected '%c' (comparisons are '>=' and '<=')", c)
 			}
 		case c < utf8.RuneSelf:
-			k, ok := punct[c]
+			k := punct[c]
+			ok := k != tEOF
 			lx.off++
 			if !ok {
 				lx.errorf(start, lx.off, "unexpected character %s", quoteByte(c))

@@ -45,7 +45,8 @@ func Parse(name string, src []byte) (*File, ErrorList) {
 // at to, with positions of src; it returns the errors unsorted, with the
 // count of those never stored.
 func parseRange(src []byte, lines *Lines, from, to int) (*File, ErrorList, int) {
-	lx := lexRange(src, from, to)
+	lx := lexInto(src, from, to, pooledTokens((to-from)/3+8))
+	defer func() { recycleTokens(lx.toks) }()
 	p := &parser{toks: lx.toks, lines: lines}
 	f := &File{Src: src, Lines: lines, Comments: lx.comments}
 	for p.tok().kind != tEOF {
