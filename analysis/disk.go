@@ -17,12 +17,23 @@ type DiskMargin struct {
 }
 
 // diskMargin computes the symmetric disk margin of a stable loop from its
-// sampled response (the margins' grid, evaluated once).
-func (c *checker) diskMargin(l *Loop, resp *freq.Sampled) {
+// sampled response (the margins' grid, evaluated once); respErr is why
+// there is no sampled response.
+func (c *checker) diskMargin(l *Loop, resp *freq.Sampled, respErr error) {
 	if !l.Stable {
 		return
 	}
-	m, err := resp.DiskMargin()
+	var m diskmargin.Margin
+	var err error
+	switch {
+	case errors.Is(respErr, freq.ErrZeroPoly) && l.Open.Num.IsZero():
+		// L ≡ 0: S = 1 and |S − ½| = ½ at every frequency, alpha = 2.
+		m = diskmargin.FromAlpha(2, 0)
+	case resp == nil:
+		return
+	default:
+		m, err = resp.DiskMargin()
+	}
 	if errors.Is(err, diskmargin.ErrUnbounded) {
 		return // no finite figure: the JSON has null, the loop is static
 	}

@@ -241,7 +241,8 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	}
 	l.OK = true
 	c.hiddenModes(l, append(append([]element{}, fwd...), fb...))
-	resp, err := mod.Response(c.res.SampleT, poles)
+	resp, respErr := mod.Response(c.res.SampleT, poles)
+	err = respErr
 	if err == nil {
 		l.Margins, err = resp.Margins(c.res.SampleT)
 	}
@@ -260,8 +261,8 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 			l.Step = &st
 		}
 	}
-	if c.wants(sh.reqs, "disk_margin") && resp != nil {
-		c.diskMargin(l, resp)
+	if c.wants(sh.reqs, "disk_margin") {
+		c.diskMargin(l, resp, respErr)
 	}
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)

@@ -10,22 +10,17 @@
 // [(1 − α/2)/(1 + α/2), (1 + α/2)/(1 − α/2)] and phases within ±2·atan(α/2).
 // For a real L, |S| is even in θ, so [0, π] covers the whole circle.
 //
-// The package takes L as a function of the angle, so any evaluation of the
-// loop (coefficients, factored blocks, a state-space form) plugs in.
+// The package finds the peak of |S − 1/2| sampled on a grid the caller
+// evaluated (package freq samples each loop once, on the grid its margins
+// use, for the margins, the peak sensitivity and the disk margin).
 package diskmargin
 
 import (
 	"errors"
 	"math"
-	"math/cmplx"
 
-	"ringside/analysis/internal/anglegrid"
 	"ringside/analysis/internal/search"
 )
-
-// Response returns L(e^{jθ}) at θ rad/sample, 0 ≤ θ ≤ π. It may return an
-// infinite value at a pole of L on the unit circle (S = 0 there).
-type Response func(theta float64) complex128
 
 // Margin is a symmetric disk margin.
 type Margin struct {
@@ -42,18 +37,6 @@ type Margin struct {
 }
 
 const (
-	// GridPoints is the uniform part of the search grid over [0, π]. The
-	// peak of |S − 1/2| is a resonance of the closed loop; a closed-loop
-	// pole at distance d from the circle gives a peak of width about d, so
-	// the grid is refined geometrically around poles within NearCircle of
-	// the circle (down to d/16), and 512 uniform points cover the rest:
-	// every other pole lies at least NearCircle = 0.2 from the circle, so
-	// its features are at least about 0.2 rad wide, some 30 grid steps
-	// (π/512 ≈ 0.006 rad) across.
-	GridPoints = 512
-	// NearCircle: closed-loop poles with ||p| − 1| below it get extra grid
-	// points around their angle.
-	NearCircle = 0.2
 	// AngleTol is the width in rad/sample (plus √ε relative) to which Brent's method
 	// narrows each local maximum of the grid. At a smooth maximum the value
 	// errs by the square of the angle error times the curvature, so the
@@ -69,19 +52,6 @@ var ErrOnCircle = errors.New("diskmargin: 1 + L vanishes on the unit circle")
 // one): |S − 1/2| vanishes everywhere and no disk of changes destabilises
 // it, so there is no finite alpha.
 var ErrUnbounded = errors.New("diskmargin: L = 1 at every frequency, the disk margin is unbounded")
-
-// Compute returns the disk margin of L. closedPoles are the closed-loop
-// poles (the grid is refined near those close to the circle); the caller
-// must know the loop to be stable, since alpha says nothing otherwise.
-func Compute(L Response, closedPoles []complex128) (Margin, error) {
-	f := func(th float64) float64 { return distance(L(th)) }
-	grid := searchGrid(closedPoles)
-	vals := make([]float64, len(grid))
-	for i, th := range grid {
-		vals[i] = f(th)
-	}
-	return FromGrid(grid, vals, f)
-}
 
 // FromGrid returns the disk margin from |S − 1/2| sampled on a sorted grid
 // of angles over [0, π] (vals[i] at grid[i]) dense enough to bracket its
@@ -134,18 +104,6 @@ func FromAlpha(alpha, peakTheta float64) Margin {
 	return m
 }
 
-// distance is |S − 1/2| = |1 − L| / (2|1 + L|), written so that a pole of L
-// on the circle (L infinite, S = 0) gives 1/2.
-func distance(l complex128) float64 {
-	if cmplx.IsInf(l) {
-		return 0.5
-	}
-	if math.Max(math.Abs(real(l)), math.Abs(imag(l))) > 1e150 { // (1 − L)/(1 + L) → −1 without overflow
-		return 0.5 * cmplx.Abs((1/l-1)/(1/l+1))
-	}
-	return math.Sqrt(sq(1-l)/sq(1+l)) / 2
-}
-
 // DistanceND is |S − 1/2| for L = N/D given apart: |D − N| / (2|D + N|),
 // which is 1/2 at a pole of L (D = 0) and +Inf where 1 + L = 0. N and D
 // are first scaled together by a power of two so that their squares
@@ -168,29 +126,7 @@ func ldexpC(c complex128, e int) complex128 {
 	return complex(math.Ldexp(real(c), e), math.Ldexp(imag(c), e))
 }
 
-// sq is |c|²; for parts of L within ±1e150 neither square overflows. A |1 + L| below
-// 1e-154 squares to 0 and reads as 1 + L = 0 on the circle.
+// sq is |c|².
 func sq(c complex128) float64 {
 	return real(c)*real(c) + imag(c)*imag(c)
-}
-
-// clusterReach is where a cluster stops: its gaps (half the offset, at
-// ratio 1.5) have grown to the uniform spacing π/GridPoints, so farther
-// out the uniform grid is the denser one.
-const clusterReach = 2 * math.Pi / GridPoints
-
-// searchGrid is the grid Compute samples: GridPoints uniform angles over
-// [0, π] merged with geometric clusters around the closed-loop poles within
-// NearCircle of the circle (down to a 16th of the pole's distance to it),
-// points closer than 1e-14 rad merged.
-func searchGrid(poles []complex128) []float64 {
-	var clusters []anglegrid.Cluster
-	for _, p := range poles {
-		d := math.Abs(cmplx.Abs(p) - 1)
-		if d >= NearCircle {
-			continue
-		}
-		clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(p)), Start: math.Max(d, 1e-12) / 16})
-	}
-	return anglegrid.Build(nil, GridPoints, clusters, clusterReach, nil)
 }

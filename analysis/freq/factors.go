@@ -97,15 +97,24 @@ func ComputeFactors(f Factors, T float64) (Margins, error) {
 
 // GainMarginFactors is GainMargin for a loop given by its factors.
 func GainMarginFactors(f Factors, T float64) (*float64, error) {
-	if err := f.check(); err != nil {
-		return nil, err
-	}
-	lp, err := prepareT(T)
+	lp, err := factorLoop(f, T)
 	if err != nil {
 		return nil, err
 	}
-	lp.fac = &f
 	return lp.gainMargin(T), nil
+}
+
+// factorLoop checks f and T and returns the loop evaluated from f.
+func factorLoop(f Factors, T float64) (loop, error) {
+	if err := f.check(); err != nil {
+		return loop{}, err
+	}
+	lp, err := prepareT(T)
+	if err != nil {
+		return loop{}, err
+	}
+	lp.fac = &f
+	return lp, nil
 }
 
 // RealAxisCrossings returns the angles θ in [0, π] (rad/sample) where L is

@@ -135,14 +135,10 @@ type Sampled struct {
 // SampleFactors evaluates the loop given by its factors on its search grid
 // (errors as ComputeFactors).
 func SampleFactors(f Factors, T float64) (*Sampled, error) {
-	if err := f.check(); err != nil {
-		return nil, err
-	}
-	lp, err := prepareT(T)
+	lp, err := factorLoop(f, T)
 	if err != nil {
 		return nil, err
 	}
-	lp.fac = &f
 	grid := lp.grid()
 	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid)}, nil
 }

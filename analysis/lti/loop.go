@@ -63,13 +63,21 @@ func (l *Loop) takeCommon() {
 		l.open = Factored{Err: l.err}
 		return
 	}
+	pairs, keep, rest := l.matchCommon()
+	l.open = Factored{Gain: l.full.Gain, Zeros: rest, Poles: keep, Err: l.err}
+	l.settleCommon(pairs)
+}
+
+// commonPair is a block pole p matched by a zero q within CommonTol.
+type commonPair struct{ p, q complex128 }
+
+// matchCommon matches the poles of L with its zeros (a multiset match, a
+// complex pole with its conjugate, the upper member deciding, so both lists
+// stay closed under conjugation): the matched pairs (a complex pair and its
+// mirror adjacent), and the poles and zeros left.
+func (l *Loop) matchCommon() (pairs []commonPair, keep, rest []complex128) {
 	zeros := append([]complex128(nil), l.full.Zeros...)
 	used := make([]bool, len(zeros))
-	var keep []complex128
-	type pair struct{ p, q complex128 }
-	var pairs []pair
-	// A complex pole is matched with its conjugate (the upper member
-	// decides), so both lists stay closed under conjugation.
 	for _, p := range l.full.Poles {
 		if imag(p) < 0 {
 			continue
@@ -89,10 +97,10 @@ func (l *Loop) takeCommon() {
 		}
 		if best >= 0 && (imag(p) == 0 || mate >= 0) && bestD <= CommonTol*math.Max(1, cmplx.Abs(p))+2*l.err {
 			used[best] = true
-			pairs = append(pairs, pair{p, zeros[best]})
+			pairs = append(pairs, commonPair{p, zeros[best]})
 			if mate >= 0 {
 				used[mate] = true
-				pairs = append(pairs, pair{cmplx.Conj(p), zeros[mate]})
+				pairs = append(pairs, commonPair{cmplx.Conj(p), zeros[mate]})
 			}
 			continue
 		}
@@ -101,16 +109,19 @@ func (l *Loop) takeCommon() {
 			keep = append(keep, cmplx.Conj(p))
 		}
 	}
-	var rest []complex128
 	for j, q := range zeros {
 		if !used[j] {
 			rest = append(rest, q)
 		}
 	}
-	l.open = Factored{Gain: l.full.Gain, Zeros: rest, Poles: keep, Err: l.err}
-	// A near pair moves the closed-loop pole by |p − q|·|T'(p)|; keep it
-	// in the eigenvalue problem when that is not small. A complex pair and
-	// its mirror (adjacent in pairs) are kept or taken out together.
+	return pairs, keep, rest
+}
+
+// settleCommon takes each matched pair out as an exact closed-loop pole,
+// or keeps it in L (and so in the eigenvalue problem) when it is not near
+// enough: a near pair moves the closed-loop pole by |p − q|·|T'(p)|. A
+// complex pair and its mirror are kept or taken out together.
+func (l *Loop) settleCommon(pairs []commonPair) {
 	for i := 0; i < len(pairs); i++ {
 		group := pairs[i : i+1]
 		if imag(pairs[i].p) > 0 && i+1 < len(pairs) {
@@ -369,10 +380,14 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 	x, nx := make([]float64, n), make([]float64, n)
 	tb, early := newTailBound(s, K)
 	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
+	next := make([]float64, n) // A x + B at the checks
 	for k := 0; k < K; k++ {
-		if early && k%tailCheckEvery == 0 && sim.watch.Done(tb.bound(x, final)) {
-			sim.stopped = true
-			return sim, nil
+		if early && k%tailCheckEvery == 0 && !sim.watch.Pending() {
+			rows.step(next, x, s.B)
+			if sim.watch.Done(tb.bounds(x, next, final)) {
+				sim.stopped = true // samples k on are bounded: none is taken
+				return sim, nil
+			}
 		}
 		v := s.D
 		for i, c := range s.C {
@@ -403,9 +418,23 @@ type entry struct {
 	a float64
 }
 
+// nonzeros is an n×n matrix by the nonzero entries of each row.
+type nonzeros [][]entry
+
+// step sets dst = A x + b.
+func (r nonzeros) step(dst, x, b []float64) {
+	for i, row := range r {
+		acc := b[i]
+		for _, e := range row {
+			acc += e.a * x[e.j]
+		}
+		dst[i] = acc
+	}
+}
+
 // sparseRows lists the nonzero entries of each row of the n×n matrix a.
-func sparseRows(a []float64, n int) [][]entry {
-	rows := make([][]entry, n)
+func sparseRows(a []float64, n int) nonzeros {
+	rows := make(nonzeros, n)
 	for i := 0; i < n; i++ {
 		for j, v := range a[i*n : (i+1)*n] {
 			if v != 0 {

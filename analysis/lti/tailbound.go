@@ -23,6 +23,7 @@ import "math"
 type tailBound struct {
 	xinf  []float64
 	scale []float64 // 2^−sᵢ: ẽ = S⁻¹e
+	c     []float64 // C (unscaled)
 	beta  float64
 	yinf  float64
 }
@@ -62,7 +63,7 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		matSquare(q, p, n)
 		p, q = q, p
 	}
-	t := &tailBound{xinf: xinf, yinf: s.D, scale: make([]float64, n)}
+	t := &tailBound{xinf: xinf, yinf: s.D, scale: make([]float64, n), c: s.C}
 	for i, c := range s.C {
 		t.yinf += c * xinf[i]
 		t.scale[i] = math.Ldexp(1, -exps[i])
@@ -95,18 +96,56 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	return t, !math.IsInf(t.beta, 0) && !math.IsNaN(t.beta) && !math.IsNaN(t.yinf)
 }
 
-// bound returns β‖S⁻¹(x − x∞)‖∞ plus |final − y∞| (the DC gain the figures
-// use, from the factors, against this model's steady state), raised by
-// tailSafety: a bound on |y[j] − final| for every sample j from the state
-// x on.
-func (t *tailBound) bound(x []float64, final float64) float64 {
-	e := 0.0
+// bounds returns dev, a bound on |y[j] − final|, and over, a bound on
+// σ·(y[j] − final) (σ the sign of final), for every sample j from the state
+// x on, given next = A x + B. The first is β‖S⁻¹(x − x∞)‖∞ plus
+// |final − y∞| (the DC gain the figures use, from the factors, against
+// this model's steady state). Besides that, it uses the slow real mode
+// that dominates a settling tail (an integrator's, an overdamped loop's):
+// with e = x − x∞, u = C e and any λ in [0, 1), the exact identity
+// u[k+1] = λ·u[k] + C d[k] with d = (A − λI) e, d[k+i] = Aⁱ d[k], gives
+//
+//	u[k+m] = λᵐ u[k] + Σ_{i<m} λ^(m−1−i) C Aⁱ d[k],  |C Aⁱ d| ≤ β ‖S⁻¹d‖∞,
+//	so |u[k+m]| ≤ |u[k]| + β‖S⁻¹d‖∞/(1 − λ), σu[k+m] ≤ max(σu[k], 0) + β‖S⁻¹d‖∞/(1 − λ).
+//
+// λ is the least-squares ratio of S⁻¹(next − x∞) to S⁻¹e (any λ keeps the
+// proof; this one leaves in d only the faster modes, which die out long
+// before the slow one: the tail is certified soon after the last exit from
+// the band, and the overshoot of a response that creeps up to its final
+// value without the 1e-6 wait). The smaller of each pair of bounds is
+// returned, raised by tailSafety.
+func (t *tailBound) bounds(x, next []float64, final float64) (dev, over float64) {
+	var ee, e1e, emax, u float64
 	for i, v := range x {
-		if d := math.Abs(v-t.xinf[i]) * t.scale[i]; d > e || d != d {
-			e = d // a NaN state is kept: the bound is then NaN and proves nothing
+		e := (v - t.xinf[i]) * t.scale[i]
+		e1 := (next[i] - t.xinf[i]) * t.scale[i]
+		ee, e1e = ee+e*e, e1e+e*e1
+		if a := math.Abs(e); a > emax || a != a {
+			emax = a
+		}
+		u += t.c[i] * (v - t.xinf[i])
+	}
+	offset := tailSafety * math.Abs(final-t.yinf)
+	dev = t.beta*emax + offset
+	over = dev
+	if !(ee > 0) {
+		return dev, over
+	}
+	lambda := e1e / ee
+	if !(lambda >= 0 && lambda < 1) {
+		return dev, over
+	}
+	dmax := 0.0
+	for i, v := range x {
+		d := ((next[i] - t.xinf[i]) - lambda*(v-t.xinf[i])) * t.scale[i]
+		if a := math.Abs(d); a > dmax || a != a {
+			dmax = a
 		}
 	}
-	return t.beta*e + tailSafety*math.Abs(final-t.yinf)
+	tail := t.beta * dmax / (1 - lambda)
+	dev = math.Min(dev, tailSafety*(math.Abs(u)+tail)+offset)
+	over = math.Min(over, tailSafety*(math.Max(math.Copysign(1, final)*u, 0)+tail)+offset)
+	return dev, over
 }
 
 // solveShifted solves (I − A) x = b by Gaussian elimination with partial

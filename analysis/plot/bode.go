@@ -157,8 +157,7 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 	ref := draw.LineStyle{Color: colReference, Width: vg.Points(refWidth), Dashes: dashed()}
 	marg := draw.LineStyle{Color: colMargin, Width: vg.Points(curveWidth + 0.4)}
 
-	// Reference lines: 0 dB, and every odd multiple of 180° the phase
-	// reaches (the unwrapped phase may sit on another branch than −180°).
+	// Reference lines: 0 dB, and the phase's odd multiples of 180°.
 	if err := addLine(b.mag, plotter.XYs{{X: fmin, Y: 0}, {X: ny, Y: 0}}, ref); err != nil {
 		return nil, err
 	}
@@ -170,6 +169,33 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 			return nil, err
 		}
 	}
+	if err := addPhaseReferences(b.phase, phaseDeg, fmin, ny, ref); err != nil {
+		return nil, err
+	}
+	for _, s := range segments(hz, phaseDeg, math.Inf(-1)) {
+		if err := addLine(b.phase, s, curve); err != nil {
+			return nil, err
+		}
+	}
+	span := bodeSpan{fmin: fmin, ny: ny, T: T, hz: hz, phaseDeg: phaseDeg, style: marg}
+	if err := span.gainMarginMark(b.mag, m); err != nil {
+		return nil, err
+	}
+	if err := span.phaseMarginMark(b.phase, l, m); err != nil {
+		return nil, err
+	}
+	for _, p := range []*gplot.Plot{b.mag, b.phase} {
+		p.X.Min, p.X.Max = fmin, ny
+	}
+	b.phase.Y.Min = math.Floor(b.phase.Y.Min/45) * 45
+	b.phase.Y.Max = math.Ceil(b.phase.Y.Max/45) * 45
+	b.phase.Y.Tick.Marker = phaseTicks(b.phase.Y.Min, b.phase.Y.Max)
+	return b, nil
+}
+
+// addPhaseReferences draws every odd multiple of 180° the phase reaches
+// (the unwrapped phase may sit on another branch than −180°).
+func addPhaseReferences(p *gplot.Plot, phaseDeg []float64, fmin, ny float64, ref draw.LineStyle) error {
 	pmin, pmax := math.Inf(1), math.Inf(-1)
 	for _, v := range phaseDeg {
 		if !math.IsNaN(v) && !math.IsInf(v, 0) {
@@ -179,62 +205,64 @@ func newBode(res *analysis.Result, l *analysis.Loop) (*bode, error) {
 	lo := math.Min(pmin, -180)
 	hi := math.Max(pmax, -180)
 	for k := math.Ceil((lo+180)/360) * 360; k-180 <= hi; k += 360 {
-		if err := addLine(b.phase, plotter.XYs{{X: fmin, Y: k - 180}, {X: ny, Y: k - 180}}, ref); err != nil {
-			return nil, err
+		if err := addLine(p, plotter.XYs{{X: fmin, Y: k - 180}, {X: ny, Y: k - 180}}, ref); err != nil {
+			return err
 		}
 	}
-	for _, s := range segments(hz, phaseDeg, math.Inf(-1)) {
-		if err := addLine(b.phase, s, curve); err != nil {
-			return nil, err
-		}
-	}
+	return nil
+}
 
-	// Gain margin: at the phase crossover, from |L| up (or down) to 0 dB.
-	if m.GainMarginDB != nil && m.PhaseCrossoverHz != nil {
-		gm := *m.GainMarginDB
-		f, moved := clampHz(*m.PhaseCrossoverHz, fmin, ny)
-		label := "GM " + analysis.FormatMetric("gain_margin", gm)
-		if moved {
-			label += " at " + analysis.FormatHz(*m.PhaseCrossoverHz)
-		}
-		if err := addLine(b.mag, plotter.XYs{{X: f, Y: -gm}, {X: f, Y: 0}}, marg); err != nil {
-			return nil, err
-		}
-		if err := addLabel(b.mag, f, -gm/2, label, rightHalf(f, fmin, ny), colMargin); err != nil {
-			return nil, err
-		}
+// bodeSpan is what the margin marks need of a drawn Bode plot: its
+// frequency span, the sample period, the grid and the drawn phase.
+type bodeSpan struct {
+	fmin, ny, T  float64
+	hz, phaseDeg []float64
+	style        draw.LineStyle
+}
+
+// gainMarginMark draws the gain margin at the phase crossover, from |L|
+// up (or down) to 0 dB.
+func (sp bodeSpan) gainMarginMark(p *gplot.Plot, m freq.Margins) error {
+	if m.GainMarginDB == nil || m.PhaseCrossoverHz == nil {
+		return nil
 	}
-	// Phase margin: at the gain crossover, from the −180° line of the
-	// branch the phase is on, to the phase.
-	if m.PhaseMarginDeg != nil && m.GainCrossoverHz != nil {
-		pm := *m.PhaseMarginDeg
-		f, moved := clampHz(*m.GainCrossoverHz, fmin, ny)
-		_, ph := freq.Response(poly.Rational{Num: l.Open.Num, Den: l.Open.Den}, T, []float64{f})
-		phi := ph[0]
-		if i := nearestIndex(hz, f); !math.IsNaN(phaseDeg[i]) {
-			// Put the crossover's phase on the branch of the drawn curve.
-			phi -= 360 * math.Round((phi-phaseDeg[i])/360)
-		}
-		if !math.IsNaN(phi) {
-			label := "PM " + analysis.FormatMetric("phase_margin", pm)
-			if moved {
-				label += " at " + analysis.FormatHz(*m.GainCrossoverHz)
-			}
-			if err := addLine(b.phase, plotter.XYs{{X: f, Y: phi - pm}, {X: f, Y: phi}}, marg); err != nil {
-				return nil, err
-			}
-			if err := addLabel(b.phase, f, phi-pm/2, label, rightHalf(f, fmin, ny), colMargin); err != nil {
-				return nil, err
-			}
-		}
+	gm := *m.GainMarginDB
+	f, moved := clampHz(*m.PhaseCrossoverHz, sp.fmin, sp.ny)
+	label := "GM " + analysis.FormatMetric("gain_margin", gm)
+	if moved {
+		label += " at " + analysis.FormatHz(*m.PhaseCrossoverHz)
 	}
-	for _, p := range []*gplot.Plot{b.mag, b.phase} {
-		p.X.Min, p.X.Max = fmin, ny
+	if err := addLine(p, plotter.XYs{{X: f, Y: -gm}, {X: f, Y: 0}}, sp.style); err != nil {
+		return err
 	}
-	b.phase.Y.Min = math.Floor(b.phase.Y.Min/45) * 45
-	b.phase.Y.Max = math.Ceil(b.phase.Y.Max/45) * 45
-	b.phase.Y.Tick.Marker = phaseTicks(b.phase.Y.Min, b.phase.Y.Max)
-	return b, nil
+	return addLabel(p, f, -gm/2, label, rightHalf(f, sp.fmin, sp.ny), colMargin)
+}
+
+// phaseMarginMark draws the phase margin at the gain crossover, from the
+// −180° line of the branch the phase is on, to the phase.
+func (sp bodeSpan) phaseMarginMark(p *gplot.Plot, l *analysis.Loop, m freq.Margins) error {
+	if m.PhaseMarginDeg == nil || m.GainCrossoverHz == nil {
+		return nil
+	}
+	pm := *m.PhaseMarginDeg
+	f, moved := clampHz(*m.GainCrossoverHz, sp.fmin, sp.ny)
+	_, ph := freq.Response(poly.Rational{Num: l.Open.Num, Den: l.Open.Den}, sp.T, []float64{f})
+	phi := ph[0]
+	if i := nearestIndex(sp.hz, f); !math.IsNaN(sp.phaseDeg[i]) {
+		// Put the crossover's phase on the branch of the drawn curve.
+		phi -= 360 * math.Round((phi-sp.phaseDeg[i])/360)
+	}
+	if math.IsNaN(phi) {
+		return nil
+	}
+	label := "PM " + analysis.FormatMetric("phase_margin", pm)
+	if moved {
+		label += " at " + analysis.FormatHz(*m.GainCrossoverHz)
+	}
+	if err := addLine(p, plotter.XYs{{X: f, Y: phi - pm}, {X: f, Y: phi}}, sp.style); err != nil {
+		return err
+	}
+	return addLabel(p, f, phi-pm/2, label, rightHalf(f, sp.fmin, sp.ny), colMargin)
 }
 
 func nearestIndex(xs []float64, x float64) int {

@@ -131,24 +131,9 @@ func Find(p poly.Poly) (Result, error) {
 		return Result{}, errors.New("roots: the coefficients span too wide a range for float64 (some root's modulus is out of range)")
 	}
 
-	var wroots []complex128
-	switch len(q) - 1 {
-	case 0:
-	case 1:
-		wroots = []complex128{complex(-sc.w[0]/sc.w[1], 0)}
-	case 2:
-		wroots = quadratic(sc.w[1]/sc.w[2], sc.w[0]/sc.w[2])
-	default:
-		var err error
-		wroots, err = companionRoots(sc.w)
-		if err != nil {
-			return Result{}, err
-		}
-		for _, z := range wroots {
-			if cmplx.IsNaN(z) || cmplx.IsInf(z) {
-				return Result{}, errors.New("roots: the eigenvalue iteration overflowed (coefficients too far apart in size)")
-			}
-		}
+	wroots, err := scaledRoots(sc.w)
+	if err != nil {
+		return Result{}, err
 	}
 	pairs := toItems(wroots)
 	eta := math.Max(clusterEtaFactor*float64(len(q))*eps, backwardError(sc.w, expand(pairs)))
@@ -192,6 +177,29 @@ func Find(p poly.Poly) (Result, error) {
 	}
 	res.BackwardError = inputBackwardError(p, res.Roots, sc.w, polishedW)
 	return res, nil
+}
+
+// scaledRoots returns the roots of the rescaled polynomial w: in closed
+// form up to degree 2, as companion eigenvalues above.
+func scaledRoots(w poly.Poly) ([]complex128, error) {
+	switch len(w) - 1 {
+	case 0:
+		return nil, nil
+	case 1:
+		return []complex128{complex(-w[0]/w[1], 0)}, nil
+	case 2:
+		return quadratic(w[1]/w[2], w[0]/w[2]), nil
+	}
+	zs, err := companionRoots(w)
+	if err != nil {
+		return nil, err
+	}
+	for _, z := range zs {
+		if cmplx.IsNaN(z) || cmplx.IsInf(z) {
+			return nil, errors.New("roots: the eigenvalue iteration overflowed (coefficients too far apart in size)")
+		}
+	}
+	return zs, nil
 }
 
 // scaled is q rescaled: w[i] = 2^(k·i − e)·q[i], the polynomial in w with

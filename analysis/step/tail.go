@@ -91,17 +91,26 @@ func (t *Tail) add(v float64) {
 // Samples is how many samples were taken.
 func (t *Tail) Samples() int { return t.n }
 
+// Pending reports that no bound on the later samples can fix the figures
+// yet: the last sample is outside the band, the 90 % level is not reached,
+// or a view's samples are still to come.
+func (t *Tail) Pending() bool {
+	return t.view && t.n <= StepShown(t.last+1) || t.last >= t.n-1 || t.final != 0 && t.k90 < 0
+}
+
 // Done reports whether the samples so far fix every figure, given that
-// |y[j] − Final| ≤ bound for every sample j not yet taken.
-func (t *Tail) Done(bound float64) bool {
-	if !(bound >= 0) || math.IsInf(bound, 0) || t.view && t.n <= StepShown(t.last+1) || t.last >= t.n-1 {
+// every sample j not yet taken has |y[j] − Final| ≤ dev and
+// σ·(y[j] − Final) ≤ over (σ the sign of Final; over ≤ dev always holds
+// for the same proof, but a one-sided bound can be far smaller).
+func (t *Tail) Done(dev, over float64) bool {
+	if !(dev >= 0) || math.IsInf(dev, 0) || t.Pending() {
 		return false
 	}
 	if t.final == 0 {
-		return bound <= t.width // later |y| ≤ bound cannot widen the band
+		return dev <= t.width // later |y| ≤ dev cannot widen the band
 	}
 	af := math.Abs(t.final)
-	return t.k90 >= 0 && bound <= t.width && bound <= math.Max(t.peak, OvershootSlack*af)
+	return dev <= t.width && math.Min(over, dev) <= math.Max(t.peak, OvershootSlack*af)
 }
 
 // Result returns the figures of the samples taken (Final ≠ 0), with

@@ -23,9 +23,11 @@ type Cluster struct {
 
 // Build appends to dst[:0] the sorted distinct angles in [0, π]: count + 1
 // uniform points π·i/count, the points of every cluster (offsets below
-// reach; the last uniform point is π itself), and the points of extra (sorted ascending); points outside
+// reach; the last uniform point is π itself; of clusters with the same
+// centre only the finest counts), and the points of extra (sorted ascending); points outside
 // [0, π] are dropped and points within MinGap of the previous one merged.
 func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
+	clusters = finest(clusters)
 	runs := make([]float64, 0, len(extra)+64*len(clusters))
 	bounds := []int{0}
 	runs = append(runs, extra...)
@@ -47,6 +49,26 @@ func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []
 	}
 	sorted := mergeRuns(runs, bounds)
 	return mergeUniform(dst[:0], count, sorted)
+}
+
+// finest keeps, of clusters with the same centre, the one starting
+// closest to it: its points are those of the others' spacing (offsets grow
+// by the same Ratio) and finer, so theirs would only double the density.
+// Roots on the real axis all centre at 0 or π (an integrator, a PI zero and
+// the slow closed-loop poles of a loop share θ = 0).
+func finest(clusters []Cluster) []Cluster {
+	out := make([]Cluster, 0, len(clusters))
+next:
+	for _, c := range clusters {
+		for i, o := range out {
+			if o.Center == c.Center {
+				out[i].Start = math.Min(o.Start, c.Start)
+				continue next
+			}
+		}
+		out = append(out, c)
+	}
+	return out
 }
 
 // mergeRuns merges the sorted runs runs[bounds[i]:bounds[i+1]] pairwise

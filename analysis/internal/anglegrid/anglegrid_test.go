@@ -15,7 +15,7 @@ func naive(count int, clusters []Cluster, reach float64, extra []float64) []floa
 	}
 	all = append(all, math.Pi)
 	all = append(all, extra...)
-	for _, c := range clusters {
+	for _, c := range finestByDefinition(clusters) {
 		all = append(all, c.Center)
 		for s := c.Start; s < reach; s *= Ratio {
 			all = append(all, c.Center-s, c.Center+s)
@@ -32,6 +32,26 @@ func naive(count int, clusters []Cluster, reach float64, extra []float64) []floa
 	return out
 }
 
+// finestByDefinition: for each centre, the smallest start among the
+// clusters there.
+func finestByDefinition(cs []Cluster) []Cluster {
+	start := map[float64]float64{}
+	var order []float64
+	for _, c := range cs {
+		if s, ok := start[c.Center]; !ok || c.Start < s {
+			if !ok {
+				order = append(order, c.Center)
+			}
+			start[c.Center] = c.Start
+		}
+	}
+	var out []Cluster
+	for _, c := range order {
+		out = append(out, Cluster{c, start[c]})
+	}
+	return out
+}
+
 func TestBuildMatchesSortedDefinition(t *testing.T) {
 	rng := rand.New(rand.NewSource(4))
 	for trial := 0; trial < 300; trial++ {
@@ -39,8 +59,11 @@ func TestBuildMatchesSortedDefinition(t *testing.T) {
 		var cs []Cluster
 		for i := rng.Intn(12); i > 0; i-- {
 			c := Cluster{Center: math.Pi * rng.Float64(), Start: math.Pow(10, -1-9*rng.Float64())}
-			if rng.Intn(5) == 0 {
+			switch rng.Intn(5) {
+			case 0:
 				c.Center = 0 // clusters at the ends spill outside [0, π]
+			case 1:
+				c.Center = math.Pi
 			}
 			cs = append(cs, c)
 		}

@@ -57,22 +57,14 @@ func BrentMax(f func(float64) float64, a, b, tol float64) float64 {
 		}
 		golden := true
 		if math.Abs(e) > tol1 { // try a parabola through x, w, v
-			r := (x - w) * (fx - fv)
-			q := (x - v) * (fx - fw)
-			p := (x-v)*q - (x-w)*r
-			q = 2 * (q - r)
-			if q > 0 {
-				p = -p
-			}
-			q = math.Abs(q)
-			etemp := e
+			var step float64
+			step, golden = parabola(x, w, v, fx, fw, fv, e, a, b)
 			e = d
-			if math.Abs(p) < math.Abs(0.5*q*etemp) && p > q*(a-x) && p < q*(b-x) {
-				d = p / q
+			if !golden {
+				d = step
 				if u := x + d; u-a < tol2 || b-u < tol2 {
 					d = math.Copysign(tol1, xm-x)
 				}
-				golden = false
 			}
 		}
 		if golden {
@@ -117,4 +109,23 @@ func BrentMax(f func(float64) float64, a, b, tol float64) float64 {
 		}
 	}
 	return x
+}
+
+// parabola returns the step from x to the vertex of the parabola through
+// (x, fx), (w, fw), (v, fv), and reject = true when that step is not
+// acceptable: not less than half the step before last (e), or leaving
+// (a, b).
+func parabola(x, w, v, fx, fw, fv, e, a, b float64) (step float64, reject bool) {
+	r := (x - w) * (fx - fv)
+	q := (x - v) * (fx - fw)
+	p := (x-v)*q - (x-w)*r
+	q = 2 * (q - r)
+	if q > 0 {
+		p = -p
+	}
+	q = math.Abs(q)
+	if math.Abs(p) < math.Abs(0.5*q*e) && p > q*(a-x) && p < q*(b-x) {
+		return p / q, false
+	}
+	return 0, true
 }
