@@ -243,6 +243,11 @@ func (c *checker) reaches(from, to string, seen map[string]bool) bool {
 // declare builds the scope: used files first (so this file's own
 // declarations are the ones reported as duplicates), then this file.
 func (c *checker) declare() {
+	n := 0
+	for _, u := range c.ld.order {
+		n += len(u.file.Stmts)
+	}
+	c.res.Scope = make(map[string]*Decl, n) // room for every statement's name
 	for i := len(c.ld.order) - 1; i >= 0; i-- {
 		u := c.ld.order[i]
 		own := u == c.root

@@ -88,9 +88,17 @@ type numResult struct {
 	err   error
 }
 
-func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{},
-		blocks: map[string]*blockEntry{}, loopTexts: map[string]string{}, gainTexts: map[string]string{}}
+func newMemoFile() *memoFile { return newMemoFileLike(nil) }
+
+// newMemoFileLike returns an empty memo file with room for as many entries
+// as like holds (the next check of a file keeps about as many).
+func newMemoFileLike(like *memoFile) *memoFile {
+	if like == nil {
+		like = &memoFile{}
+	}
+	return &memoFile{loops: make(map[string]*loopEntry, len(like.loops)), gains: make(map[string]*GainLimits, len(like.gains)),
+		nums: make(map[string]numResult, len(like.nums)), blocks: make(map[string]*blockEntry, len(like.blocks)),
+		loopTexts: make(map[string]string, len(like.loopTexts)), gainTexts: make(map[string]string, len(like.gainTexts))}
 }
 
 func loopsOf(f *memoFile) map[string]*loopEntry   { return f.loops }
@@ -134,7 +142,8 @@ func (m *Memo) begin(path string) *memoRun {
 	if old == nil {
 		old = newMemoFile()
 	}
-	return &memoRun{m: m, path: path, old: old, next: newMemoFile(), loopKeys: map[*Loop]string{}, gainKeys: map[*Gain]string{}}
+	return &memoRun{m: m, path: path, old: old, next: newMemoFileLike(old),
+		loopKeys: make(map[*Loop]string, len(old.loops)), gainKeys: make(map[*Gain]string, len(old.gains))}
 }
 
 // commit makes this check's entries the file's memo.
