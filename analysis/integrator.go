@@ -24,37 +24,49 @@ func (c *checker) quietIntegrators() {
 			onCircle[k] = d
 		}
 	}
-	var users map[string][]*Loop // built on the first integrator only
+	type note struct {
+		b *Block
+		x *Diagnostic
+	}
+	var notes []note
 	for _, b := range c.res.Blocks {
-		x := onCircle[diagPlace{b.Path, exprSpan(b.Stmt.Expr)}]
-		if x == nil {
-			continue
+		if x := onCircle[diagPlace{b.Path, exprSpan(b.Stmt.Expr)}]; x != nil {
+			notes = append(notes, note{b, x})
 		}
-		if users == nil {
-			users = c.blockUsers()
+	}
+	if len(notes) == 0 {
+		return
+	}
+	users := c.blockUsers()
+	// Each note rewrites its own diagnostic (blocks stand in different
+	// places), so they are worded side by side.
+	parallel(len(notes), func(i int) { c.integratorNote(notes[i].b, notes[i].x, users[notes[i].b.Name]) })
+}
+
+// integratorNote words block b's on-circle finding x by the loops that use
+// the block.
+func (c *checker) integratorNote(b *Block, x *Diagnostic, users []*Loop) {
+	var stable, other []string
+	for _, l := range users {
+		if l.ShownStable() || c.env.Options.Quick {
+			stable = append(stable, l.Name)
+		} else {
+			other = append(other, l.Name)
 		}
-		var stable, other []string
-		for _, l := range users[b.Name] {
-			if l.ShownStable() || c.env.Options.Quick {
-				stable = append(stable, l.Name)
-			} else {
-				other = append(other, l.Name)
-			}
-		}
-		switch {
-		case len(stable)+len(other) == 0:
-			x.Message += "; no loop of this file uses it"
-		case len(other) > 0:
-			x.Message += fmt.Sprintf("; %s not shown stable (see %s), so nothing here shows it stabilised", loopsVerb(other, "is", "are"), pronoun(other))
-		case c.env.Options.Quick:
-			x.Severity = Info
-			x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator), used in %s; the full analysis checks that it is stabilised",
-				b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "", ""))
-		default:
-			x.Severity = Info
-			x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator); %s it",
-				b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "stabilises", "stabilise"))
-		}
+	}
+	switch {
+	case len(stable)+len(other) == 0:
+		x.Message += "; no loop of this file uses it"
+	case len(other) > 0:
+		x.Message += fmt.Sprintf("; %s not shown stable (see %s), so nothing here shows it stabilised", loopsVerb(other, "is", "are"), pronoun(other))
+	case c.env.Options.Quick:
+		x.Severity = Info
+		x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator), used in %s; the full analysis checks that it is stabilised",
+			b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "", ""))
+	default:
+		x.Severity = Info
+		x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator); %s it",
+			b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "stabilises", "stabilise"))
 	}
 }
 
