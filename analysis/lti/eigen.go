@@ -1,10 +1,12 @@
 package lti
 
 import (
+	"cmp"
 	"errors"
 	"math"
 	"math/cmplx"
-	"sort"
+	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack"
@@ -183,11 +185,25 @@ func (w *work) geev(a, vl, vr blas64.General) (ok bool) {
 }
 
 func (w *work) query(a, vl, vr blas64.General) int {
+	n := a.Rows
+	if n < len(lworkBySize) {
+		if l := lworkBySize[n].Load(); l > 0 {
+			w.work = make([]float64, l)
+			return int(l)
+		}
+	}
 	q := []float64{0}
 	lapack64.Geev(lapack.LeftEVCompute, lapack.RightEVCompute, a, w.wr, w.wi, vl, vr, q, -1)
 	w.work = make([]float64, int(q[0]))
+	if n < len(lworkBySize) {
+		lworkBySize[n].Store(int64(len(w.work)))
+	}
 	return len(w.work)
 }
+
+// lworkBySize remembers Dgeev's workspace size by order (it depends on
+// the order only): the size query is a run of the routine's set-up.
+var lworkBySize [64]atomic.Int64
 
 // column reads eigenvector j, column j of Geev's row-major output v; im ≥ 0
 // names the column holding the imaginary part.
@@ -396,11 +412,13 @@ func solveInPlace(M [][]complex128, m int) bool {
 // SortPoles orders poles largest radius first, then upper member of a
 // conjugate pair first.
 func SortPoles(p []Pole) {
-	sort.SliceStable(p, func(i, j int) bool {
-		ri, rj := cmplx.Abs(p[i].Z), cmplx.Abs(p[j].Z)
-		if ri != rj {
-			return ri > rj
+	slices.SortStableFunc(p, func(a, b Pole) int {
+		ra, rb := cmplx.Abs(a.Z), cmplx.Abs(b.Z)
+		switch {
+		case ra != rb:
+			return cmp.Compare(rb, ra)
+		default:
+			return cmp.Compare(imag(b.Z), imag(a.Z))
 		}
-		return imag(p[i].Z) > imag(p[j].Z)
 	})
 }

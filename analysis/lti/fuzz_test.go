@@ -17,8 +17,8 @@ const fuzzTol = 1e-6
 // never panics; that the closed-loop poles number the loop's order (or an
 // error is returned); that every bound is a non-negative number or +Inf;
 // that a Stable verdict has every pole's disk strictly inside 1 − tol and an
-// Unstable one a pole certainly outside; and that margins and the step of a
-// stable loop are numbers.
+// Unstable one a pole certainly outside; and that margins, the step and the
+// disk margin of a stable loop are numbers.
 func FuzzLoopModel(f *testing.F) {
 	f.Add([]byte{}, byte(0))
 	f.Add([]byte{2, 1, 0, 0, 6, 1, 1, 6, 1, 0, 0}, byte(1))                         // one integrator
@@ -79,6 +79,11 @@ func FuzzLoopModel(f *testing.F) {
 		if v == Stable && len(ps) > 0 && order <= 24 {
 			if st, err := l.Step(1e-3, cmplx.Abs(ps[0].Z)); err == nil && (math.IsNaN(st.Final) || math.IsNaN(st.OvershootPct)) {
 				t.Fatalf("step %+v", st)
+			}
+			if resp, err := l.Response(1e-3, ps); err == nil {
+				if d, err := resp.DiskMargin(); err == nil && !(d.Alpha > 0) {
+					t.Fatalf("disk margin %+v", d)
+				}
 			}
 		}
 	})

@@ -14,9 +14,9 @@
 # the scipy side does not) and "literal" (the same numbers written inside the
 # blocks: no gain-limit search, so both sides do the same work). Wall-clock
 # seconds of the whole process (interpreter or binary start-up included),
-# and scipy's own in-process analysis time (imports excluded); best of 3
-# runs below 1000 loops, one run from 1000 on. Ringside's "growth per 10×"
-# uses the process time.
+# and scipy's own in-process analysis time (imports excluded); best of
+# RUNS (default 3) runs below 10,000 loops, one run from 10,000 on.
+# Ringside's "growth per 10×" uses the process time.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 PY=${RINGSIDE_PYTHON:-/usr/bin/python3}
@@ -57,8 +57,8 @@ for variant in gains literal; do
   for n in $SIZES; do
     dir="$WORK/$variant-$n"
     "$PY" "$HERE/gen_corpus.py" "$n" "$dir" --pi --per-file 2000 $flag
-    runs=3
-    [ "$n" -ge 1000 ] && runs=1
+    runs=${RUNS:-3}
+    [ "$n" -ge 10000 ] && runs=1
     read -r ts cs < <(timeit "$runs" "$PY" "$HERE/scipy_check.py" run "$dir" "$WORK/scipy-$variant-$n.json")
     read -r tr cr < <(cd "$dir" && timeit "$runs" sh -c "'$BIN' check --format json --root . . > '$WORK/ringside-$variant-$n.json'")
     if ! verdict=$("$PY" "$HERE/scipy_check.py" agree "$WORK/scipy-$variant-$n.json" "$WORK/ringside-$variant-$n.json"); then
