@@ -318,7 +318,7 @@ func (c *checker) checkLoopName(s *syntax.LoopStmt) {
 
 // gainValues reads every gain in scope and checks the declared range.
 func (c *checker) gainValues() {
-	c.gains = map[string]float64{}
+	c.gains = make(map[string]float64, len(c.res.Scope))
 	for name, d := range c.res.Scope {
 		if d.Gain == nil {
 			continue

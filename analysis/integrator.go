@@ -91,10 +91,11 @@ type diagPlace struct {
 // expression refers to (refs, found by the block stage), so a file of many
 // loops and integrators costs loops × blocks reached, not loops × blocks.
 func (c *checker) blockUsers() map[string][]*Loop {
-	users := map[string][]*Loop{}
-	reached := map[*Decl][]*Decl{}
-	seen := map[*Decl]bool{}  // scratch for reachedFrom
-	last := map[*Decl]*Loop{} // the last loop added to each block's users
+	n := len(c.refs)
+	users := make(map[string][]*Loop, n)
+	reached := make(map[*Decl][]*Decl, n)
+	seen := map[*Decl]bool{}         // scratch for reachedFrom
+	last := make(map[*Decl]*Loop, n) // the last loop added to each block's users
 	for _, l := range c.res.Loops {
 		for _, path := range [2][]string{l.Forward, l.Feedback} {
 			for _, n := range path {

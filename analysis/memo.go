@@ -580,7 +580,8 @@ type gainDeps struct {
 }
 
 func (c *checker) dependents() *gainDeps {
-	deps := &gainDeps{blocks: map[string][]string{}, keys: map[string]string{}}
+	n := len(c.res.Scope)
+	deps := &gainDeps{blocks: make(map[string][]string, n), keys: make(map[string]string, n)}
 	if c.memo == nil {
 		return deps
 	}
@@ -684,7 +685,7 @@ func (r *memoRun) gainKeyOf(g *Gain) string {
 // loopsByGain lists, per gain name, the analysed loops that depend on it,
 // in source order: one pass over the loops instead of one per gain.
 func loopsByGain(loops []*Loop) map[string][]*Loop {
-	out := map[string][]*Loop{}
+	out := make(map[string][]*Loop, 2*len(loops)) // a gain or two per loop, usually
 	for _, l := range loops {
 		if !l.OK {
 			continue
