@@ -46,11 +46,11 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	}
 	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}, memo: env.Memo.begin(path)}
 	c.run(ctx)
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics, c.memo)
 	if ctx.Err() == nil {
 		c.memo.commit()
 	}
-	res.Diagnostics = capped(diags.sorted(path))
-	checkedFixes(res, res.Diagnostics)
 	return res
 }
 

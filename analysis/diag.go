@@ -86,8 +86,9 @@ func capped(list []Diagnostic) []Diagnostic {
 
 // checkedFixes drops every fix whose edits would not read back as intended
 // (syntax.CheckFix): a fix the user applies must change what it says and
-// nothing else.
-func checkedFixes(res *Result, list []Diagnostic) {
+// nothing else. The answer for a region of text and its edits is kept in
+// the memo (fixReadsBack).
+func checkedFixes(res *Result, list []Diagnostic, memo *memoRun) {
 	for i := range list {
 		d := &list[i]
 		if len(d.Fixes) == 0 {
@@ -95,7 +96,7 @@ func checkedFixes(res *Result, list []Diagnostic) {
 		}
 		kept := d.Fixes[:0]
 		for _, f := range d.Fixes {
-			if fixReadsBack(res, f) {
+			if fixReadsBack(res, f, memo) {
 				kept = append(kept, f)
 			}
 		}
@@ -103,14 +104,18 @@ func checkedFixes(res *Result, list []Diagnostic) {
 	}
 }
 
-func fixReadsBack(res *Result, f Fix) bool {
+func fixReadsBack(res *Result, f Fix, memo *memoRun) bool {
 	byPath := map[string][]syntax.Edit{}
 	for _, e := range f.Edits {
 		byPath[e.Path] = append(byPath[e.Path], syntax.Edit{Span: e.Span, New: e.NewText})
 	}
 	for path, edits := range byPath {
 		file := res.Files[path]
-		if file == nil || syntax.CheckFix(file, edits) != nil {
+		if file == nil {
+			return false
+		}
+		r, err := syntax.FixRegionOf(file, edits)
+		if err != nil || !memo.readsBack(r) {
 			return false
 		}
 	}

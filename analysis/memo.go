@@ -76,6 +76,8 @@ type memoFile struct {
 	nums map[string]numResult
 	// blocks holds blocks' evaluations and findings (blockMemoKey).
 	blocks map[string]*blockEntry
+	// fixes holds whether a fix reads back, by syntax.FixRegion.Key.
+	fixes map[string]bool
 	// loopTexts and gainTexts hold the one-line summaries of loops and
 	// gains, keyed by the loop's or the gain limits' memo key (the text is
 	// a function of the result).
@@ -98,13 +100,15 @@ func newMemoFileLike(like *memoFile) *memoFile {
 	}
 	return &memoFile{loops: make(map[string]*loopEntry, len(like.loops)), gains: make(map[string]*GainLimits, len(like.gains)),
 		nums: make(map[string]numResult, len(like.nums)), blocks: make(map[string]*blockEntry, len(like.blocks)),
-		loopTexts: make(map[string]string, len(like.loopTexts)), gainTexts: make(map[string]string, len(like.gainTexts))}
+		loopTexts: make(map[string]string, len(like.loopTexts)), gainTexts: make(map[string]string, len(like.gainTexts)),
+		fixes: make(map[string]bool, len(like.fixes))}
 }
 
 func loopsOf(f *memoFile) map[string]*loopEntry   { return f.loops }
 func gainsOf(f *memoFile) map[string]*GainLimits  { return f.gains }
 func numsOf(f *memoFile) map[string]numResult     { return f.nums }
 func blocksOf(f *memoFile) map[string]*blockEntry { return f.blocks }
+func fixesOf(f *memoFile) map[string]bool         { return f.fixes }
 func loopTextsOf(f *memoFile) map[string]string   { return f.loopTexts }
 func gainTextsOf(f *memoFile) map[string]string   { return f.gainTexts }
 
@@ -883,4 +887,21 @@ func (r *memoRun) keepBlock(key string, e *blockEntry) {
 	r.mu.Lock()
 	r.next.blocks[key] = e
 	r.mu.Unlock()
+}
+
+// readsBack is r.ReadsBack through the memo: the answer depends only on the
+// region's text and edits (a nil run memoises nothing).
+func (r *memoRun) readsBack(fr syntax.FixRegion) bool {
+	if r == nil {
+		return fr.ReadsBack()
+	}
+	key := fr.Key()
+	ok, found := lookup(r, fixesOf, key)
+	if !found {
+		ok = fr.ReadsBack()
+	}
+	r.mu.Lock()
+	r.next.fixes[key] = ok
+	r.mu.Unlock()
+	return ok
 }
