@@ -135,6 +135,7 @@ func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
 	const visiting, cyclic = -1, -2
 	level := make(map[*Decl]int, len(order))
 	c.refs = make(map[*Decl][]*Decl, len(order))
+	c.uses = make(map[*Decl][]*syntax.NameRef, len(order))
 	var visit func(d *Decl) int
 	visit = func(d *Decl) int {
 		if l, seen := level[d]; seen {
@@ -175,14 +176,25 @@ func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
 // blockRefs lists the other blocks in scope that d's expression names.
 func (c *checker) blockRefs(d *Decl) []*Decl {
 	var out []*Decl
+	names := nameRefs(d)
+	c.uses[d] = names
+	for _, x := range names {
+		if ref := c.res.Scope[x.Name]; ref != nil && ref.Block != nil && ref != d {
+			out = append(out, ref)
+		}
+	}
+	return out
+}
+
+// nameRefs lists the names d's expression uses, in the order written.
+func nameRefs(d *Decl) []*syntax.NameRef {
+	var out []*syntax.NameRef
 	if d.Block.Stmt.Expr == nil {
 		return nil
 	}
 	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
 		if x, ok := n.(*syntax.NameRef); ok {
-			if ref := c.res.Scope[x.Name]; ref != nil && ref.Block != nil && ref != d {
-				out = append(out, ref)
-			}
+			out = append(out, x)
 		}
 		return true
 	})

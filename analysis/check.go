@@ -79,9 +79,11 @@ type checker struct {
 	memo *memoRun
 	// names are the names in scope, sorted (set once the scope is built).
 	names []string
-	// refs are the other blocks in scope each block's expression names
-	// (set by the block stage).
+	// refs are the other blocks in scope each block's expression names,
+	// uses every name it uses in the order written (set by the block
+	// stage, before any block is evaluated).
 	refs map[*Decl][]*Decl
+	uses map[*Decl][]*syntax.NameRef
 }
 
 func (c *checker) run(ctx context.Context) {

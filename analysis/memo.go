@@ -791,38 +791,30 @@ func (c *checker) blockMemoKey(ev *evaluator, d *Decl) string {
 	k.bytes(c.declSrc(d))
 	k.num(c.res.SampleT)
 	k.num(c.env.Options.Tolerance)
-	ok := true
-	if d.Block.Stmt.Expr != nil {
-		syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
-			x, isRef := n.(*syntax.NameRef)
-			if !isRef || !ok {
-				return ok
-			}
-			k.str(x.Name)
-			ref := c.res.Scope[x.Name]
-			switch {
-			case ref == nil:
-				ok = false
-			case ref.Gain != nil:
-				k.str("gain")
-				k.num(ev.gain(x.Name))
-			case ref == d:
-				k.str("itself")
-			default:
-				bv := ev.memo[x.Name]
-				if bv == nil || bv.key == "" {
-					ok = false
-					return false
-				}
-				k.str(bv.key)
-				k.num(float64(boolBit(ref.Path == d.Path && ref.Ident.From > d.Ident.From)))
-				k.num(float64(boolBit(ref.Block.Stmt.Via == nil)))
-			}
-			return ok
-		})
+	uses, known := c.uses[d]
+	if !known {
+		uses = nameRefs(d)
 	}
-	if !ok {
-		return ""
+	for _, x := range uses {
+		k.str(x.Name)
+		ref := c.res.Scope[x.Name]
+		switch {
+		case ref == nil:
+			return ""
+		case ref.Gain != nil:
+			k.str("gain")
+			k.num(ev.gain(x.Name))
+		case ref == d:
+			k.str("itself")
+		default:
+			bv := ev.memo[x.Name]
+			if bv == nil || bv.key == "" {
+				return ""
+			}
+			k.str(bv.key)
+			k.num(float64(boolBit(ref.Path == d.Path && ref.Ident.From > d.Ident.From)))
+			k.num(float64(boolBit(ref.Block.Stmt.Via == nil)))
+		}
 	}
 	sum := sha256.Sum256(*k)
 	return string(sum[:])
