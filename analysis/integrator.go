@@ -91,22 +91,28 @@ type diagPlace struct {
 // expression refers to (refs, found by the block stage), so a file of many
 // loops and integrators costs loops × blocks reached, not loops × blocks.
 func (c *checker) blockUsers() map[string][]*Loop {
-	n := len(c.refs)
-	users := make(map[string][]*Loop, n)
-	reached := make(map[*Decl][]*Decl, n)
-	seen := map[*Decl]bool{}         // scratch for reachedFrom
-	last := make(map[*Decl]*Loop, n) // the last loop added to each block's users
+	size := len(c.refs)
+	users := make(map[string][]*Loop, size)
+	reached := make(map[*Decl][]*Decl, size)
+	seen := map[*Decl]bool{}            // scratch for reachedFrom
+	last := make(map[*Decl]*Loop, size) // the last loop added to each block's users
 	for _, l := range c.res.Loops {
+		add := func(m *Decl) {
+			if last[m] != l {
+				last[m] = l
+				users[m.Name] = append(users[m.Name], l)
+			}
+		}
 		for _, path := range [2][]string{l.Forward, l.Feedback} {
 			for _, n := range path {
 				d := c.res.Scope[n]
-				if d == nil || d.Block == nil {
-					continue
-				}
-				for _, m := range c.reachedFrom(d, reached, seen) {
-					if last[m] != l {
-						last[m] = l
-						users[m.Name] = append(users[m.Name], l)
+				switch {
+				case d == nil || d.Block == nil:
+				case len(c.refs[d]) == 0: // names no block: reaches itself only
+					add(d)
+				default:
+					for _, m := range c.reachedFrom(d, reached, seen) {
+						add(m)
 					}
 				}
 			}
