@@ -217,7 +217,7 @@ func (w *jw) file(f *File) {
 	w.key("diagnostics", false)
 	w.list(f.Diagnostics == nil, len(f.Diagnostics), func(i int) { w.diagnostic(&f.Diagnostics[i]) })
 	w.key("loops", false)
-	w.list(f.Loops == nil, len(f.Loops), func(i int) { w.loop(&f.Loops[i]) })
+	w.loops(f.Loops)
 	w.key("gains", false)
 	w.list(f.Gains == nil, len(f.Gains), func(i int) { w.gain(&f.Gains[i]) })
 	w.key("blocks", false)
@@ -315,6 +315,40 @@ func (w *jw) loop(l *Loop) {
 		w.realizedLoop(l.Realized)
 	}
 	w.b = append(w.b, '}')
+}
+
+// loopChunk is how many loops one goroutine encodes at a time.
+const loopChunk = 128
+
+// loops writes the loops list; a long one is encoded in chunks side by
+// side, each into a buffer of its own, and written in order.
+func (w *jw) loops(ls []Loop) {
+	if ls == nil || len(ls) < 2*loopChunk {
+		w.list(ls == nil, len(ls), func(i int) { w.loop(&ls[i]) })
+		return
+	}
+	parts := make([]jw, (len(ls)+loopChunk-1)/loopChunk)
+	each(len(parts), func(k int) {
+		p := &parts[k]
+		for i := k * loopChunk; i < min((k+1)*loopChunk, len(ls)); i++ {
+			if i > k*loopChunk {
+				p.b = append(p.b, ',')
+			}
+			p.loop(&ls[i])
+		}
+	})
+	w.b = append(w.b, '[')
+	for k := range parts {
+		if k > 0 {
+			w.b = append(w.b, ',')
+		}
+		if w.err == nil {
+			w.err = parts[k].err
+		}
+		w.b = append(w.b, parts[k].b...)
+		w.spill()
+	}
+	w.b = append(w.b, ']')
 }
 
 func (w *jw) poles(ps []Pole) {

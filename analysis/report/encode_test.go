@@ -198,3 +198,24 @@ func BenchmarkJSONStream(b *testing.B) {
 type discard struct{}
 
 func (discard) Write(p []byte) (int, error) { return len(p), nil }
+
+// A long loops list, encoded in chunks side by side and written in
+// pieces, is byte for byte what encoding/json writes.
+func TestLongLoopListMatchesReflection(t *testing.T) {
+	rng := rand.New(rand.NewSource(2))
+	for _, n := range []int{2*loopChunk - 1, 2 * loopChunk, 5*loopChunk + 7} {
+		f := File{Path: "long.loop", Loops: make([]Loop, n)}
+		for i := range f.Loops {
+			fill(rng, reflect.ValueOf(&f.Loops[i]).Elem())
+		}
+		want := reflectJSON(t, f, false, 0)
+		got, err := f.AppendJSON(nil)
+		if err != nil || !bytes.Equal(got, want) {
+			t.Fatalf("%d loops: AppendJSON differs (%v)", n, err)
+		}
+		var out bytes.Buffer
+		if _, err := f.writeJSON(&out, nil); err != nil || !bytes.Equal(out.Bytes(), want) {
+			t.Fatalf("%d loops: writeJSON differs (%v)", n, err)
+		}
+	}
+}
