@@ -6,6 +6,7 @@ import (
 	"math"
 	"sort"
 	"strconv"
+	"sync"
 	"unicode/utf8"
 )
 
@@ -330,6 +331,7 @@ func (w *jw) loops(ls []Loop) {
 	parts := make([]jw, (len(ls)+loopChunk-1)/loopChunk)
 	each(len(parts), func(k int) {
 		p := &parts[k]
+		p.b = partBufs.get()
 		for i := k * loopChunk; i < min((k+1)*loopChunk, len(ls)); i++ {
 			if i > k*loopChunk {
 				p.b = append(p.b, ',')
@@ -346,9 +348,23 @@ func (w *jw) loops(ls []Loop) {
 			w.err = parts[k].err
 		}
 		w.b = append(w.b, parts[k].b...)
+		partBufs.put(parts[k].b)
 		w.spill()
 	}
 	w.b = append(w.b, ']')
+}
+
+// partBufs keeps the chunks' buffers between files and runs.
+var partBufs = bufPool{sync.Pool{New: func() any { return new([]byte) }}}
+
+type bufPool struct{ sync.Pool }
+
+func (p *bufPool) get() []byte { return (*p.Get().(*[]byte))[:0] }
+
+func (p *bufPool) put(b []byte) {
+	if cap(b) <= 1<<20 {
+		p.Put(&b)
+	}
 }
 
 func (w *jw) poles(ps []Pole) {
