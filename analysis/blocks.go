@@ -19,39 +19,196 @@ import (
 // which the root finder places only to about sqrt(eps).
 const CommonRootTolerance = 1e-8
 
-// blocks evaluates this file's blocks and reports per-block findings.
+// blocks evaluates every block in scope, this file's and used files'
+// (transfer function, factored form, poles and zeros), and reports this
+// file's per-block findings. Blocks go by level of dependency: first those
+// that name no other block, side by side, then those that name only
+// blocks already done, and so on; blocks in a cycle of names (reported by
+// the evaluation) go one at a time at the end, in the order of the file.
+// With a memo, a block whose key (blockMemoKey) is unchanged is not
+// evaluated again.
 func (c *checker) blocks(ev *evaluator) {
+	levels, rest := c.blockLevels()
+	jobs := make(map[*Decl]*blockJob, len(c.res.Scope))
+	for _, level := range levels {
+		done := make([]*blockJob, len(level))
+		parallel(len(level), func(i int) { done[i] = c.blockJob(ev, level[i], false) })
+		for _, j := range done {
+			ev.memo[j.decl.Name] = j.bv
+			jobs[j.decl] = j
+		}
+	}
+	for _, d := range rest {
+		jobs[d] = c.blockJob(ev, d, true)
+	}
 	needSample := false
 	for _, b := range c.res.Blocks {
 		d := c.res.Scope[b.Name]
-		if d == nil || d.Block != b {
-			continue
+		if j := jobs[d]; j != nil {
+			c.diags.list = append(c.diags.list, j.diags...)
 		}
-		bv := ev.block(d)
-		fillBlock(b, bv)
-		if b.Var == 's' {
-			if c.res.SampleT == 0 {
-				needSample = true
-			}
-			if bv.contOK {
-				c.continuousChecks(b)
-			}
+		if b.Var == 's' && c.res.SampleT == 0 {
+			needSample = true
 		}
-		if !b.OK {
-			continue
-		}
-		c.blockPoles(b)
 	}
 	if needSample || (c.res.SampleT == 0 && len(c.loopStmts()) > 0) {
 		c.noSample()
 	}
 }
 
+// blockJob is one block's evaluation and findings, with what they reported
+// (the findings of a used file's block are that file's own, and dropped).
+type blockJob struct {
+	decl  *Decl
+	bv    *blockValue
+	diags []Diagnostic
+}
+
+// blockJob evaluates d, fills in its Block and finds what to report. The
+// blocks d names are already in ev; alone (a block in a cycle of names)
+// evaluates in ev itself, else in an evaluator of its own over ev, so that
+// jobs of one level run side by side.
+func (c *checker) blockJob(ev *evaluator, d *Decl, alone bool) *blockJob {
+	key := c.blockMemoKey(ev, d)
+	if key != "" && !alone {
+		if e, ok := lookup(c.memo, blocksOf, key); ok {
+			if j, ok := c.replayBlock(e, d); ok {
+				c.memo.keepBlock(key, e)
+				return j
+			}
+		}
+	}
+	own := &diagList{}
+	sub := &evaluator{scope: ev.scope, gains: ev.gains, t: ev.t, memo: map[string]*blockValue{}, diags: own, numbers: ev.numbers, base: ev}
+	if alone {
+		sub = ev
+		saved := ev.diags
+		ev.diags = own
+		defer func() { ev.diags = saved }()
+	}
+	bv := sub.block(d)
+	if !alone {
+		bv.gainNames = sortedKeys(bv.gains)
+	}
+	lc := *c
+	lc.diags = own
+	lc.findings(d.Block, bv)
+	j := &blockJob{decl: d, bv: bv, diags: own.list}
+	if d.Path != c.res.Path {
+		j.diags = nil
+	}
+	if key != "" && !alone {
+		bv.key = key
+		if e, ok := c.recordBlock(d, bv, own.list); ok {
+			c.memo.keepBlock(key, e)
+		}
+	}
+	return j
+}
+
+// findings fills in b from its evaluation and adds its poles and zeros,
+// with the warnings they call for.
+func (c *checker) findings(b *Block, bv *blockValue) {
+	fillBlock(b, bv)
+	if b.Var == 's' && bv.contOK {
+		c.continuousChecks(b)
+	}
+	if b.OK {
+		c.blockPoles(b)
+	}
+}
+
+// blockLevels orders the blocks in scope by level of dependency (level 0
+// names no block; level n names blocks of levels below n), each level in
+// the order of the file (this file's blocks, then the others by name);
+// rest are the blocks in, or depending on, a cycle of names.
+func (c *checker) blockLevels() (levels [][]*Decl, rest []*Decl) {
+	var order []*Decl
+	for _, b := range c.res.Blocks {
+		order = append(order, c.res.Scope[b.Name])
+	}
+	for _, name := range c.names {
+		if d := c.res.Scope[name]; d.Block != nil && d.Path != c.res.Path {
+			order = append(order, d)
+		}
+	}
+	const visiting, cyclic = -1, -2
+	level := make(map[*Decl]int, len(order))
+	c.refs = make(map[*Decl][]*Decl, len(order))
+	c.uses = make(map[*Decl][]*syntax.NameRef, len(order))
+	var visit func(d *Decl) int
+	visit = func(d *Decl) int {
+		if l, seen := level[d]; seen {
+			if l == visiting {
+				return cyclic
+			}
+			return l
+		}
+		level[d] = visiting
+		l := 0
+		refs := c.blockRefs(d)
+		c.refs[d] = refs
+		for _, ref := range refs {
+			dl := visit(ref)
+			if dl == cyclic {
+				l = cyclic
+				break
+			}
+			l = max(l, dl+1)
+		}
+		level[d] = l
+		return l
+	}
+	for _, d := range order {
+		l := visit(d)
+		if l < 0 {
+			rest = append(rest, d)
+			continue
+		}
+		for len(levels) <= l {
+			levels = append(levels, nil)
+		}
+		levels[l] = append(levels[l], d)
+	}
+	return levels, rest
+}
+
+// blockRefs lists the other blocks in scope that d's expression names.
+func (c *checker) blockRefs(d *Decl) []*Decl {
+	var out []*Decl
+	names := nameRefs(d)
+	c.uses[d] = names
+	for _, x := range names {
+		if ref := c.res.Scope[x.Name]; ref != nil && ref.Block != nil && ref != d {
+			out = append(out, ref)
+		}
+	}
+	return out
+}
+
+// nameRefs lists the names d's expression uses, in the order written.
+func nameRefs(d *Decl) []*syntax.NameRef {
+	var out []*syntax.NameRef
+	if d.Block.Stmt.Expr == nil {
+		return nil
+	}
+	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
+		if x, ok := n.(*syntax.NameRef); ok {
+			out = append(out, x)
+		}
+		return true
+	})
+	return out
+}
+
 // fillBlock copies an evaluation into the block.
 func fillBlock(b *Block, bv *blockValue) {
 	b.Var, b.Cont, b.TF, b.OK = bv.v, bv.cont, bv.tf, bv.ok
 	b.Factored, b.FactoredOK = bv.fac, bv.facErr == nil
-	b.Gains = sortedKeys(bv.gains)
+	b.Gains = bv.gainNames
+	if b.Gains == nil {
+		b.Gains = sortedKeys(bv.gains)
+	}
 	if b.Var == 's' && b.Stmt.Via != nil && b.Stmt.Via.Method != nil {
 		b.Method, _ = discretize.ParseMethod(b.Stmt.Via.Method.Name)
 		if p := b.Stmt.Via.Prewarp; p != nil {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"sort"
 	"sync"
 	"sync/atomic"
@@ -45,11 +46,11 @@ func Check(ctx context.Context, path string, src []byte, env Env) *Result {
 	}
 	c := &checker{env: &env, res: res, diags: diags, ld: ld, root: root, forms: &sync.Map{}, memo: env.Memo.begin(path)}
 	c.run(ctx)
+	res.Diagnostics = capped(diags.sorted(path))
+	checkedFixes(res, res.Diagnostics, c.memo)
 	if ctx.Err() == nil {
 		c.memo.commit()
 	}
-	res.Diagnostics = capped(diags.sorted(path))
-	checkedFixes(res, res.Diagnostics)
 	return res
 }
 
@@ -76,24 +77,29 @@ type checker struct {
 	fitSearches int
 	// memo is this check's view of Env.Memo (nil: none).
 	memo *memoRun
+	// names are the names in scope, sorted (set once the scope is built).
+	names []string
+	// refs are the other blocks in scope each block's expression names,
+	// uses every name it uses in the order written (set by the block
+	// stage, before any block is evaluated).
+	refs map[*Decl][]*Decl
+	uses map[*Decl][]*syntax.NameRef
 }
 
 func (c *checker) run(ctx context.Context) {
+	// About one finding per statement (a summary per loop and gain, a
+	// note per integrator): room for them at once.
+	c.diags.list = slices.Grow(c.diags.list, len(c.root.file.Stmts)+8)
 	c.samples()
 	c.declare()
+	c.names = sortedDecls(c.res.Scope)
 	c.gainValues()
 	ev := c.evaluator(c.gains, c.diags)
 	c.base = ev
-	c.blocks(ev)
-	c.realizations(ev)
 	// Every block in scope is evaluated before the loops, which then only
 	// read the shared evaluator and can be analysed side by side.
-	for _, name := range sortedDecls(c.res.Scope) {
-		if d := c.res.Scope[name]; d.Block != nil {
-			ev.block(d)
-		}
-	}
-	c.usedBlocks(ev)
+	c.blocks(ev)
+	c.realizations(ev)
 	var stmts []*syntax.LoopStmt
 	for _, st := range c.root.file.Stmts {
 		if ls, ok := st.(*syntax.LoopStmt); ok && ls.Name != nil {
@@ -153,25 +159,6 @@ func (c *checker) guardedLoop(ev *evaluator, ls *syntax.LoopStmt) (l *Loop) {
 		}
 	}()
 	return c.loop(ev, ls)
-}
-
-// usedBlocks fills in the blocks of used files (transfer function, poles,
-// zeros) in the same pass, so that every view of such a block reads this
-// result. Their findings belong to the check of their own file.
-func (c *checker) usedBlocks(ev *evaluator) {
-	own := c.diags
-	c.diags = &diagList{}
-	defer func() { c.diags = own }()
-	for _, name := range sortedDecls(c.res.Scope) {
-		d := c.res.Scope[name]
-		if d.Block == nil || d.Path == c.res.Path {
-			continue
-		}
-		fillBlock(d.Block, ev.block(d))
-		if d.Block.OK {
-			c.blockPoles(d.Block)
-		}
-	}
 }
 
 func (c *checker) evaluator(gains map[string]float64, diags *diagList) *evaluator {
@@ -262,6 +249,11 @@ func (c *checker) reaches(from, to string, seen map[string]bool) bool {
 // declare builds the scope: used files first (so this file's own
 // declarations are the ones reported as duplicates), then this file.
 func (c *checker) declare() {
+	n := 0
+	for _, u := range c.ld.order {
+		n += len(u.file.Stmts)
+	}
+	c.res.Scope = make(map[string]*Decl, n) // room for every statement's name
 	for i := len(c.ld.order) - 1; i >= 0; i-- {
 		u := c.ld.order[i]
 		own := u == c.root
@@ -328,7 +320,7 @@ func (c *checker) checkLoopName(s *syntax.LoopStmt) {
 
 // gainValues reads every gain in scope and checks the declared range.
 func (c *checker) gainValues() {
-	c.gains = map[string]float64{}
+	c.gains = make(map[string]float64, len(c.res.Scope))
 	for name, d := range c.res.Scope {
 		if d.Gain == nil {
 			continue

@@ -19,23 +19,36 @@ func (d *diagList) add(path string, span syntax.Span, sev Severity, code, msg st
 }
 
 // sorted returns the diagnostics of path in source order (errors first at
-// equal positions).
+// equal positions, else in the order added). The order is found on small
+// keys and the diagnostics, large, are copied once.
 func (d *diagList) sorted(path string) []Diagnostic {
-	out := make([]Diagnostic, 0, len(d.list)) // nearly all are the file's own
-	for _, x := range d.list {
-		if x.Path == path {
-			out = append(out, x)
+	type key struct {
+		from syntax.Pos
+		sev  Severity
+		i    int
+	}
+	keys := make([]key, 0, len(d.list)) // nearly all are the file's own
+	for i := range d.list {
+		if x := &d.list[i]; x.Path == path {
+			keys = append(keys, key{x.Span.From, x.Severity, i})
 		}
 	}
-	if len(out) == 0 {
+	if len(keys) == 0 {
 		return nil // as before: none is nil, not empty
 	}
-	slices.SortStableFunc(out, func(a, b Diagnostic) int {
-		if c := cmp.Compare(a.Span.From, b.Span.From); c != 0 {
+	slices.SortFunc(keys, func(a, b key) int {
+		if c := cmp.Compare(a.from, b.from); c != 0 {
 			return c
 		}
-		return cmp.Compare(a.Severity, b.Severity)
+		if c := cmp.Compare(a.sev, b.sev); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.i, b.i)
 	})
+	out := make([]Diagnostic, len(keys))
+	for j, k := range keys {
+		out[j] = d.list[k.i]
+	}
 	return out
 }
 
@@ -73,8 +86,9 @@ func capped(list []Diagnostic) []Diagnostic {
 
 // checkedFixes drops every fix whose edits would not read back as intended
 // (syntax.CheckFix): a fix the user applies must change what it says and
-// nothing else.
-func checkedFixes(res *Result, list []Diagnostic) {
+// nothing else. The answer for a region of text and its edits is kept in
+// the memo (fixReadsBack).
+func checkedFixes(res *Result, list []Diagnostic, memo *memoRun) {
 	for i := range list {
 		d := &list[i]
 		if len(d.Fixes) == 0 {
@@ -82,7 +96,7 @@ func checkedFixes(res *Result, list []Diagnostic) {
 		}
 		kept := d.Fixes[:0]
 		for _, f := range d.Fixes {
-			if fixReadsBack(res, f) {
+			if fixReadsBack(res, f, memo) {
 				kept = append(kept, f)
 			}
 		}
@@ -90,14 +104,18 @@ func checkedFixes(res *Result, list []Diagnostic) {
 	}
 }
 
-func fixReadsBack(res *Result, f Fix) bool {
+func fixReadsBack(res *Result, f Fix, memo *memoRun) bool {
 	byPath := map[string][]syntax.Edit{}
 	for _, e := range f.Edits {
 		byPath[e.Path] = append(byPath[e.Path], syntax.Edit{Span: e.Span, New: e.NewText})
 	}
 	for path, edits := range byPath {
 		file := res.Files[path]
-		if file == nil || syntax.CheckFix(file, edits) != nil {
+		if file == nil {
+			return false
+		}
+		r, err := syntax.FixRegionOf(file, edits)
+		if err != nil || !memo.readsBack(r) {
 			return false
 		}
 	}

@@ -85,6 +85,11 @@ type blockValue struct {
 	contOK bool // cont valid (s and constant blocks)
 	gains  map[string]bool
 	busy   bool
+	// key is the block's memo key (blockMemoKey), "" when not memoised.
+	key string
+	// gainNames is gains sorted, set by the block stage before the value
+	// is shared (nil: sort when needed).
+	gainNames []string
 }
 
 type evalError struct {

@@ -24,37 +24,49 @@ func (c *checker) quietIntegrators() {
 			onCircle[k] = d
 		}
 	}
-	var users map[string][]*Loop // built on the first integrator only
+	type note struct {
+		b *Block
+		x *Diagnostic
+	}
+	var notes []note
 	for _, b := range c.res.Blocks {
-		x := onCircle[diagPlace{b.Path, exprSpan(b.Stmt.Expr)}]
-		if x == nil {
-			continue
+		if x := onCircle[diagPlace{b.Path, exprSpan(b.Stmt.Expr)}]; x != nil {
+			notes = append(notes, note{b, x})
 		}
-		if users == nil {
-			users = c.blockUsers()
+	}
+	if len(notes) == 0 {
+		return
+	}
+	users := c.blockUsers()
+	// Each note rewrites its own diagnostic (blocks stand in different
+	// places), so they are worded side by side.
+	parallel(len(notes), func(i int) { c.integratorNote(notes[i].b, notes[i].x, users[notes[i].b.Name]) })
+}
+
+// integratorNote words block b's on-circle finding x by the loops that use
+// the block.
+func (c *checker) integratorNote(b *Block, x *Diagnostic, users []*Loop) {
+	var stable, other []string
+	for _, l := range users {
+		if l.ShownStable() || c.env.Options.Quick {
+			stable = append(stable, l.Name)
+		} else {
+			other = append(other, l.Name)
 		}
-		var stable, other []string
-		for _, l := range users[b.Name] {
-			if l.ShownStable() || c.env.Options.Quick {
-				stable = append(stable, l.Name)
-			} else {
-				other = append(other, l.Name)
-			}
-		}
-		switch {
-		case len(stable)+len(other) == 0:
-			x.Message += "; no loop of this file uses it"
-		case len(other) > 0:
-			x.Message += fmt.Sprintf("; %s not shown stable (see %s), so nothing here shows it stabilised", loopsVerb(other, "is", "are"), pronoun(other))
-		case c.env.Options.Quick:
-			x.Severity = Info
-			x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator), used in %s; the full analysis checks that it is stabilised",
-				b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "", ""))
-		default:
-			x.Severity = Info
-			x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator); %s it",
-				b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "stabilises", "stabilise"))
-		}
+	}
+	switch {
+	case len(stable)+len(other) == 0:
+		x.Message += "; no loop of this file uses it"
+	case len(other) > 0:
+		x.Message += fmt.Sprintf("; %s not shown stable (see %s), so nothing here shows it stabilised", loopsVerb(other, "is", "are"), pronoun(other))
+	case c.env.Options.Quick:
+		x.Severity = Info
+		x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator), used in %s; the full analysis checks that it is stabilised",
+			b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "", ""))
+	default:
+		x.Severity = Info
+		x.Message = fmt.Sprintf("block %s has a pole on the unit circle at z = %s (an integrator or oscillator); %s it",
+			b.Name, fmtComplex(b.Poles[0].Z), loopsVerb(stable, "stabilises", "stabilise"))
 	}
 }
 
@@ -74,43 +86,67 @@ type diagPlace struct {
 }
 
 // blockUsers maps each block name to the loops that use it, directly or
-// inside a block that is on a path, in loop order: one walk per loop, so
-// a file of many loops and integrators costs loops × blocks reached, not
-// loops × blocks.
+// inside a block that is on a path, in loop order. What each block
+// reaches is found once (reachedFrom), from the names each block's
+// expression refers to (refs, found by the block stage), so a file of many
+// loops and integrators costs loops × blocks reached, not loops × blocks.
 func (c *checker) blockUsers() map[string][]*Loop {
-	users := map[string][]*Loop{}
+	size := len(c.refs)
+	users := make(map[string][]*Loop, size)
+	reached := make(map[*Decl][]*Decl, size)
+	seen := map[*Decl]bool{}            // scratch for reachedFrom
+	last := make(map[*Decl]*Loop, size) // the last loop added to each block's users
 	for _, l := range c.res.Loops {
-		seen := map[string]bool{}
-		for _, n := range l.Forward {
-			c.reach(n, seen)
+		add := func(m *Decl) {
+			if last[m] != l {
+				last[m] = l
+				users[m.Name] = append(users[m.Name], l)
+			}
 		}
-		for _, n := range l.Feedback {
-			c.reach(n, seen)
-		}
-		for n := range seen {
-			users[n] = append(users[n], l)
+		for _, path := range [2][]string{l.Forward, l.Feedback} {
+			for _, n := range path {
+				d := c.res.Scope[n]
+				switch {
+				case d == nil || d.Block == nil:
+				case len(c.refs[d]) == 0: // names no block: reaches itself only
+					add(d)
+				default:
+					for _, m := range c.reachedFrom(d, reached, seen) {
+						add(m)
+					}
+				}
+			}
 		}
 	}
 	return users
 }
 
-// reach adds block from and every name its expression refers to
-// (transitively) to seen.
-func (c *checker) reach(from string, seen map[string]bool) {
+// reachedFrom lists block from and every block its expression refers to
+// (transitively), computed once per block into memo; seen is scratch.
+func (c *checker) reachedFrom(from *Decl, memo map[*Decl][]*Decl, seen map[*Decl]bool) []*Decl {
+	if r, ok := memo[from]; ok {
+		return r
+	}
+	clear(seen)
+	c.reach(from, seen)
+	r := make([]*Decl, 0, len(seen))
+	for d := range seen {
+		r = append(r, d)
+	}
+	memo[from] = r
+	return r
+}
+
+// reach adds block from and every block it refers to (transitively) to
+// seen.
+func (c *checker) reach(from *Decl, seen map[*Decl]bool) {
 	if seen[from] {
 		return
 	}
 	seen[from] = true
-	d := c.res.Scope[from]
-	if d == nil || d.Block == nil || d.Block.Stmt == nil || d.Block.Stmt.Expr == nil {
-		return
+	for _, ref := range c.refs[from] {
+		c.reach(ref, seen)
 	}
-	syntax.Walk(d.Block.Stmt.Expr, func(n syntax.Node) bool {
-		if id, ok := n.(*syntax.NameRef); ok {
-			c.reach(id.Name, seen)
-		}
-		return true
-	})
 }
 
 func pronoun(names []string) string {

@@ -1,12 +1,14 @@
 package analysis
 
 import (
+	"crypto/sha256"
 	"encoding/binary"
 	"math"
 	"sync"
 
 	"ringside/analysis/discretize"
 	"ringside/analysis/lti"
+	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 	"ringside/analysis/step"
@@ -72,6 +74,10 @@ type memoFile struct {
 	// nums holds results of pure numeric functions of coefficients:
 	// roots of block polynomials, discretizations.
 	nums map[string]numResult
+	// blocks holds blocks' evaluations and findings (blockMemoKey).
+	blocks map[string]*blockEntry
+	// fixes holds whether a fix reads back, by syntax.FixRegion.Key.
+	fixes map[string]bool
 	// loopTexts and gainTexts hold the one-line summaries of loops and
 	// gains, keyed by the loop's or the gain limits' memo key (the text is
 	// a function of the result).
@@ -84,16 +90,27 @@ type numResult struct {
 	err   error
 }
 
-func newMemoFile() *memoFile {
-	return &memoFile{loops: map[string]*loopEntry{}, gains: map[string]*GainLimits{}, nums: map[string]numResult{},
-		loopTexts: map[string]string{}, gainTexts: map[string]string{}}
+func newMemoFile() *memoFile { return newMemoFileLike(nil) }
+
+// newMemoFileLike returns an empty memo file with room for as many entries
+// as like holds (the next check of a file keeps about as many).
+func newMemoFileLike(like *memoFile) *memoFile {
+	if like == nil {
+		like = &memoFile{}
+	}
+	return &memoFile{loops: make(map[string]*loopEntry, len(like.loops)), gains: make(map[string]*GainLimits, len(like.gains)),
+		nums: make(map[string]numResult, len(like.nums)), blocks: make(map[string]*blockEntry, len(like.blocks)),
+		loopTexts: make(map[string]string, len(like.loopTexts)), gainTexts: make(map[string]string, len(like.gainTexts)),
+		fixes: make(map[string]bool, len(like.fixes))}
 }
 
-func loopsOf(f *memoFile) map[string]*loopEntry  { return f.loops }
-func gainsOf(f *memoFile) map[string]*GainLimits { return f.gains }
-func numsOf(f *memoFile) map[string]numResult    { return f.nums }
-func loopTextsOf(f *memoFile) map[string]string  { return f.loopTexts }
-func gainTextsOf(f *memoFile) map[string]string  { return f.gainTexts }
+func loopsOf(f *memoFile) map[string]*loopEntry   { return f.loops }
+func gainsOf(f *memoFile) map[string]*GainLimits  { return f.gains }
+func numsOf(f *memoFile) map[string]numResult     { return f.nums }
+func blocksOf(f *memoFile) map[string]*blockEntry { return f.blocks }
+func fixesOf(f *memoFile) map[string]bool         { return f.fixes }
+func loopTextsOf(f *memoFile) map[string]string   { return f.loopTexts }
+func gainTextsOf(f *memoFile) map[string]string   { return f.gainTexts }
 
 // lookup finds key among this check's entries, then the previous check's.
 func lookup[V any](r *memoRun, of func(*memoFile) map[string]V, key string) (V, bool) {
@@ -129,7 +146,8 @@ func (m *Memo) begin(path string) *memoRun {
 	if old == nil {
 		old = newMemoFile()
 	}
-	return &memoRun{m: m, path: path, old: old, next: newMemoFile(), loopKeys: map[*Loop]string{}, gainKeys: map[*Gain]string{}}
+	return &memoRun{m: m, path: path, old: old, next: newMemoFileLike(old),
+		loopKeys: make(map[*Loop]string, len(old.loops)), gainKeys: make(map[*Gain]string, len(old.gains))}
 }
 
 // commit makes this check's entries the file's memo.
@@ -246,38 +264,91 @@ func stmtSrc(src []byte, n syntax.Node) []byte {
 
 // loopKey is the key of a loop's analysis, or "" when the loop is not to be
 // memoised (an element that does not resolve: its messages depend on the
-// whole scope).
+// whole scope). It is the SHA-256 digest of what the analysis reads: the
+// loop as written, each element's block key (blockMemoKey; else its
+// statement, coefficients and factored form), realize line and gains with
+// their ranges, the sample period and the options.
 func (c *checker) loopKey(ev *evaluator, ls *syntax.LoopStmt) string {
-	sh := shapeOf(ls)
-	fwd, ok1 := c.elements(ev, sh.fwd, false)
-	fb, ok2 := c.elements(ev, sh.fb, false)
-	if !ok1 || !ok2 || c.env.Options.Quick {
+	if c.env.Options.Quick {
 		return ""
 	}
-	k := make(keyBuf, 0, 1024) // room for the usual key: one allocation
+	sh := shapeOf(ls)
+	k := getKeyBuf()
+	defer putKeyBuf(k)
 	k.str(c.res.Path)
 	k.bytes(stmtSrc(c.root.file.Src, ls))
 	k.num(c.res.SampleT)
 	k.options(c.env.Options)
-	for _, e := range append(fwd, fb...) {
-		k.str(e.name)
-		k.str(e.decl.Path)
-		k.bytes(c.declSrc(e.decl))
-		k.poly(e.tf.Num)
-		k.poly(e.tf.Den)
-		k.factored(e.fac, e.facErr)
-		k.str(c.realizeKey(e))
-		if e.block != nil {
-			for _, g := range sortedKeys(ev.memo[e.name].gains) {
-				k.str(g)
-				if d := c.res.Scope[g]; d != nil {
-					k.bytes(c.declSrc(d)) // its range too
-				}
+	for _, path := range [2][]*syntax.Ident{sh.fwd, sh.fb} {
+		k.str("path")
+		for _, id := range path {
+			if !c.elementKey(k, ev, id.Name) {
+				return ""
 			}
 		}
-		k.str("")
 	}
-	return string(k)
+	sum := sha256.Sum256(*k)
+	return string(sum[:])
+}
+
+// elementKey adds to k what a loop's analysis reads of the path element
+// name; false when it does not resolve or its block cannot be used.
+func (c *checker) elementKey(k *keyBuf, ev *evaluator, name string) bool {
+	d := c.res.Scope[name]
+	if d == nil {
+		return false
+	}
+	k.str(name)
+	k.str(d.Path)
+	if d.Gain != nil {
+		k.str("gain")
+		k.bytes(c.declSrc(d))
+		k.num(ev.gain(name))
+		return true
+	}
+	bv := ev.block(d)
+	if !bv.ok {
+		return false
+	}
+	if bv.key != "" {
+		// The block's key stands for its statement and everything its
+		// value depends on.
+		k.str(bv.key)
+	} else {
+		k.bytes(c.declSrc(d))
+		k.poly(bv.tf.Num)
+		k.poly(bv.tf.Den)
+		k.factored(bv.fac, bv.facErr)
+	}
+	k.str(c.realizeKey(element{block: d.Block, decl: d}))
+	gains := bv.gainNames
+	if gains == nil {
+		gains = sortedKeys(bv.gains)
+	}
+	for _, g := range gains {
+		k.str(g)
+		if gd := c.res.Scope[g]; gd != nil {
+			k.bytes(c.declSrc(gd)) // its range too
+		}
+	}
+	k.str("")
+	return true
+}
+
+// keyBufs keeps the buffers keys are built in (the keys themselves are
+// digests): a check of many loops then allocates none.
+var keyBufs = sync.Pool{New: func() any { k := make(keyBuf, 0, 1024); return &k }}
+
+func getKeyBuf() *keyBuf {
+	k := keyBufs.Get().(*keyBuf)
+	*k = (*k)[:0]
+	return k
+}
+
+func putKeyBuf(k *keyBuf) {
+	if cap(*k) <= 64<<10 { // an unusual key's large buffer is not kept
+		keyBufs.Put(k)
+	}
 }
 
 // declStmt is the statement declaring d.
@@ -513,11 +584,12 @@ type gainDeps struct {
 }
 
 func (c *checker) dependents() *gainDeps {
-	deps := &gainDeps{blocks: map[string][]string{}, keys: map[string]string{}}
+	n := len(c.res.Scope)
+	deps := &gainDeps{blocks: make(map[string][]string, n), keys: make(map[string]string, n)}
 	if c.memo == nil {
 		return deps
 	}
-	for _, name := range sortedDecls(c.res.Scope) {
+	for _, name := range c.names {
 		d := c.res.Scope[name]
 		bv := c.base.memo[name]
 		if d.Block == nil || bv == nil || len(bv.gains) == 0 {
@@ -526,7 +598,11 @@ func (c *checker) dependents() *gainDeps {
 		for g := range bv.gains {
 			deps.blocks[g] = append(deps.blocks[g], name)
 		}
-		deps.keys[name] = c.blockKey(d)
+		if bv.key != "" {
+			deps.keys[name] = bv.key // stands for all blockKey holds
+		} else {
+			deps.keys[name] = c.blockKey(d)
+		}
 	}
 	return deps
 }
@@ -613,7 +689,7 @@ func (r *memoRun) gainKeyOf(g *Gain) string {
 // loopsByGain lists, per gain name, the analysed loops that depend on it,
 // in source order: one pass over the loops instead of one per gain.
 func loopsByGain(loops []*Loop) map[string][]*Loop {
-	out := map[string][]*Loop{}
+	out := make(map[string][]*Loop, 2*len(loops)) // a gain or two per loop, usually
 	for _, l := range loops {
 		if !l.OK {
 			continue
@@ -682,4 +758,142 @@ func (r *memoRun) discretize(h poly.Rational, opt discretize.Options) (poly.Rati
 		return numResult{tf: tf, err: err}
 	})
 	return v.tf, v.err
+}
+
+// blockEntry is a block's evaluation and findings as one check made them:
+// the value (never modified once made), the poles, zeros and DC gain, and
+// what was reported, with spans relative to the block's statement.
+type blockEntry struct {
+	bv     *blockValue
+	poles  []pole.Info
+	zeros  []pole.Info
+	dc     float64
+	diags  []Diagnostic
+	starts []syntax.Pos // the statement's start when recorded, per diags
+}
+
+// blockMemoKey is the key of d's evaluation and findings: the block's file,
+// name and statement as written, the sample period and the pole
+// tolerance, and for each name its expression uses, the gain's value or
+// the named block's own key with where it is declared (a later block is an
+// error). "" when not memoised: no memo, or a name that does not resolve
+// (its message suggests names from the whole scope), or a named block not
+// memoised itself. The key is a SHA-256 digest of all that.
+func (c *checker) blockMemoKey(ev *evaluator, d *Decl) string {
+	if c.memo == nil || d.Block.Stmt == nil {
+		return ""
+	}
+	k := getKeyBuf()
+	defer putKeyBuf(k)
+	k.str("block")
+	k.str(d.Path)
+	k.str(d.Name)
+	k.bytes(c.declSrc(d))
+	k.num(c.res.SampleT)
+	k.num(c.env.Options.Tolerance)
+	uses, known := c.uses[d]
+	if !known {
+		uses = nameRefs(d)
+	}
+	for _, x := range uses {
+		k.str(x.Name)
+		ref := c.res.Scope[x.Name]
+		switch {
+		case ref == nil:
+			return ""
+		case ref.Gain != nil:
+			k.str("gain")
+			k.num(ev.gain(x.Name))
+		case ref == d:
+			k.str("itself")
+		default:
+			bv := ev.memo[x.Name]
+			if bv == nil || bv.key == "" {
+				return ""
+			}
+			k.str(bv.key)
+			k.num(float64(boolBit(ref.Path == d.Path && ref.Ident.From > d.Ident.From)))
+			k.num(float64(boolBit(ref.Block.Stmt.Via == nil)))
+		}
+	}
+	sum := sha256.Sum256(*k)
+	return string(sum[:])
+}
+
+func boolBit(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// recordBlock makes an entry of d's evaluation bv (already in d.Block) and of
+// what it reported; false when a span lies outside d's statement.
+func (c *checker) recordBlock(d *Decl, bv *blockValue, diags []Diagnostic) (*blockEntry, bool) {
+	b := d.Block
+	st := declStmt(d)
+	e := &blockEntry{bv: bv, poles: b.Poles, zeros: b.Zeros, dc: b.DCGain}
+	for _, x := range diags {
+		x = cloneDiag(x)
+		inside := true
+		eachSpan(&x, func(path string, s *syntax.Span) {
+			if path != d.Path || s.From < st.Pos() || s.To > st.End() {
+				inside = false
+			}
+		})
+		if !inside {
+			return nil, false
+		}
+		e.diags = append(e.diags, x)
+		e.starts = append(e.starts, st.Pos())
+	}
+	return e, true
+}
+
+// replayBlock places a stored entry in this check: d's Block filled in,
+// the spans moved with the statement.
+func (c *checker) replayBlock(e *blockEntry, d *Decl) (*blockJob, bool) {
+	b := d.Block
+	fillBlock(b, e.bv)
+	b.Poles, b.Zeros, b.DCGain = e.poles, e.zeros, e.dc
+	j := &blockJob{decl: d, bv: e.bv}
+	if d.Path != c.res.Path {
+		return j, true
+	}
+	st := declStmt(d)
+	j.diags = make([]Diagnostic, len(e.diags))
+	for i, x := range e.diags {
+		x = cloneDiag(x)
+		shift := st.Pos() - e.starts[i]
+		eachSpan(&x, func(_ string, s *syntax.Span) {
+			s.From += shift
+			s.To += shift
+		})
+		j.diags[i] = x
+	}
+	return j, true
+}
+
+// keepBlock keeps a block's entry for the next check.
+func (r *memoRun) keepBlock(key string, e *blockEntry) {
+	r.mu.Lock()
+	r.next.blocks[key] = e
+	r.mu.Unlock()
+}
+
+// readsBack is r.ReadsBack through the memo: the answer depends only on the
+// region's text and edits (a nil run memoises nothing).
+func (r *memoRun) readsBack(fr syntax.FixRegion) bool {
+	if r == nil {
+		return fr.ReadsBack()
+	}
+	key := fr.Key()
+	ok, found := lookup(r, fixesOf, key)
+	if !found {
+		ok = fr.ReadsBack()
+	}
+	r.mu.Lock()
+	r.next.fixes[key] = ok
+	r.mu.Unlock()
+	return ok
 }

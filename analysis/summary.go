@@ -108,22 +108,34 @@ func intervalText(name string, lim *GainLimits) string {
 	return "every value"
 }
 
-// summaries adds one info diagnostic per loop and per gain with its figures.
+// summaries adds one info diagnostic per loop and per gain with its
+// figures. The texts are worded side by side (each reads only its own
+// result), then added in source order.
 func (c *checker) summaries() {
-	for _, l := range c.res.Loops {
+	loops := make([]string, len(c.res.Loops))
+	parallel(len(c.res.Loops), func(i int) {
+		if l := c.res.Loops[i]; l.OK {
+			loops[i] = c.memo.text(loopTextsOf, c.memo.loopKeyOf(l), l.Summary)
+		}
+	})
+	for i, l := range c.res.Loops {
 		if l.OK {
-			text := c.memo.text(loopTextsOf, c.memo.loopKeyOf(l), l.Summary)
-			c.diags.add(c.res.Path, l.Stmt.Name.Span, Info, CodeLoopVerdict, text)
+			c.diags.add(c.res.Path, l.Stmt.Name.Span, Info, CodeLoopVerdict, loops[i])
 		}
 	}
-	for _, g := range c.res.Gains {
-		if g.Limits != nil && g.Stmt.Name != nil {
+	gains := make([]string, len(c.res.Gains))
+	parallel(len(c.res.Gains), func(i int) {
+		if g := c.res.Gains[i]; g.Limits != nil && g.Stmt.Name != nil {
 			key := c.memo.gainKeyOf(g)
 			if g.Vary != nil { // not part of the limits' key
 				key = ""
 			}
-			text := c.memo.text(gainTextsOf, key, g.LimitsText)
-			c.diags.add(c.res.Path, g.Stmt.Name.Span, Info, CodeGainLimits, text)
+			gains[i] = c.memo.text(gainTextsOf, key, g.LimitsText)
+		}
+	})
+	for i, g := range c.res.Gains {
+		if g.Limits != nil && g.Stmt.Name != nil {
+			c.diags.add(c.res.Path, g.Stmt.Name.Span, Info, CodeGainLimits, gains[i])
 		}
 	}
 }

@@ -22,7 +22,7 @@ func severity(s analysis.Severity) protocol.DiagnosticSeverity {
 // same list `ringside check` prints, less the summary codes (which become
 // code lenses and hovers).
 func (sn *snapshot) protocolDiagnostics(res *analysis.Result, m *Mapper) []protocol.Diagnostic {
-	out := []protocol.Diagnostic{}
+	out := make([]protocol.Diagnostic, 0, len(res.Diagnostics))
 	for _, d := range res.Diagnostics {
 		if d.Path != res.Path || analysis.SummaryCode(d.Code) {
 			continue

@@ -837,7 +837,13 @@ func (s *Server) runCheck(ctx context.Context, path string, seq uint64, full boo
 	if err != nil {
 		return
 	}
-	m := NewMapper(doc.text, sn.encoding)
+	// The result's line index is that of the text it analysed.
+	var m *Mapper
+	if res.File != nil && res.File.Lines != nil && bytes.Equal(res.File.Src, doc.text) {
+		m = fileMapper(res.File, sn.encoding)
+	} else {
+		m = NewMapper(doc.text, sn.encoding)
+	}
 	diags := sn.protocolDiagnostics(res, m)
 	uses := map[string]bool{}
 	for p := range res.Files {

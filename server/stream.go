@@ -133,20 +133,22 @@ func checkEnvelope(data []byte) ([]byte, *wireMessage) {
 	invalid := func(id json.RawMessage, why string) *wireMessage {
 		return &wireMessage{JSONRPC: "2.0", ID: id, Error: jsonrpc2.NewError(jsonrpc2.InvalidRequest, "invalid request: "+why)}
 	}
+	parseError := &wireMessage{JSONRPC: "2.0", ID: null, Error: jsonrpc2.NewError(jsonrpc2.ParseError, "parse error: the body is not JSON")}
 	body := bytes.TrimSpace(data)
-	if len(body) == 0 || !json.Valid(body) {
-		return nil, &wireMessage{JSONRPC: "2.0", ID: null, Error: jsonrpc2.NewError(jsonrpc2.ParseError, "parse error: the body is not JSON")}
-	}
-	switch body[0] {
-	case '{':
-	case '[':
-		return nil, invalid(null, "batches are not part of the Language Server Protocol; send one message per frame")
-	default:
+	if len(body) == 0 || body[0] != '{' {
+		switch {
+		case len(body) == 0 || !json.Valid(body):
+			return nil, parseError
+		case body[0] == '[':
+			return nil, invalid(null, "batches are not part of the Language Server Protocol; send one message per frame")
+		}
 		return nil, invalid(null, "a message must be a JSON object")
 	}
+	// One pass: any JSON object decodes into the map, so an error here
+	// is one of JSON syntax.
 	var env map[string]json.RawMessage
 	if err := json.Unmarshal(body, &env); err != nil {
-		return nil, invalid(null, err.Error())
+		return nil, parseError
 	}
 	id, hasID := env["id"]
 	if hasID {

@@ -167,18 +167,46 @@ func sameComments(a, b []*Comment) bool {
 // own line, so only the lines of the touched statements are parsed again,
 // which keeps a check of many fixes linear in the file.
 func CheckFix(f *File, edits []Edit) error {
+	r, err := FixRegionOf(f, edits)
+	if err != nil || len(r.Edits) == 0 {
+		return err
+	}
+	line, msg, err := r.check()
+	if err != nil {
+		return err
+	}
+	if msg != "" {
+		l0, _ := f.Lines.LineCol(r.From)
+		return fmt.Errorf("the fixed text would have a syntax error at %d:%s", l0+line-1, msg)
+	}
+	return nil
+}
+
+// FixRegion is what CheckFix reads of a file for a fix: the lines of the
+// statements the edits touch (Text, starting at From) and the edits
+// relative to them. Whether the fix reads back depends on nothing else, so
+// a caller may keep the answer under Key.
+type FixRegion struct {
+	From  Pos
+	Text  []byte
+	Edits []Edit // none: nothing to check
+}
+
+// FixRegionOf finds the region of edits in f; an error when they lie
+// outside the text or touch the byte order mark.
+func FixRegionOf(f *File, edits []Edit) (FixRegion, error) {
 	if len(edits) == 0 {
-		return nil
+		return FixRegion{}, nil
 	}
 	lo, hi := edits[0].From, edits[0].To
 	for _, e := range edits {
 		lo, hi = min(lo, e.From), max(hi, e.To)
 	}
 	if lo < 0 || int(hi) > len(f.Src) {
-		return fmt.Errorf("the fix edits outside the text (%d-%d)", lo, hi)
+		return FixRegion{}, fmt.Errorf("the fix edits outside the text (%d-%d)", lo, hi)
 	}
 	if int(lo) < BOMLen(f.Src) {
-		return fmt.Errorf("the fix edits the byte order mark")
+		return FixRegion{}, fmt.Errorf("the fix edits the byte order mark")
 	}
 	i := sort.Search(len(f.Stmts), func(i int) bool { return f.Stmts[i].End() >= lo })
 	for ; i < len(f.Stmts) && f.Stmts[i].Pos() <= hi; i++ {
@@ -189,19 +217,45 @@ func CheckFix(f *File, edits []Edit) error {
 	for k, e := range edits {
 		shifted[k] = Edit{Span{e.From - lo, e.To - lo}, e.New}
 	}
-	before := f.Src[lo:hi]
-	after, err := ApplyEdits(before, shifted)
-	if err != nil {
-		return err
+	return FixRegion{From: lo, Text: f.Src[lo:hi], Edits: shifted}, nil
+}
+
+// Key is the region's text and edits as one string.
+func (r FixRegion) Key() string {
+	var b strings.Builder
+	b.Grow(len(r.Text) + 32*len(r.Edits))
+	fmt.Fprintf(&b, "%d:%s", len(r.Text), r.Text)
+	for _, e := range r.Edits {
+		fmt.Fprintf(&b, "|%d,%d,%d:%s", e.From, e.To, len(e.New), e.New)
 	}
-	_, ea := Parse("", before)
+	return b.String()
+}
+
+// ReadsBack reports whether the region with its edits applied parses with
+// no new syntax error (CheckFix's test, without the message).
+func (r FixRegion) ReadsBack() bool {
+	if len(r.Edits) == 0 {
+		return true
+	}
+	_, msg, err := r.check()
+	return err == nil && msg == ""
+}
+
+// check applies the edits and parses before and after; msg (with the
+// region-relative line of its first error) is "" when the fix reads back;
+// err is that of edits that cannot be applied.
+func (r FixRegion) check() (line int, msg string, err error) {
+	after, err := ApplyEdits(r.Text, r.Edits)
+	if err != nil {
+		return 0, "", err
+	}
+	_, ea := Parse("", r.Text)
 	fb, eb := Parse("", after)
 	if len(eb) > len(ea) {
-		line, _ := f.Lines.LineCol(lo)
 		bl, bc := fb.Lines.LineCol(eb[0].From)
-		return fmt.Errorf("the fixed text would have a syntax error at %d:%d: %s", line+bl-1, bc, eb[0].Msg)
+		return bl, fmt.Sprintf("%d: %s", bc, eb[0].Msg), nil
 	}
-	return nil
+	return 0, "", nil
 }
 
 // StmtKeys gives one string per statement that captures its meaning as

@@ -153,3 +153,33 @@ func TestLinesEdited(t *testing.T) {
 		}
 	}
 }
+
+// FixRegion answers as CheckFix does, and a region moved down the file
+// (the same statements further on) has the same key and answer.
+func TestFixRegionAsCheckFix(t *testing.T) {
+	rng := rand.New(rand.NewSource(4))
+	for name, text := range chunkSources(t) {
+		src := []byte(text)
+		f, _ := Parse(name, src)
+		moved := append([]byte("# moved\n\n"), src...)
+		fm, _ := Parse(name, moved)
+		for i := 0; i < 40 && len(src) > 0; i++ {
+			from := Pos(rng.Intn(len(src)))
+			to := min(from+Pos(rng.Intn(6)), Pos(len(src)))
+			edits := []Edit{{Span{from, to}, []string{"", "1", ")", "kp", "\n", "(z"}[rng.Intn(6)]}}
+			r, err := FixRegionOf(f, edits)
+			want := CheckFix(f, edits) == nil
+			if got := err == nil && r.ReadsBack(); got != want {
+				t.Fatalf("%s %v: region says %v, CheckFix %v", name, edits, got, want)
+			}
+			if err != nil {
+				continue
+			}
+			shift := Pos(len("# moved\n\n"))
+			rm, err := FixRegionOf(fm, []Edit{{Span{from + shift, to + shift}, edits[0].New}})
+			if err != nil || rm.Key() != r.Key() || rm.From != r.From+shift {
+				t.Fatalf("%s %v: the moved region differs (%v)", name, edits, err)
+			}
+		}
+	}
+}

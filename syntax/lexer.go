@@ -2,6 +2,7 @@ package syntax
 
 import (
 	"fmt"
+	"sync"
 	"unicode/utf8"
 )
 
@@ -13,14 +14,17 @@ var stmtKeywords = map[string]bool{
 	"realize": true,
 }
 
-// punct maps one-byte operators to their kinds.
-var punct = map[byte]tokKind{'+': tPlus, '-': tMinus, '*': tStar, '/': tSlash, '^': tCaret,
+// punct maps one-byte operators to their kinds (tEOF, zero: none), a
+// table rather than a map: it is read for every operator of every file.
+var punct = [utf8.RuneSelf]tokKind{'+': tPlus, '-': tMinus, '*': tStar, '/': tSlash, '^': tCaret,
 	'=': tAssign, '(': tLParen, ')': tRParen, '{': tLBrace, '}': tRBrace, '%': tPercent}
 
 // lexer turns source bytes into tokens. It never stops at an error: a byte
 // it cannot use is reported with its exact span and skipped.
 type lexer struct {
 	src      []byte
+	text     string // src[base:] as one string: token and comment texts are slices of it
+	base     int
 	off      int
 	depth    int // open '(' count; newlines inside parentheses are skipped
 	toks     []token
@@ -30,12 +34,47 @@ type lexer struct {
 }
 
 // lex tokenizes src completely; the last token is always tEOF.
-func lex(src []byte) *lexer {
-	// About one token per four bytes in real files: allocate once.
-	lx := &lexer{src: src, toks: make([]token, 0, len(src)/4+8)}
-	lx.off = BOMLen(src)
+func lex(src []byte) *lexer { return lexRange(src, BOMLen(src), len(src)) }
+
+// lexRange tokenizes src[from:to] as if the text ended at to; positions
+// are those of src. The last token is tEOF at to.
+func lexRange(src []byte, from, to int) *lexer {
+	// About one token per three bytes in real files: allocate once.
+	return lexInto(src, from, to, make([]token, 0, (to-from)/3+8))
+}
+
+// lexInto is lexRange appending the tokens to toks.
+func lexInto(src []byte, from, to int, toks []token) *lexer {
+	// One copy of the text as a string: every text below is a slice of
+	// it, not an allocation of its own.
+	lx := &lexer{src: src[:to], base: from, text: string(src[from:to]), toks: toks}
+	lx.off = from
 	lx.run()
 	return lx
+}
+
+// tokenLists keeps the parser's token lists between parses: the tree keeps
+// no token, and a list as long as the file, made anew for every parse of
+// an edited file, is most of what parsing allocates.
+var tokenLists sync.Pool
+
+// pooledTokens returns an empty token list, from the pool when it has one.
+func pooledTokens(n int) []token {
+	if p, ok := tokenLists.Get().(*[]token); ok {
+		return (*p)[:0]
+	}
+	return make([]token, 0, n)
+}
+
+// recycleTokens returns a list to the pool, cleared (its texts would keep
+// the source alive), unless it is unusually large.
+func recycleTokens(toks []token) {
+	if cap(toks) > 1<<20 {
+		return
+	}
+	clear(toks)
+	toks = toks[:0]
+	tokenLists.Put(&toks)
 }
 
 func (lx *lexer) errorf(from, to int, format string, args ...any) {
@@ -47,7 +86,7 @@ func (lx *lexer) errorf(from, to int, format string, args ...any) {
 }
 
 func (lx *lexer) emit(k tokKind, from, to int) {
-	lx.toks = append(lx.toks, token{kind: k, Span: Span{Pos(from), Pos(to)}, text: string(lx.src[from:to])})
+	lx.toks = append(lx.toks, token{kind: k, Span: Span{Pos(from), Pos(to)}, text: lx.text[from-lx.base : to-lx.base]})
 }
 
 func isLetter(b byte) bool { return b == '_' || 'a' <= b && b <= 'z' || 'A' <= b && b <= 'Z' }
@@ -96,7 +135,8 @@ func (lx *lexer) run() {
 				lx.errorf(start, lx.off, "unexpected '%c' (comparisons are '>=' and '<=')", c)
 			}
 		case c < utf8.RuneSelf:
-			k, ok := punct[c]
+			k := punct[c]
+			ok := k != tEOF
 			lx.off++
 			if !ok {
 				lx.errorf(start, lx.off, "unexpected character %s", quoteByte(c))
@@ -185,7 +225,7 @@ func (lx *lexer) comment() {
 	}
 	lx.off = end
 	lx.checkUTF8(start, end)
-	lx.comments = append(lx.comments, &Comment{Span{Pos(start), Pos(end)}, string(lx.src[start:end])})
+	lx.comments = append(lx.comments, &Comment{Span{Pos(start), Pos(end)}, lx.text[start-lx.base : end-lx.base]})
 }
 
 // checkUTF8 reports each invalid byte in src[from:to].
@@ -240,12 +280,12 @@ func (lx *lexer) str() {
 	if i < len(lx.src) && lx.src[i] == '"' {
 		lx.checkUTF8(start+1, i)
 		lx.off = i + 1
-		lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(lx.off)}, text: string(lx.src[start+1 : i])})
+		lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(lx.off)}, text: lx.text[start+1-lx.base : i-lx.base]})
 		return
 	}
 	end := i
 	lx.errorf(start, end, "unterminated string (missing closing '\"')")
 	lx.checkUTF8(start+1, end)
 	lx.off = end
-	lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(end)}, text: string(lx.src[start+1 : end])})
+	lx.toks = append(lx.toks, token{kind: tString, Span: Span{Pos(start), Pos(end)}, text: lx.text[start+1-lx.base : end-lx.base]})
 }

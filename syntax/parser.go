@@ -3,7 +3,9 @@ package syntax
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"strconv"
+	"sync"
 )
 
 // Limits of the parser. They keep hostile or broken input from costing
@@ -28,10 +30,25 @@ const (
 // and the list of syntax errors, sorted by position. It never panics and
 // always terminates: every recovery step consumes at least one token.
 func Parse(name string, src []byte) (*File, ErrorList) {
-	lx := lex(src)
-	toks, comments, lexErrs := lx.toks, lx.comments, lx.errs
-	p := &parser{toks: toks, lines: NewLines(src)}
-	f := &File{Name: name, Src: src, Lines: p.lines, Comments: comments}
+	lines := NewLines(src)
+	if cuts := chunkCuts(src, runtime.GOMAXPROCS(0)); len(cuts) > 2 {
+		if f, ok := parseChunks(name, src, lines, cuts); ok {
+			return f, nil
+		}
+	}
+	f, errs, dropped := parseRange(src, lines, BOMLen(src), len(src))
+	f.Name = name
+	return f, capErrors(errs, dropped)
+}
+
+// parseRange parses the statements of src[from:to] as if the text ended
+// at to, with positions of src; it returns the errors unsorted, with the
+// count of those never stored.
+func parseRange(src []byte, lines *Lines, from, to int) (*File, ErrorList, int) {
+	lx := lexInto(src, from, to, pooledTokens((to-from)/3+8))
+	defer func() { recycleTokens(lx.toks) }()
+	p := &parser{toks: lx.toks, lines: lines}
+	f := &File{Src: src, Lines: lines, Comments: lx.comments}
 	for p.tok().kind != tEOF {
 		if p.tok().kind == tNewline {
 			p.next()
@@ -43,7 +60,85 @@ func Parse(name string, src []byte) (*File, ErrorList) {
 			p.next()
 		}
 	}
-	return f, capErrors(append(lexErrs, p.errs...), lx.dropped+p.dropped)
+	return f, append(lx.errs, p.errs...), lx.dropped + p.dropped
+}
+
+// minChunk is the smallest piece of a file parsed on a processor of its
+// own: below it, starting a goroutine costs more than it saves.
+const minChunk = 8 << 10
+
+// chunkCuts splits src into about n pieces for parseChunks: the offsets
+// from the start of the text to its end, each cut at the start of a line
+// that begins with a statement keyword (as Parse reads it, a statement
+// starts there in any file without syntax errors). Fewer than three
+// offsets: no split.
+func chunkCuts(src []byte, n int) []int {
+	if n < 2 || len(src) < 2*minChunk {
+		return nil
+	}
+	n = min(n, len(src)/minChunk)
+	cuts := []int{BOMLen(src)}
+	for k := 1; k < n; k++ {
+		at := stmtLineAfter(src, k*len(src)/n)
+		if at < 0 {
+			break
+		}
+		if at > cuts[len(cuts)-1] {
+			cuts = append(cuts, at)
+		}
+	}
+	return append(cuts, len(src))
+}
+
+// stmtLineAfter is the start of the first line at or after off (just past
+// a '\n') that begins with a statement keyword, or -1.
+func stmtLineAfter(src []byte, off int) int {
+	for i := off; i < len(src); i++ {
+		if src[i] != '\n' {
+			continue
+		}
+		j := i + 1
+		for j < len(src) && (src[j] == ' ' || src[j] == '\t') {
+			j++
+		}
+		k := j
+		for k < len(src) && isLetter(src[k]) {
+			k++
+		}
+		if k < len(src) && (src[k] == ' ' || src[k] == '\t') && stmtKeywords[string(src[j:k])] {
+			return i + 1
+		}
+	}
+	return -1
+}
+
+// parseChunks parses the pieces of src between cuts side by side and
+// joins them. A file without syntax errors parses to the same tree as in
+// one piece (the parser is between statements at every cut); ok is false
+// when a piece has an error, and the caller parses the whole file in one
+// piece, so that every message reads as it always did.
+func parseChunks(name string, src []byte, lines *Lines, cuts []int) (*File, bool) {
+	parts := make([]*File, len(cuts)-1)
+	failed := make([]bool, len(parts))
+	var wg sync.WaitGroup
+	for i := range parts {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			f, errs, dropped := parseRange(src, lines, cuts[i], cuts[i+1])
+			parts[i], failed[i] = f, len(errs) > 0 || dropped > 0
+		}()
+	}
+	wg.Wait()
+	f := &File{Name: name, Src: src, Lines: lines}
+	for i, part := range parts {
+		if failed[i] {
+			return nil, false
+		}
+		f.Stmts = append(f.Stmts, part.Stmts...)
+		f.Comments = append(f.Comments, part.Comments...)
+	}
+	return f, true
 }
 
 // capErrors sorts errs and keeps the first MaxErrors, then one error at the

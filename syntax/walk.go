@@ -84,6 +84,25 @@ func Walk(n Node, f func(Node) bool) {
 	if n == nil || !f(n) {
 		return
 	}
+	// Expressions, walked most often (every block, every check), go
+	// without a list of children: the same order, no allocation.
+	switch x := n.(type) {
+	case *Binary:
+		Walk(x.X, f)
+		Walk(x.Y, f)
+		return
+	case *Unary:
+		Walk(x.X, f)
+		return
+	case *Power:
+		Walk(x.X, f)
+		return
+	case *Paren:
+		Walk(x.X, f)
+		return
+	case *NameRef, *NumberLit, *VarRef, *Ident:
+		return
+	}
 	for _, c := range Children(n) {
 		Walk(c, f)
 	}

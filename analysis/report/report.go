@@ -198,9 +198,9 @@ func buildFile(r *analysis.Result, display func(string) string) File {
 	for _, d := range r.Diagnostics {
 		f.Diagnostics = append(f.Diagnostics, diagnostic(r, d, display))
 	}
-	for _, l := range r.Loops {
-		f.Loops = append(f.Loops, loop(l))
-	}
+	// Each loop's entry reads only that loop: built side by side.
+	f.Loops = make([]Loop, len(r.Loops))
+	each(len(r.Loops), func(i int) { f.Loops[i] = loop(r.Loops[i]) })
 	for _, g := range r.Gains {
 		out := Gain{Name: g.Name, Value: g.Value, Loops: []string{}}
 		if lim := g.Limits; lim != nil {

@@ -78,6 +78,24 @@ func (o *out) value(v any, depth int) {
 	_, o.err = o.w.Write(b[:len(b)-1]) // Encode ends with a newline
 }
 
+// indented writes compact JSON b (from an AppendJSON) as value writes a
+// value when indenting: by json.Indent, which is what the encoder's own
+// indenting does.
+func (o *out) indented(b []byte, err error, depth int) {
+	if o.err != nil {
+		return
+	}
+	if o.err = err; err != nil {
+		return
+	}
+	prefix := indentOf(depth)
+	o.raw(prefix)
+	o.buf.Reset()
+	if o.err = json.Indent(&o.buf, b, prefix, "  "); o.err == nil {
+		_, o.err = o.w.Write(o.buf.Bytes())
+	}
+}
+
 func indentOf(depth int) string {
 	b := make([]byte, 2*depth)
 	for i := range b {
@@ -100,6 +118,7 @@ type jsonStream struct {
 	out
 	display func(string) string
 	n       int
+	scratch []byte // JSON not yet written, reused
 }
 
 func (s *jsonStream) Add(r *analysis.Result) {
@@ -110,7 +129,17 @@ func (s *jsonStream) Add(r *analysis.Result) {
 		s.layout(",\n", ",")
 	}
 	s.n++
-	s.value(buildFile(r, s.display), 2)
+	f := buildFile(r, s.display)
+	if s.err != nil {
+		return
+	}
+	if !s.indent {
+		s.scratch, s.err = f.writeJSON(s.w, s.scratch)
+		return
+	}
+	var err error
+	s.scratch, err = f.AppendJSON(s.scratch[:0])
+	s.indented(s.scratch, err, 2)
 }
 
 func (s *jsonStream) Close() error {
