@@ -148,7 +148,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 	switch v {
 	case 0:
 		bv.cont, bv.tf, bv.ok, bv.contOK = r, r, true, true
-		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
+		bv.fac, bv.facErr = ev.factoredTop(d, st.Expr, r, bv)
 		if st.Via != nil {
 			ev.report(d.Path, st.Via.Span, Warning, CodeViaOnDiscrete,
 				fmt.Sprintf("block %s is a constant: `via` has no effect; remove it", d.Name))
@@ -165,7 +165,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 			return bv
 		}
 		bv.tf, bv.ok = r, true
-		bv.fac, bv.facErr = ev.factored(d, st.Expr, bv)
+		bv.fac, bv.facErr = ev.factoredTop(d, st.Expr, r, bv)
 	case 's':
 		bv.cont, bv.contOK = r, true
 		if r.Num.Degree() > r.Den.Degree() {
@@ -204,6 +204,25 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 		bv.fac, bv.facErr = lti.FromRational(tf)
 	}
 	return bv
+}
+
+// factoredTop is factored for a block's whole expression e, whose
+// transfer function r is already known: a sum at the top (a PI
+// controller's kp + ki·T·z/(z − 1)) is factored from r rather than
+// evaluated again.
+func (ev *evaluator) factoredTop(d *Decl, e syntax.Expr, r poly.Rational, bv *blockValue) (lti.Factored, error) {
+	inner := e
+	for {
+		p, ok := inner.(*syntax.Paren)
+		if !ok {
+			break
+		}
+		inner = p.X
+	}
+	if x, ok := inner.(*syntax.Binary); ok && !x.Juxtaposed && x.Op != "*" && x.Op != "/" {
+		return lti.FromRational(r)
+	}
+	return ev.factored(d, e, bv)
 }
 
 // factored returns a z (or constant) block's factored form: exact where the
