@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack"
@@ -183,14 +184,26 @@ func (w *work) geev(a, vl, vr blas64.General) (ok bool) {
 	return lapack64.Geev(lapack.LeftEVCompute, lapack.RightEVCompute, a, w.wr, w.wi, vl, vr, w.work[:lwork], lwork) == 0
 }
 
-// query sizes Dgeev's workspace at its documented minimum, 4n with both
-// eigenvector sets: for the small matrices of loops the unblocked code the
-// minimum selects is the faster one (the size query's optimum assumes
-// blocking pays).
 func (w *work) query(a, vl, vr blas64.General) int {
-	w.work = make([]float64, max(1, 4*a.Rows))
+	n := a.Rows
+	if n < len(lworkBySize) {
+		if l := lworkBySize[n].Load(); l > 0 {
+			w.work = make([]float64, l)
+			return int(l)
+		}
+	}
+	q := []float64{0}
+	lapack64.Geev(lapack.LeftEVCompute, lapack.RightEVCompute, a, w.wr, w.wi, vl, vr, q, -1)
+	w.work = make([]float64, int(q[0]))
+	if n < len(lworkBySize) {
+		lworkBySize[n].Store(int64(len(w.work)))
+	}
 	return len(w.work)
 }
+
+// lworkBySize remembers Dgeev's workspace size by order (it depends on
+// the order only): the size query is a run of the routine's set-up.
+var lworkBySize [64]atomic.Int64
 
 // column reads eigenvector j, column j of Geev's row-major output v; im ≥ 0
 // names the column holding the imaginary part.
