@@ -264,6 +264,7 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 	if c.wants(sh.reqs, "disk_margin") {
 		c.diskMargin(l, resp, respErr)
 	}
+	resp.Release() // the margins and the disk margin are read
 	c.verdictDiagnostics(l, fwd, fb)
 	c.requirements(l, sh.reqs)
 }

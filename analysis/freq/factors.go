@@ -92,6 +92,7 @@ func ComputeFactors(f Factors, T float64) (Margins, error) {
 	if err != nil {
 		return Margins{}, err
 	}
+	defer s.Release()
 	return s.Margins(T)
 }
 
@@ -127,8 +128,10 @@ func RealAxisCrossings(f Factors) ([]float64, []float64, error) {
 		return nil, nil, err
 	}
 	lp := loop{fac: &f}
-	grid := lp.grid()
-	pts := lp.evalGrid(grid)
+	sc := getScratch()
+	defer scratchPool.Put(sc)
+	grid := lp.grid(sc)
+	pts := lp.evalGrid(grid, sc)
 	var ths, vals []float64
 	for _, th := range lp.realAxis(grid, pts.g, pts.gScale) {
 		N, D := lp.eval(th)

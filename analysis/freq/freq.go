@@ -20,6 +20,7 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"sync"
 
 	"ringside/analysis/diskmargin"
 	"ringside/analysis/internal/anglegrid"
@@ -130,18 +131,43 @@ type Sampled struct {
 	lp   loop
 	grid []float64
 	pts  gridValues
+	sc   *scratch
 }
 
 // SampleFactors evaluates the loop given by its factors on its search grid
-// (errors as ComputeFactors).
+// (errors as ComputeFactors). Release gives its arrays back when the
+// margins and the disk margin have been read.
 func SampleFactors(f Factors, T float64) (*Sampled, error) {
 	lp, err := factorLoop(f, T)
 	if err != nil {
 		return nil, err
 	}
-	grid := lp.grid()
-	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid)}, nil
+	sc := getScratch()
+	grid := lp.grid(sc)
+	return &Sampled{lp: lp, grid: grid, pts: lp.evalGrid(grid, sc), sc: sc}, nil
 }
+
+// Release returns the sampled arrays for reuse by the next loop; s must
+// not be used afterwards (nothing it returned refers to them).
+func (s *Sampled) Release() {
+	if s != nil && s.sc != nil {
+		scratchPool.Put(s.sc)
+		s.sc, s.grid, s.pts = nil, nil, gridValues{}
+	}
+}
+
+// scratch holds a grid and its values between loops: a check samples a
+// grid of some hundred points per loop, thousands of times.
+type scratch struct {
+	ag       anglegrid.Scratch
+	clusters []anglegrid.Cluster
+	grid     []float64
+	vals     []float64
+}
+
+var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
+
+func getScratch() *scratch { return scratchPool.Get().(*scratch) }
 
 // Margins computes every margin of the sampled loop (see Compute).
 func (s *Sampled) Margins(T float64) (Margins, error) {
@@ -160,8 +186,10 @@ func (s *Sampled) DiskMargin() (diskmargin.Margin, error) {
 
 // margins computes every margin of lp (see Compute).
 func (lp loop) margins(T float64) (Margins, error) {
-	grid := lp.grid()
-	return lp.marginsOn(grid, lp.evalGrid(grid), T)
+	sc := getScratch()
+	defer scratchPool.Put(sc)
+	grid := lp.grid(sc)
+	return lp.marginsOn(grid, lp.evalGrid(grid, sc), T)
 }
 
 // marginsOn computes every margin of lp from its values on the grid.
@@ -472,9 +500,12 @@ type gridValues struct {
 	g, gScale, h, hScale, sens, disk []float64
 }
 
-func (l loop) evalGrid(grid []float64) gridValues {
+func (l loop) evalGrid(grid []float64, sc *scratch) gridValues {
 	n := len(grid)
-	all := make([]float64, 6*n) // one allocation for the six series
+	if cap(sc.vals) < 6*n {
+		sc.vals = make([]float64, 6*n)
+	}
+	all := sc.vals[:6*n] // one array for the six series
 	part := func(i int) []float64 { return all[i*n : (i+1)*n : (i+1)*n] }
 	v := gridValues{part(0), part(1), part(2), part(3), part(4), part(5)}
 	for i, th := range grid {
@@ -514,8 +545,9 @@ func fastAbs(c complex128, s float64) float64 {
 // underflow.
 func normal(s float64) bool { return s > 0x1p-1000 && s < 0x1p1000 }
 
-// grid also records the roots of N + D, which the peak search needs.
-func (l *loop) grid() []float64 {
+// grid also records the roots of N + D, which the peak search needs. The
+// grid is built in sc's arrays.
+func (l *loop) grid(sc *scratch) []float64 {
 	n := max(l.num.Degree(), l.den.Degree(), 1)
 	if l.fac != nil {
 		n = max(len(l.fac.Zeros), len(l.fac.Poles), 1)
@@ -530,7 +562,7 @@ func (l *loop) grid() []float64 {
 		e := math.Pi * math.Pow(10, -float64(k))
 		ends[10-k], ends[9+k] = e, math.Pi-e
 	}
-	var clusters []anglegrid.Cluster
+	clusters := sc.clusters[:0]
 	for _, rs := range l.nearRoots() {
 		for _, r := range rs {
 			d := math.Abs(cmplx.Abs(r) - 1)
@@ -540,8 +572,10 @@ func (l *loop) grid() []float64 {
 			clusters = append(clusters, anglegrid.Cluster{Center: math.Abs(cmplx.Phase(r)), Start: math.Max(d, 1e-10) / 16})
 		}
 	}
+	sc.clusters = clusters
 	reach := math.Min(2*nearCircle, 2*math.Pi/float64(count))
-	return anglegrid.Build(nil, count, clusters, reach, ends[:])
+	sc.grid = sc.ag.Build(sc.grid, count, clusters, reach, ends[:])
+	return sc.grid
 }
 
 // nearRoots returns the roots of N, D and N + D (the last kept in

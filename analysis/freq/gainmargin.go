@@ -20,8 +20,13 @@ func GainMargin(L poly.Rational, T float64) (*float64, error) {
 }
 
 func (lp loop) gainMargin(T float64) *float64 {
-	grid := lp.grid()
-	g, gs := make([]float64, len(grid)), make([]float64, len(grid))
+	sc := getScratch()
+	defer scratchPool.Put(sc)
+	grid := lp.grid(sc)
+	if cap(sc.vals) < 2*len(grid) {
+		sc.vals = make([]float64, 2*len(grid))
+	}
+	g, gs := sc.vals[:len(grid)], sc.vals[len(grid):2*len(grid)]
 	for i, th := range grid {
 		N, D := lp.eval(th)
 		g[i], gs[i] = imag(N*cmplx.Conj(D)), fastAbs(N, sq(N))*fastAbs(D, sq(D))

@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+	"sync"
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
@@ -96,6 +97,7 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 		}
 	}
 	w := newWork(n)
+	defer workPool.Put(w)
 	copy(w.a, a[:n*n])
 	balance(w.a, n)
 	copy(w.bal, w.a)
@@ -160,15 +162,27 @@ func frobenius(a []float64) float64 {
 	return m * math.Sqrt(s)
 }
 
-// work holds the scratch of one eigenvalue computation.
+// work holds the scratch of one eigenvalue computation, reused from one
+// computation to the next (a gain search runs thousands).
 type work struct {
 	a, bal, vl, vr, scale, wr, wi, work []float64
+	buf                                 []float64
 }
 
+var workPool = sync.Pool{New: func() any { return new(work) }}
+
+// newWork takes a scratch from the pool, sized for order n.
 func newWork(n int) *work {
-	buf := make([]float64, 4*n*n+3*n)
-	return &work{a: buf[:n*n], bal: buf[n*n : 2*n*n], vl: buf[2*n*n : 3*n*n], vr: buf[3*n*n : 4*n*n],
-		scale: buf[4*n*n : 4*n*n+n], wr: buf[4*n*n+n : 4*n*n+2*n], wi: buf[4*n*n+2*n:]}
+	w := workPool.Get().(*work)
+	size := 4*n*n + 3*n
+	if cap(w.buf) < size {
+		w.buf = make([]float64, size)
+	}
+	buf := w.buf[:size]
+	clear(buf)
+	w.a, w.bal, w.vl, w.vr = buf[:n*n], buf[n*n:2*n*n], buf[2*n*n:3*n*n], buf[3*n*n:4*n*n]
+	w.scale, w.wr, w.wi = buf[4*n*n:4*n*n+n], buf[4*n*n+n:4*n*n+2*n], buf[4*n*n+2*n:]
+	return w
 }
 
 // geev runs LAPACK's Dgeev; false when it does not converge, or panics on
@@ -187,9 +201,13 @@ func (w *work) geev(a, vl, vr blas64.General) (ok bool) {
 func (w *work) query(a, vl, vr blas64.General) int {
 	n := a.Rows
 	if n < len(lworkBySize) {
-		if l := lworkBySize[n].Load(); l > 0 {
-			w.work = make([]float64, l)
-			return int(l)
+		if l := int(lworkBySize[n].Load()); l > 0 {
+			if cap(w.work) < l {
+				w.work = make([]float64, l)
+			}
+			w.work = w.work[:l]
+			clear(w.work) // as fresh as a new array: results never depend on reuse
+			return l
 		}
 	}
 	q := []float64{0}

@@ -24,20 +24,35 @@ type Cluster struct {
 // Build appends to dst[:0] the sorted distinct angles in [0, π]: count + 1
 // uniform points π·i/count, the points of every cluster (offsets below
 // reach; the last uniform point is π itself; of clusters with the same
-// centre only the finest counts), and the points of extra (sorted ascending); points outside
-// [0, π] are dropped and points within MinGap of the previous one merged.
+// centre only the finest counts), and the points of extra (sorted
+// ascending); points outside [0, π] are dropped and points within MinGap
+// of the previous one merged.
 func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
-	clusters = finest(clusters)
-	runs := make([]float64, 0, len(extra)+64*len(clusters))
-	bounds := []int{0}
-	runs = append(runs, extra...)
-	bounds = append(bounds, len(runs))
-	var offs []float64
-	for _, c := range clusters {
-		offs = offs[:0]
+	var sc Scratch
+	return sc.Build(dst, count, clusters, reach, extra)
+}
+
+// Scratch holds the working arrays of Build, reused from one grid to the
+// next (a check builds a grid per loop, thousands of them).
+type Scratch struct {
+	clusters    []Cluster
+	runs, buf   []float64
+	offs        []float64
+	bounds, nxt []int
+}
+
+// Build is Build with the scratch's arrays; the result is dst's (or a new
+// array when dst is too small), never the scratch's.
+func (sc *Scratch) Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
+	cs := sc.finest(clusters)
+	runs := append(sc.runs[:0], extra...)
+	bounds := append(sc.bounds[:0], 0, len(runs))
+	for _, c := range cs {
+		offs := sc.offs[:0]
 		for s := c.Start; s < reach; s *= Ratio {
 			offs = append(offs, s)
 		}
+		sc.offs = offs
 		for i := len(offs) - 1; i >= 0; i-- {
 			runs = append(runs, c.Center-offs[i])
 		}
@@ -47,8 +62,8 @@ func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []
 		}
 		bounds = append(bounds, len(runs))
 	}
-	sorted := mergeRuns(runs, bounds)
-	return mergeUniform(dst[:0], count, sorted)
+	sc.runs, sc.bounds = runs, bounds
+	return mergeUniform(dst[:0], count, sc.mergeRuns())
 }
 
 // finest keeps, of clusters with the same centre, the one starting
@@ -56,8 +71,8 @@ func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []
 // by the same Ratio) and finer, so theirs would only double the density.
 // Roots on the real axis all centre at 0 or π (an integrator, a PI zero and
 // the slow closed-loop poles of a loop share θ = 0).
-func finest(clusters []Cluster) []Cluster {
-	out := make([]Cluster, 0, len(clusters))
+func (sc *Scratch) finest(clusters []Cluster) []Cluster {
+	out := sc.clusters[:0]
 next:
 	for _, c := range clusters {
 		for i, o := range out {
@@ -68,15 +83,21 @@ next:
 		}
 		out = append(out, c)
 	}
+	sc.clusters = out
 	return out
 }
 
-// mergeRuns merges the sorted runs runs[bounds[i]:bounds[i+1]] pairwise
-// until one is left.
-func mergeRuns(runs []float64, bounds []int) []float64 {
-	buf := make([]float64, len(runs))
+// mergeRuns merges the sorted runs sc.runs[bounds[i]:bounds[i+1]] pairwise
+// until one is left, and returns it (one of the scratch's arrays).
+func (sc *Scratch) mergeRuns() []float64 {
+	runs, bounds := sc.runs, sc.bounds
+	if cap(sc.buf) < len(runs) {
+		sc.buf = make([]float64, 0, cap(runs))
+	}
+	buf := sc.buf[:0]
 	for len(bounds) > 2 {
-		next := []int{0}
+		next := sc.nxt[:0]
+		next = append(next, 0)
 		out := buf[:0]
 		for i := 0; i+1 < len(bounds); i += 2 {
 			a := runs[bounds[i]:bounds[i+1]]
@@ -87,8 +108,10 @@ func mergeRuns(runs []float64, bounds []int) []float64 {
 			out = merge(out, a, b)
 			next = append(next, len(out))
 		}
+		sc.nxt = bounds[:0]
 		runs, buf, bounds = out, runs, next
 	}
+	sc.runs, sc.buf, sc.bounds = runs, buf, bounds
 	return runs
 }
 

@@ -54,6 +54,8 @@ func finestByDefinition(cs []Cluster) []Cluster {
 
 func TestBuildMatchesSortedDefinition(t *testing.T) {
 	rng := rand.New(rand.NewSource(4))
+	var sc Scratch
+	var dst []float64
 	for trial := 0; trial < 300; trial++ {
 		count := 16 + rng.Intn(600)
 		var cs []Cluster
@@ -74,6 +76,10 @@ func TestBuildMatchesSortedDefinition(t *testing.T) {
 		sort.Float64s(extra)
 		reach := 0.4 * rng.Float64()
 		got, want := Build(nil, count, cs, reach, extra), naive(count, cs, reach, extra)
+		if trial%2 == 1 { // a scratch reused from earlier grids gives the same
+			dst = sc.Build(dst, count, cs, reach, extra)
+			got = dst
+		}
 		if len(got) != len(want) {
 			t.Fatalf("trial %d: %d points, want %d", trial, len(got), len(want))
 		}
