@@ -4,6 +4,7 @@ import (
 	"errors"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"sync"
@@ -321,6 +322,11 @@ func (w *jw) loop(l *Loop) {
 // loopChunk is how many loops one goroutine encodes at a time.
 const loopChunk = 128
 
+// loopJSONBytes is a generous size of one loop's JSON (a third-order loop
+// with its poles, margins, step figures, requirements and disk margin
+// takes about 3.5 KB).
+const loopJSONBytes = 4 << 10
+
 // loops writes the loops list; a long one is encoded in chunks side by
 // side, each into a buffer of its own, and written in order.
 func (w *jw) loops(ls []Loop) {
@@ -331,9 +337,12 @@ func (w *jw) loops(ls []Loop) {
 	parts := make([]jw, (len(ls)+loopChunk-1)/loopChunk)
 	each(len(parts), func(k int) {
 		p := &parts[k]
-		p.b = partBufs.get()
-		for i := k * loopChunk; i < min((k+1)*loopChunk, len(ls)); i++ {
-			if i > k*loopChunk {
+		from, to := k*loopChunk, min((k+1)*loopChunk, len(ls))
+		// Sized for the chunk up front: grown by doubling, a chunk's
+		// buffer would be allocated and copied several times over.
+		p.b = slices.Grow(partBufs.get(), (to-from)*loopJSONBytes)
+		for i := from; i < to; i++ {
+			if i > from {
 				p.b = append(p.b, ',')
 			}
 			p.loop(&ls[i])
