@@ -90,6 +90,10 @@ type blockValue struct {
 	// gainNames is gains sorted, set by the block stage before the value
 	// is shared (nil: sort when needed).
 	gainNames []string
+	// sums holds, while the block is evaluated, the value of each sum in
+	// its expression, for its factored form to read rather than evaluate
+	// again (a ratio of two polynomials is a quotient of two sums).
+	sums map[*syntax.Binary]poly.Rational
 }
 
 type evalError struct {
@@ -135,6 +139,8 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 	if v == 0 {
 		evalVar = 'z'
 	}
+	bv.sums = map[*syntax.Binary]poly.Rational{}
+	defer func() { bv.sums = nil }()
 	r, err := ev.expr(d, st.Expr, evalVar, bv)
 	if err != nil {
 		ev.report(d.Path, err.span, Error, err.code, err.msg)
@@ -268,6 +274,9 @@ func (ev *evaluator) factored(d *Decl, e syntax.Expr, bv *blockValue) (lti.Facto
 			}
 			return a.Mul(b), nil
 		}
+		if r, ok := bv.sums[x]; ok {
+			return lti.FromRational(r)
+		}
 		r, err := ev.expr(d, x, 'z', &blockValue{gains: map[string]bool{}})
 		if err != nil {
 			return lti.Factored{}, err
@@ -397,7 +406,11 @@ func (ev *evaluator) expr(d *Decl, e syntax.Expr, v byte, bv *blockValue) (poly.
 		if deg := max(r.Num.Degree(), r.Den.Degree()); deg > MaxBlockDegree {
 			return r, &evalError{exprSpan(x), CodeTooComplex, fmt.Sprintf("this expression has degree %d, above the limit of %d", deg, MaxBlockDegree)}
 		}
-		return checkFinite(r, x)
+		r, err = checkFinite(r, x)
+		if err == nil && bv.sums != nil && v == 'z' && (x.Op == "+" || x.Op == "-") && !x.Juxtaposed {
+			bv.sums[x] = r
+		}
+		return r, err
 	case *syntax.NameRef:
 		return ev.name(d, x, v, bv)
 	}
