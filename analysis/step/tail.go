@@ -46,14 +46,11 @@ func NewTail(final float64, view bool, horizon int) *Tail {
 // Add takes the next sample. Most samples of a long response only move the
 // last exit from the band: that path is kept small enough to inline.
 func (t *Tail) Add(v float64) {
-	if d := v - t.final; t.n >= t.quietUntil || t.sigma*d > t.peak {
-		t.add(v)
-	} else {
-		if d > t.width || -d > t.width {
-			t.last = t.n
-		}
-		t.n++
+	if d := v - t.final; t.n < t.quietUntil && t.sigma*d <= t.peak && math.Abs(d) <= t.width {
+		t.n++ // inside the band, below the peak: no figure moves
+		return
 	}
+	t.add(v)
 }
 
 // add is Add for a sample that may move any figure.
