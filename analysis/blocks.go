@@ -10,6 +10,7 @@ import (
 	"ringside/analysis/pole"
 	"ringside/analysis/poly"
 	"ringside/analysis/roots"
+	"ringside/internal/par"
 	"ringside/syntax"
 )
 
@@ -32,7 +33,7 @@ func (c *checker) blocks(ev *evaluator) {
 	jobs := make(map[*Decl]*blockJob, len(c.res.Scope))
 	for _, level := range levels {
 		done := make([]*blockJob, len(level))
-		parallel(len(level), func(i int) { done[i] = c.blockJob(ev, level[i], false) })
+		par.Each(len(level), func(i int) { done[i] = c.blockJob(ev, level[i], false) })
 		for _, j := range done {
 			ev.memo[j.decl.Name] = j.bv
 			jobs[j.decl] = j

@@ -4,12 +4,11 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
-	"runtime"
 	"slices"
 	"sort"
 	"sync"
-	"sync/atomic"
 
+	"ringside/internal/par"
 	"ringside/syntax"
 )
 
@@ -116,7 +115,7 @@ func (c *checker) run(ctx context.Context) {
 	// source order, so the result does not depend on the scheduling.
 	loops := make([]*Loop, len(stmts))
 	own := make([]*checker, len(stmts))
-	parallel(len(stmts), func(i int) {
+	par.Each(len(stmts), func(i int) {
 		ls := stmts[i]
 		lc := *c
 		lc.diags, lc.pending = &diagList{}, nil
@@ -357,34 +356,6 @@ func (c *checker) gainValues() {
 			c.diags.add(g.Path, s.Value.Span, Error, CodeGainRange, fmt.Sprintf("gain %s = %s is above its declared max %s", name, s.Value, s.Max))
 		}
 	}
-}
-
-// parallel runs f(0) … f(n−1) on as many goroutines as there are
-// processors. Each f must touch only its own index's data.
-func parallel(n int, f func(i int)) {
-	workers := min(runtime.GOMAXPROCS(0), n)
-	if workers <= 1 {
-		for i := 0; i < n; i++ {
-			f(i)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= n {
-					return
-				}
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
 }
 
 func sortedDecls(scope map[string]*Decl) []string {

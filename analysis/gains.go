@@ -10,6 +10,7 @@ import (
 	"ringside/analysis/gainlimit"
 	"ringside/analysis/lti"
 	"ringside/analysis/poly"
+	"ringside/internal/par"
 	"ringside/syntax"
 )
 
@@ -149,7 +150,7 @@ func (c *checker) gainLimits(ctx context.Context) {
 	// loops and the shared evaluator.
 	using := loopsByGain(c.res.Loops)
 	deps := c.dependents()
-	parallel(len(gains), func(i int) {
+	par.Each(len(gains), func(i int) {
 		g := gains[i]
 		if ctx.Err() != nil {
 			return

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strings"
 
+	"ringside/internal/par"
 	"ringside/syntax"
 )
 
@@ -40,7 +41,7 @@ func (c *checker) quietIntegrators() {
 	users := c.blockUsers()
 	// Each note rewrites its own diagnostic (blocks stand in different
 	// places), so they are worded side by side.
-	parallel(len(notes), func(i int) { c.integratorNote(notes[i].b, notes[i].x, users[notes[i].b.Name]) })
+	par.Each(len(notes), func(i int) { c.integratorNote(notes[i].b, notes[i].x, users[notes[i].b.Name]) })
 }
 
 // integratorNote words block b's on-circle finding x by the loops that use

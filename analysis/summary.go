@@ -3,6 +3,8 @@ package analysis
 import (
 	"fmt"
 	"strings"
+
+	"ringside/internal/par"
 )
 
 // Verdict is a loop's one-line verdict in plain words, e.g.
@@ -113,7 +115,7 @@ func intervalText(name string, lim *GainLimits) string {
 // result), then added in source order.
 func (c *checker) summaries() {
 	loops := make([]string, len(c.res.Loops))
-	parallel(len(c.res.Loops), func(i int) {
+	par.Each(len(c.res.Loops), func(i int) {
 		if l := c.res.Loops[i]; l.OK {
 			loops[i] = c.memo.text(loopTextsOf, c.memo.loopKeyOf(l), l.Summary)
 		}
@@ -124,7 +126,7 @@ func (c *checker) summaries() {
 		}
 	}
 	gains := make([]string, len(c.res.Gains))
-	parallel(len(c.res.Gains), func(i int) {
+	par.Each(len(c.res.Gains), func(i int) {
 		if g := c.res.Gains[i]; g.Limits != nil && g.Stmt.Name != nil {
 			key := c.memo.gainKeyOf(g)
 			if g.Vary != nil { // not part of the limits' key

@@ -11,6 +11,7 @@ import (
 	"ringside/analysis/poly"
 	"ringside/analysis/robust"
 	"ringside/analysis/roots"
+	"ringside/internal/par"
 	"ringside/syntax"
 )
 
@@ -113,7 +114,7 @@ func (c *checker) varying(l *Loop) []*Gain {
 func (c *checker) robustLoops(ctx context.Context) {
 	loops := c.res.Loops
 	own := make([]*diagList, len(loops))
-	parallel(len(loops), func(i int) {
+	par.Each(len(loops), func(i int) {
 		l := loops[i]
 		if ctx.Err() != nil || !l.OK {
 			return

@@ -9,6 +9,8 @@ import (
 	"strconv"
 	"sync"
 	"unicode/utf8"
+
+	"ringside/internal/par"
 )
 
 // The contract's JSON is written by hand, field by field, in the order
@@ -335,7 +337,7 @@ func (w *jw) loops(ls []Loop) {
 		return
 	}
 	parts := make([]jw, (len(ls)+loopChunk-1)/loopChunk)
-	each(len(parts), func(k int) {
+	par.Each(len(parts), func(k int) {
 		p := &parts[k]
 		from, to := k*loopChunk, min((k+1)*loopChunk, len(ls))
 		// Sized for the chunk up front: grown by doubling, a chunk's

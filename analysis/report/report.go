@@ -7,6 +7,7 @@ import (
 
 	"ringside/analysis"
 	"ringside/analysis/pole"
+	"ringside/internal/par"
 )
 
 // Doc is the JSON document of `ringside check --format json`
@@ -200,7 +201,7 @@ func buildFile(r *analysis.Result, display func(string) string) File {
 	}
 	// Each loop's entry reads only that loop: built side by side.
 	f.Loops = make([]Loop, len(r.Loops))
-	each(len(r.Loops), func(i int) { f.Loops[i] = loop(r.Loops[i]) })
+	par.Each(len(r.Loops), func(i int) { f.Loops[i] = loop(r.Loops[i]) })
 	for _, g := range r.Gains {
 		out := Gain{Name: g.Name, Value: g.Value, Loops: []string{}}
 		if lim := g.Limits; lim != nil {

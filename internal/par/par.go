@@ -1,4 +1,5 @@
-package report
+// Package par runs independent pieces of work on every processor.
+package par
 
 import (
 	"runtime"
@@ -6,9 +7,10 @@ import (
 	"sync/atomic"
 )
 
-// each runs f(0) … f(n−1) on as many goroutines as there are processors;
-// each f touches only its own index's data.
-func each(n int, f func(i int)) {
+// Each runs f(0) … f(n−1) on as many goroutines as there are processors,
+// each taking the next index as it finishes one (pieces of uneven cost
+// balance themselves). Each f must touch only its own index's data.
+func Each(n int, f func(i int)) {
 	workers := min(runtime.GOMAXPROCS(0), n)
 	if workers <= 1 {
 		for i := 0; i < n; i++ {
