@@ -270,9 +270,10 @@ func (c *checker) analyse(l *Loop, sh loopShape, fwd, fb []element) {
 }
 
 // degenerate explains why the products of a loop's polynomials cannot be
-// trusted: a coefficient that overflowed, or a degree lost to underflow
-// (the product of the denominators must have the sum of their degrees),
-// which would silently drop closed-loop poles.
+// trusted: a coefficient that overflowed, a degree lost to underflow (the
+// product of the denominators must have the sum of their degrees), which
+// would silently drop closed-loop poles, or a direct feedthrough beyond
+// the float64 range.
 func degenerate(l *Loop, es []element) string {
 	if !l.Open.Num.Finite() || !l.Open.Den.Finite() || !l.Char.Finite() {
 		return "a coefficient of the loop's polynomials overflows the float64 range"
@@ -283,6 +284,11 @@ func degenerate(l *Loop, es []element) string {
 	}
 	if l.Open.Den.Degree() != want {
 		return "the product of the denominators underflows (its leading coefficient rounds to zero), so poles would be lost"
+	}
+	if l.Open.RelativeDegree() == 0 {
+		if d := l.Open.Num.Lead() / l.Open.Den.Lead(); math.IsInf(d, 0) || math.IsNaN(d) {
+			return "the loop's direct feedthrough L(∞) overflows the float64 range"
+		}
 	}
 	return ""
 }
