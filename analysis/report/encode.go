@@ -219,13 +219,13 @@ func (w *jw) file(f *File) {
 	w.key("sample_s", false)
 	w.numPtr(f.SampleS)
 	w.key("diagnostics", false)
-	w.list(f.Diagnostics == nil, len(f.Diagnostics), func(i int) { w.diagnostic(&f.Diagnostics[i]) })
+	w.chunked(f.Diagnostics == nil, len(f.Diagnostics), 512, func(p *jw, i int) { p.diagnostic(&f.Diagnostics[i]) })
 	w.key("loops", false)
 	w.loops(f.Loops)
 	w.key("gains", false)
-	w.list(f.Gains == nil, len(f.Gains), func(i int) { w.gain(&f.Gains[i]) })
+	w.chunked(f.Gains == nil, len(f.Gains), 256, func(p *jw, i int) { p.gain(&f.Gains[i]) })
 	w.key("blocks", false)
-	w.list(f.Blocks == nil, len(f.Blocks), func(i int) { w.block(&f.Blocks[i]) })
+	w.chunked(f.Blocks == nil, len(f.Blocks), 512, func(p *jw, i int) { p.block(&f.Blocks[i]) })
 	w.b = append(w.b, '}')
 }
 
@@ -321,7 +321,8 @@ func (w *jw) loop(l *Loop) {
 	w.b = append(w.b, '}')
 }
 
-// loopChunk is how many loops one goroutine encodes at a time.
+// loopChunk is how many elements (loops, diagnostics, gains, blocks) one
+// goroutine encodes at a time.
 const loopChunk = 128
 
 // loopJSONBytes is a generous size of one loop's JSON (a third-order loop
@@ -329,25 +330,33 @@ const loopChunk = 128
 // takes about 3.5 KB).
 const loopJSONBytes = 4 << 10
 
-// loops writes the loops list; a long one is encoded in chunks side by
-// side, each into a buffer of its own, and written in order.
+// loops writes the loops list (chunked).
 func (w *jw) loops(ls []Loop) {
-	if ls == nil || len(ls) < 2*loopChunk {
-		w.list(ls == nil, len(ls), func(i int) { w.loop(&ls[i]) })
+	w.chunked(ls == nil, len(ls), loopJSONBytes, func(p *jw, i int) { p.loop(&ls[i]) })
+}
+
+// chunked writes a list of n elements, or null when isNil, with one(p, i)
+// writing element i into p; a long list is encoded in chunks of
+// loopChunk side by side, each into a buffer of its own sized for
+// about perItem bytes an element, and written in order (the same bytes
+// as one pass).
+func (w *jw) chunked(isNil bool, n, perItem int, one func(p *jw, i int)) {
+	if isNil || n < 2*loopChunk {
+		w.list(isNil, n, func(i int) { one(w, i) })
 		return
 	}
-	parts := make([]jw, (len(ls)+loopChunk-1)/loopChunk)
+	parts := make([]jw, (n+loopChunk-1)/loopChunk)
 	par.Each(len(parts), func(k int) {
 		p := &parts[k]
-		from, to := k*loopChunk, min((k+1)*loopChunk, len(ls))
+		from, to := k*loopChunk, min((k+1)*loopChunk, n)
 		// Sized for the chunk up front: grown by doubling, a chunk's
 		// buffer would be allocated and copied several times over.
-		p.b = slices.Grow(partBufs.get(), (to-from)*loopJSONBytes)
+		p.b = slices.Grow(partBufs.get(), (to-from)*perItem)
 		for i := from; i < to; i++ {
 			if i > from {
 				p.b = append(p.b, ',')
 			}
-			p.loop(&ls[i])
+			one(p, i)
 		}
 	})
 	w.b = append(w.b, '[')

@@ -196,10 +196,10 @@ func buildFile(r *analysis.Result, display func(string) string) File {
 	if r.SampleT > 0 {
 		f.SampleS = finite(r.SampleT)
 	}
-	for _, d := range r.Diagnostics {
-		f.Diagnostics = append(f.Diagnostics, diagnostic(r, d, display))
-	}
-	// Each loop's entry reads only that loop: built side by side.
+	// Each diagnostic's, loop's and block's entry reads only its own: built
+	// side by side.
+	f.Diagnostics = make([]Diagnostic, len(r.Diagnostics))
+	par.Each(len(r.Diagnostics), func(i int) { f.Diagnostics[i] = diagnostic(r, r.Diagnostics[i], display) })
 	f.Loops = make([]Loop, len(r.Loops))
 	par.Each(len(r.Loops), func(i int) { f.Loops[i] = loop(r.Loops[i]) })
 	for _, g := range r.Gains {
@@ -213,11 +213,11 @@ func buildFile(r *analysis.Result, display func(string) string) File {
 		}
 		f.Gains = append(f.Gains, out)
 	}
-	for _, b := range r.Blocks {
-		out := block(b)
-		out.Realization = realization(b.Realization, r.SampleT)
-		f.Blocks = append(f.Blocks, out)
-	}
+	f.Blocks = make([]Block, len(r.Blocks))
+	par.Each(len(r.Blocks), func(i int) {
+		f.Blocks[i] = block(r.Blocks[i])
+		f.Blocks[i].Realization = realization(r.Blocks[i].Realization, r.SampleT)
+	})
 	return f
 }
 
