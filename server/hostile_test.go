@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -154,10 +155,17 @@ func TestEditSupersedesRequest(t *testing.T) {
 	c := newClient(t, clientOptions{})
 	text := bigFile(45000)
 	big := c.open("big.loop", text)
+	// The request holds at its snapshot until the edit has been taken in,
+	// so the order does not depend on how fast either side runs.
+	started, proceed := make(chan struct{}), make(chan struct{})
+	var once sync.Once
+	c.server.afterSnapshot = func() { once.Do(func() { close(started); <-proceed }) }
 	errc := make(chan error, 1)
 	go func() { errc <- c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil) }()
-	time.Sleep(5 * time.Millisecond)
-	c.replace(big, "gain a = 1\n")
+	<-started
+	v := c.replace(big, "gain a = 1\n")
+	c.waitVersion(big, v)
+	close(proceed)
 	err := <-errc
 	var je *jsonrpc2.Error
 	if err == nil || !asRPC(err, &je) || je.Code != -32801 {

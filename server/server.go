@@ -144,6 +144,11 @@ type Server struct {
 	exitSeen    bool
 	scanned     int // finished workspace scans
 	ses         *session
+
+	// afterSnapshot, when set (tests only), runs in a document request
+	// once it holds its snapshot and has released the read loop: a test
+	// can then edit the document while the request is known to be running.
+	afterSnapshot func()
 }
 
 func newServer(ctx context.Context, cfg Config) *Server {

@@ -398,6 +398,9 @@ func (s *Server) docRequest(ctx context.Context, uri protocol.DocumentURI) (*sna
 	sn := s.snapshot()
 	s.reads(ctx, path)
 	async(ctx)
+	if s.afterSnapshot != nil {
+		s.afterSnapshot()
+	}
 	m, src, err := sn.mapper(path)
 	if err != nil {
 		return nil, "", nil, nil, errorf(lspext.CodeRequestFailed, "cannot read %s: %v", path, err)
