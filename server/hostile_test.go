@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"syscall"
 	"testing"
 	"time"
@@ -135,18 +136,33 @@ func TestLongRequestDoesNotHoldReadLoop(t *testing.T) {
 	c := newClient(t, clientOptions{})
 	big := c.open("big.loop", bigFile(45000))
 	small := c.open("stable.loop")
+	// The symbols request holds once it has its snapshot, until the hover
+	// is answered: were the read loop still held, the hover never would be.
+	started, proceed := make(chan struct{}), make(chan struct{})
+	release := sync.OnceFunc(func() { close(proceed) })
+	defer release() // a failing check must not leave the request held
+	c.server.afterSnapshot = holdFirst(started, proceed)
 	order := make(chan string, 2)
 	go func() {
 		c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil)
 		order <- "symbols"
 	}()
-	time.Sleep(5 * time.Millisecond) // let the symbols request go first on the wire
-	c.call(protocol.MethodTextDocumentHover, tdp(small, c.posOf(small, "loop", 0, 6)), nil)
-	order <- "hover"
-	if first := <-order; first != "hover" {
-		t.Fatalf("%s answered first: the read loop was held", first)
+	<-started
+	hovered := make(chan struct{})
+	go func() {
+		c.call(protocol.MethodTextDocumentHover, tdp(small, c.posOf(small, "loop", 0, 6)), nil)
+		close(hovered)
+	}()
+	select {
+	case <-hovered:
+	case <-time.After(waitTimeout):
+		release()
+		t.Fatal("no hover while the symbols request runs: the read loop was held")
 	}
-	<-order
+	release()
+	if first := <-order; first != "symbols" {
+		t.Fatalf("unexpected %s", first)
+	}
 }
 
 // An edit of a document cancels the requests still working on it
@@ -158,14 +174,15 @@ func TestEditSupersedesRequest(t *testing.T) {
 	// The request holds at its snapshot until the edit has been taken in,
 	// so the order does not depend on how fast either side runs.
 	started, proceed := make(chan struct{}), make(chan struct{})
-	var once sync.Once
-	c.server.afterSnapshot = func() { once.Do(func() { close(started); <-proceed }) }
+	release := sync.OnceFunc(func() { close(proceed) })
+	defer release() // a failing check must not leave the request held
+	c.server.afterSnapshot = holdFirst(started, proceed)
 	errc := make(chan error, 1)
 	go func() { errc <- c.call(protocol.MethodTextDocumentDocumentSymbol, docParams(big), nil) }()
 	<-started
 	v := c.replace(big, "gain a = 1\n")
 	c.waitVersion(big, v)
-	close(proceed)
+	release()
 	err := <-errc
 	var je *jsonrpc2.Error
 	if err == nil || !asRPC(err, &je) || je.Code != -32801 {
@@ -325,5 +342,18 @@ func TestRenameRealizedBlock(t *testing.T) {
 	c.applyEdit(&we)
 	if err := syntax.SameTree([]byte(src), []byte(c.text(uri)), map[string]string{"n": "notch"}); err != nil || !strings.Contains(c.text(uri), "realize notch as") {
 		t.Fatalf("%v\n%s", err, c.text(uri))
+	}
+}
+
+// holdFirst returns an afterSnapshot hook that holds the first request to
+// reach it (closing started, then waiting for proceed) and lets every
+// later one through.
+func holdFirst(started, proceed chan struct{}) func() {
+	var held atomic.Bool
+	return func() {
+		if held.CompareAndSwap(false, true) {
+			close(started)
+			<-proceed
+		}
 	}
 }
