@@ -134,8 +134,16 @@ func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error)
 // at MaxSamples (see Horizon). Errors: a figure that overflows (the
 // response grows: the loop is not stable as claimed).
 func FromSamples(y []float64, T, final float64, clamped bool) (Result, error) {
-	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1 - final}
-	figures(&r, clamped)
+	if final != 0 {
+		// The figures' one definition is Tail's, fed every sample.
+		t := NewTail(final, false, len(y))
+		for _, v := range y {
+			t.Add(v)
+		}
+		return t.Result(T, y, clamped)
+	}
+	r := Result{Samples: y, T: T, Final: final, SteadyStateError: 1}
+	zeroFinalFigures(&r, clamped)
 	return r, checkFinite(r)
 }
 
@@ -150,38 +158,19 @@ func checkFinite(r Result) error {
 	return nil
 }
 
-// figures fills overshoot, rise, settling and Settled from the samples.
-func figures(r *Result, clamped bool) {
-	y, f := r.Samples, r.Final
+// zeroFinalFigures fills settling and Settled for a response whose final
+// value is 0: its band is 2 % of the largest sample, known only once every
+// sample is in (overshoot and rise are 0: there is no level to rise to).
+func zeroFinalFigures(r *Result, clamped bool) {
+	y := r.Samples
 	K := len(y)
-	sigma := math.Copysign(1, f)
-	af := math.Abs(f)
-	if f != 0 {
-		peak := 0.0
-		k10, k90 := -1, -1
-		for k, v := range y {
-			peak = math.Max(peak, sigma*(v-f))
-			if k10 < 0 && sigma*v >= 0.1*af {
-				k10 = k
-			}
-			if k90 < 0 && sigma*v >= 0.9*af {
-				k90 = k
-			}
-		}
-		r.OvershootPct = 100 * peak / af
-		if k10 >= 0 && k90 >= 0 {
-			r.RiseTimeS = float64(k90-k10) * r.T
-		}
-	}
-	width := band * af
-	if f == 0 {
-		for _, v := range y {
-			width = math.Max(width, band*math.Abs(v))
-		}
+	width := 0.0
+	for _, v := range y {
+		width = math.Max(width, band*math.Abs(v))
 	}
 	last := -1
 	for k, v := range y {
-		if math.Abs(v-f) > width {
+		if math.Abs(v) > width {
 			last = k
 		}
 	}
@@ -192,7 +181,7 @@ func figures(r *Result, clamped bool) {
 	}
 	tail := 0.0
 	for _, v := range y[K/2:] {
-		tail = math.Max(tail, math.Abs(v-f))
+		tail = math.Max(tail, math.Abs(v))
 	}
 	r.Settled = last+1 <= K/2 && tail <= width/2
 }

@@ -19,8 +19,8 @@ const OvershootSlack = 1e-6
 // the settling time (the last exit from the band is behind), the overshoot
 // (the peak is behind, to OvershootSlack), the rise time (the 90 % level is
 // reached) and, when asked, the samples a view shows (StepShown). Stopping
-// there gives the figures the full horizon would give. The figures are
-// those of figures (same definitions, same order of operations); a
+// there gives the figures the full horizon would give. Tail is the one
+// definition of the figures (FromSamples feeds it every sample); a
 // response with Final = 0, whose band depends on the largest sample of
 // all, keeps its samples and is read by FromSamples instead.
 type Tail struct {
