@@ -20,6 +20,7 @@ import (
 	"math"
 
 	"ringside/analysis/internal/search"
+	"ringside/analysis/poly"
 )
 
 // Margin is a symmetric disk margin.
@@ -115,16 +116,12 @@ func DistanceND(n, d complex128) float64 {
 			return math.NaN() // N = D = 0: no value
 		}
 		_, e := math.Frexp(m)
-		a, b = ldexpC(a, -e), ldexpC(b, -e)
+		a, b = poly.LdexpC(a, -e), poly.LdexpC(b, -e)
 	}
 	return math.Sqrt(sq(a)/sq(b)) / 2
 }
 
 func maxPart(c complex128) float64 { return math.Max(math.Abs(real(c)), math.Abs(imag(c))) }
-
-func ldexpC(c complex128, e int) complex128 {
-	return complex(math.Ldexp(real(c), e), math.Ldexp(imag(c), e))
-}
 
 // sq is |c|².
 func sq(c complex128) float64 {
