@@ -21,19 +21,9 @@ type Cluster struct {
 	Center, Start float64
 }
 
-// Build appends to dst[:0] the sorted distinct angles in [0, π]: count + 1
-// uniform points π·i/count, the points of every cluster (offsets below
-// reach; the last uniform point is π itself; of clusters with the same
-// centre only the finest counts), and the points of extra (sorted
-// ascending); points outside [0, π] are dropped and points within MinGap
-// of the previous one merged.
-func Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
-	var sc Scratch
-	return sc.Build(dst, count, clusters, reach, extra)
-}
-
 // Scratch holds the working arrays of Build, reused from one grid to the
-// next (a check builds a grid per loop, thousands of them).
+// next (a check builds a grid per loop, thousands of them); its zero
+// value is ready to use.
 type Scratch struct {
 	clusters    []Cluster
 	runs, buf   []float64
@@ -41,8 +31,14 @@ type Scratch struct {
 	bounds, nxt []int
 }
 
-// Build is Build with the scratch's arrays; the result is dst's (or a new
-// array when dst is too small), never the scratch's.
+// Build appends to dst[:0] the sorted distinct angles in [0, π]: count + 1
+// uniform points π·i/count, the points of every cluster (offsets below
+// reach; the last uniform point is π itself; of clusters with the same
+// centre only the finest counts), and the points of extra (sorted
+// ascending); points outside [0, π] are dropped and points within MinGap
+// of the previous one merged.
+// The result is dst's array (or a new one when dst is too small), never
+// the scratch's.
 func (sc *Scratch) Build(dst []float64, count int, clusters []Cluster, reach float64, extra []float64) []float64 {
 	cs := sc.finest(clusters)
 	runs := append(sc.runs[:0], extra...)
