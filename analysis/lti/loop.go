@@ -347,6 +347,7 @@ type simulation struct {
 	watch   *step.Tail
 	y       []float64
 	stopped bool
+	leapt   bool // the last exit was found by a leap
 }
 
 // result returns the step figures of the simulation; clamped says the
@@ -381,12 +382,20 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 	tb, early := newTailBound(s, K)
 	sim := simulation{watch: step.NewTail(final, view, K), y: make([]float64, 0, min(keep, 4096))}
 	next := make([]float64, n) // A x + B at the checks
+	nextLeap := leapFrom
 	for k := 0; k < K; k++ {
-		if early && k%tailCheckEvery == 0 && !sim.watch.Pending() {
+		if early && k%tailCheckEvery == 0 && (k >= nextLeap || !sim.watch.Pending()) {
 			rows.step(next, x, s.B)
-			if sim.watch.Done(tb.bounds(x, next, final)) {
+			dev, over := tb.bounds(x, next, final)
+			if sim.watch.Done(dev, over) {
 				sim.stopped = true // samples k on are bounded: none is taken
 				return sim, nil
+			}
+			if k >= nextLeap {
+				if sim.watch.OnlyExitOpen(dev, over) && sim.leap(s, rows, tb, x, k, K, final) {
+					return sim, nil
+				}
+				nextLeap = k + max(k/4, 64)
 			}
 		}
 		v := s.D

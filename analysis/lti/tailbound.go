@@ -26,6 +26,8 @@ type tailBound struct {
 	c     []float64 // C (unscaled)
 	beta  float64
 	yinf  float64
+	// pows[i] is Ã^(2^i), from the squarings (extended by leaps).
+	pows [][]float64
 }
 
 // contraction is the norm ‖Ã^M‖∞ must reach: any value below 1 proves the
@@ -55,15 +57,18 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	a := append([]float64(nil), s.A...)
 	exps := balance(a, n)
 	rows := sparseRows(a, n)
-	M, p, q := 1, append([]float64(nil), a...), make([]float64, n*n)
+	M, p := 1, a
+	pows := [][]float64{a}
 	for normInf(p, n) > contraction {
 		if M *= 2; M >= K {
 			return nil, false
 		}
+		q := make([]float64, n*n)
 		matSquare(q, p, n)
-		p, q = q, p
+		p = q
+		pows = append(pows, q)
 	}
-	t := &tailBound{xinf: xinf, yinf: s.D, scale: make([]float64, n), c: s.C}
+	t := &tailBound{xinf: xinf, yinf: s.D, scale: make([]float64, n), c: s.C, pows: pows}
 	for i, c := range s.C {
 		t.yinf += c * xinf[i]
 		t.scale[i] = math.Ldexp(1, -exps[i])

@@ -73,7 +73,7 @@ func (t *Tail) add(v float64) {
 		t.width = band * t.maxAbs
 	}
 	d := math.Abs(v - f)
-	if d > t.width {
+	if d > t.width { // Outside
 		t.last = t.n
 	}
 	if t.n >= t.lateFrom && d > t.lateDev {
@@ -106,8 +106,41 @@ func (t *Tail) Done(dev, over float64) bool {
 	if t.final == 0 {
 		return dev <= t.width // later |y| ≤ dev cannot widen the band
 	}
-	af := math.Abs(t.final)
-	return dev <= t.width && math.Min(over, dev) <= math.Max(t.peak, OvershootSlack*af)
+	return dev <= t.width && t.peakFixed(dev, over)
+}
+
+// peakFixed reports whether later samples bounded by dev and over (as in
+// Done) leave the overshoot as it is, to OvershootSlack.
+func (t *Tail) peakFixed(dev, over float64) bool {
+	return math.Min(over, dev) <= math.Max(t.peak, OvershootSlack*math.Abs(t.final))
+}
+
+// OnlyExitOpen reports whether, with later samples bounded by dev and over
+// (as in Done), only the last exit from the band is still open: the rise
+// time is fixed, the overshoot is fixed, and no view waits for samples.
+// The last exit may then be searched for without taking every sample
+// (Outside, Settle).
+func (t *Tail) OnlyExitOpen(dev, over float64) bool {
+	return t.final != 0 && !t.view && t.k90 >= 0 && dev >= 0 && t.peakFixed(dev, over)
+}
+
+// Outside reports whether the sample v lies outside the settling band
+// (Final ≠ 0): the one definition of an exit, for Add and for searches.
+func (t *Tail) Outside(v float64) bool { return math.Abs(v-t.final) > t.width }
+
+// Within reports whether a bound dev on |y − Final| keeps a sample in the
+// band.
+func (t *Tail) Within(dev float64) bool { return dev <= t.width }
+
+// Settle closes a search for the last exit (see OnlyExitOpen): last is
+// the last sample found Outside from the current one on (−1 for none), and
+// every sample from upTo on is proven Within the band. The figures are
+// then fixed, as after Done.
+func (t *Tail) Settle(last, upTo int) {
+	if last >= 0 {
+		t.last = last
+	}
+	t.n = max(upTo, t.last+2, t.n)
 }
 
 // Result returns the figures of the samples taken (Final ≠ 0), with
