@@ -78,14 +78,41 @@ func (c *checker) stableAt(name string, k float64, loops []*Loop) bool {
 }
 
 // unstableAt reports whether some loop certainly has a pole outside the
-// circle with the gain at k.
+// circle with the gain at k. A loop whose characteristic polynomial has
+// been fitted as affine in the gain is read first from that polynomial:
+// when its roots are certified within the circle's tolerance band
+// (rootsWithin), no pole of the loop can be certainly outside, and the
+// eigenvalues are not needed; otherwise they decide.
 func (c *checker) unstableAt(name string, k float64, loops []*Loop) bool {
 	for _, l := range loops {
+		if c.rootsWithin(l, name, k) {
+			continue
+		}
 		if _, _, v := c.decideAt(l, name, k); v == lti.Unstable {
 			return true
 		}
 	}
 	return false
+}
+
+// rootsWithin reports whether the loop's characteristic polynomial, as
+// fitted affine in gain name (affineForm, when already fitted), has every
+// root at k certified no farther out than 1 + tolerance, with the fit's
+// coefficient error at k (rootsCertifiedWithin). The loop's poles are those
+// roots (the model and the polynomial are the same loop: common factors
+// are roots of both), so none of them is then certainly outside.
+func (c *checker) rootsWithin(l *Loop, name string, k float64) bool {
+	v, ok := c.forms.Load(formKey{l, name})
+	if !ok || !v.(affineForm).ok {
+		return false
+	}
+	f := v.(affineForm)
+	a, b := f.denA.Add(f.numA), f.denB.Add(f.numB)
+	degree := max(a.Degree(), b.Degree())
+	if degree > MaxAffineDegree {
+		return false
+	}
+	return rootsCertifiedWithin(a.Add(b.Scale(k)), degree, f.errAt(k, 1), c.env.Options.Tolerance)
 }
 
 // verifiedEnds checks the interval (lo, hi) just inside each end (a

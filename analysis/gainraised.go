@@ -120,7 +120,7 @@ func (r *raisedLoops) fails(k float64) bool {
 
 // rootGuard: within this (relative) of a raised span's end, rootOutside
 // is not tried.
-const rootGuard = 1e-3
+const rootGuard = 1e-6
 
 // eigOutside: the raised loop's model at k has a pole certainly outside
 // the circle: its radius less its bound is beyond 1 + tolerance, or beyond
@@ -150,32 +150,69 @@ func (r *raisedLoops) eigOutside(i int, k float64) bool {
 // (affineForm.errAt).
 func (r *raisedLoops) rootOutside(i int, k float64) bool {
 	p := r.a[i].Add(r.b[i].Scale(k))
-	return rootCertifiedOutside(p, r.forms[i].errAt(k, r.alpha[i]), r.c.env.Options.Tolerance)
+	return rootCertifiedOutside(p, r.forms[i].errAt(k, r.alpha[i]), r.c.env.Options.Tolerance, true)
 }
 
 // rootCertifiedOutside reports whether some root z of p lies outside the
 // circle by more than tol and its error bound, when each coefficient of p
-// may be off by e. The bound is first order, as for the eigenvalues
-// (Wilkinson, Rounding Errors in Algebraic Processes, ch. 2: a simple root
-// moves by δp(z)/p'(z)): twice (|p(z)| + e·Σ|z|^m)/|p'(z)|, |p(z)| being
-// the root finder's residual. It must stay below a quarter of the distance
-// to the nearest other root, else z is in a cluster and nothing is
-// claimed.
-func rootCertifiedOutside(p poly.Poly, e, tol float64) bool {
-	p = p.Trim()
-	if p.Degree() < 1 || !p.Finite() {
-		return false
-	}
-	zs, ok := roots.Companion(p)
+// may be off by e (rootBounds); with auxiliary set, also a root outside by
+// twice its bound (the rule eigOutside applies to an auxiliary loop, whose
+// instability needs only the bound).
+func rootCertifiedOutside(p poly.Poly, e, tol float64, auxiliary bool) bool {
+	zs, bounds, ok := rootBounds(p.Trim(), e)
 	if !ok {
 		return false
 	}
+	for j, z := range zs {
+		b := bounds[j]
+		if b >= 0 && (cmplx.Abs(z)-b > 1+tol || auxiliary && cmplx.Abs(z)-2*b > 1) {
+			return true
+		}
+	}
+	return false
+}
+
+// rootsCertifiedWithin reports whether p has its full degree and every root
+// lies within 1 + tol of the origin with its error bound (rootBounds), when
+// each coefficient may be off by e: then no root of the polynomial p stands
+// for is certainly outside the circle. A root in a cluster, or a degree
+// lower than degree (a root gone to infinity), claims nothing.
+func rootsCertifiedWithin(p poly.Poly, degree int, e, tol float64) bool {
+	p = p.Trim()
+	if p.Degree() != degree {
+		return false
+	}
+	zs, bounds, ok := rootBounds(p, e)
+	if !ok {
+		return false
+	}
+	for j, z := range zs {
+		if bounds[j] < 0 || cmplx.Abs(z)+bounds[j] > 1+tol {
+			return false
+		}
+	}
+	return true
+}
+
+// rootBounds returns the roots of p and a first-order error bound on each
+// when each coefficient may be off by e, as for the eigenvalues (Wilkinson,
+// Rounding Errors in Algebraic Processes, ch. 2: a simple root moves by
+// δp(z)/p'(z)): twice (|p(z)| + e·Σ|z|^m)/|p'(z)|, |p(z)| being the root
+// finder's residual. A bound that is not below a quarter of the distance to
+// the nearest other root is −1: the root is in a cluster, where the first
+// order says nothing. ok is false when p has no roots to find.
+func rootBounds(p poly.Poly, e float64) (zs []complex128, bounds []float64, ok bool) {
+	if p.Degree() < 1 || !p.Finite() {
+		return nil, nil, false
+	}
+	zs, ok = roots.Companion(p)
+	if !ok {
+		return nil, nil, false
+	}
 	dp := p.Deriv()
+	bounds = make([]float64, len(zs))
 	for j, z := range zs {
 		az := cmplx.Abs(z)
-		if az <= 1+tol {
-			continue
-		}
 		sum, pw := 0.0, 1.0
 		for range p {
 			sum, pw = sum+pw, pw*az
@@ -187,11 +224,12 @@ func rootCertifiedOutside(p poly.Poly, e, tol float64) bool {
 				sep = math.Min(sep, cmplx.Abs(z-w))
 			}
 		}
-		if bound < sep/4 && az-bound > 1+tol {
-			return true
+		if !(bound < sep/4) {
+			bound = -1
 		}
+		bounds[j] = bound
 	}
-	return false
+	return zs, bounds, true
 }
 
 // likelyUnstable reports whether raised loop i looks unstable at k on its

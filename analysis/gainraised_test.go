@@ -140,8 +140,14 @@ func TestRootCertifiedOutside(t *testing.T) {
 		{"five-fold cluster inside", fromRoots([]float64{0.9995, 0.9995, 0.9995, 0.9995, 0.9995}, nil), false},
 	}
 	for _, c := range cases {
-		if got := rootCertifiedOutside(c.p, e(c.p), tol); got != c.want {
+		if got := rootCertifiedOutside(c.p, e(c.p), tol, false); got != c.want {
 			t.Errorf("%s: certified outside %v, want %v", c.name, got, c.want)
+		}
+		// An auxiliary loop's root needs only be outside by twice its
+		// bound: the one within the tolerance now counts, the cluster not.
+		want := c.want || c.name == "within the tolerance"
+		if got := rootCertifiedOutside(c.p, e(c.p), tol, true); got != want {
+			t.Errorf("%s (auxiliary): certified outside %v, want %v", c.name, got, want)
 		}
 	}
 	rng := rand.New(rand.NewSource(11))
@@ -149,7 +155,7 @@ func TestRootCertifiedOutside(t *testing.T) {
 	for trial := 0; trial < 2000; trial++ {
 		var re []float64
 		var pairs []complex128
-		outside := false
+		outside, beyond := false, false // a root beyond 1 + tol; beyond 1
 		for i := 0; i < 1+rng.Intn(4); i++ {
 			r := 0.9 + 0.2*rng.Float64()
 			if rng.Intn(3) == 0 { // near-duplicates: clusters
@@ -161,17 +167,77 @@ func TestRootCertifiedOutside(t *testing.T) {
 			} else {
 				re = append(re, r*float64(1-2*rng.Intn(2)))
 			}
-			outside = outside || r > 1+tol
+			outside, beyond = outside || r > 1+tol, beyond || r > 1
 		}
 		p := fromRoots(re, pairs)
-		if rootCertifiedOutside(p, e(p), tol) {
+		aux := trial%2 == 0
+		if rootCertifiedOutside(p, e(p), tol, aux) {
 			claimed++
-			if !outside {
+			if !outside && !(aux && beyond) {
 				t.Fatalf("roots %v and pairs %v: no root outside, yet one was certified", re, pairs)
 			}
 		}
 	}
 	if claimed < 100 {
 		t.Fatalf("only %d certificates in 2000 trials: the test does not exercise the claim", claimed)
+	}
+}
+
+// TestRootsCertifiedWithin: the converse certificate unstableAt relies on.
+// Roots well inside and apart are certified within; a root outside, a
+// five-fold cluster (its computed roots scatter across the circle), or a
+// polynomial short of its degree (a root gone to infinity) are not. Over
+// random root sets the certificate never holds when a root lies beyond
+// 1 + tol. (A cluster claims nothing even well inside: the first-order
+// bounds do not hold there, and the eigenvalues decide instead.)
+func TestRootsCertifiedWithin(t *testing.T) {
+	const tol = 1e-6
+	e := func(p poly.Poly) float64 { return 1e-13 * maxAbs(p) }
+	cases := []struct {
+		name   string
+		p      poly.Poly
+		degree int
+		want   bool
+	}{
+		{"all inside", fromRoots([]float64{0.5, 0.9, 0.99}, []complex128{complex(0.3, 0.9)}), 5, true},
+		{"one root at 1.1", fromRoots([]float64{0.5, 0.9, 1.1}, nil), 3, false},
+		{"within the tolerance", fromRoots([]float64{1 + 1e-7, 0.3}, nil), 2, true},
+		{"five-fold cluster inside", fromRoots([]float64{0.9995, 0.9995, 0.9995, 0.9995, 0.9995}, nil), 5, false},
+		{"three-fold cluster well inside", fromRoots([]float64{0.9, 0.9, 0.9}, nil), 3, false},
+		{"a degree short", fromRoots([]float64{0.5, 0.9}, nil), 3, false},
+	}
+	for _, c := range cases {
+		if got := rootsCertifiedWithin(c.p, c.degree, e(c.p), tol); got != c.want {
+			t.Errorf("%s: certified within %v, want %v", c.name, got, c.want)
+		}
+	}
+	rng := rand.New(rand.NewSource(12))
+	certified := 0
+	for trial := 0; trial < 2000; trial++ {
+		var re []float64
+		var pairs []complex128
+		outside := false
+		for i := 0; i < 1+rng.Intn(4); i++ {
+			r := 0.8 + 0.22*rng.Float64()
+			if rng.Intn(3) == 0 { // near-duplicates: clusters
+				r = 0.999 + 0.002*rng.Float64()
+			}
+			if rng.Intn(2) == 0 {
+				pairs = append(pairs, cmplx.Rect(r, rng.Float64()*3))
+			} else {
+				re = append(re, r*float64(1-2*rng.Intn(2)))
+			}
+			outside = outside || r > 1+tol
+		}
+		p := fromRoots(re, pairs)
+		if rootsCertifiedWithin(p, p.Degree(), e(p), tol) {
+			certified++
+			if outside {
+				t.Fatalf("roots %v and pairs %v: a root is outside, yet all were certified within", re, pairs)
+			}
+		}
+	}
+	if certified < 100 {
+		t.Fatalf("only %d certificates in 2000 trials: the test does not exercise the claim", certified)
 	}
 }

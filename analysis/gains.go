@@ -66,18 +66,30 @@ type affineForm struct {
 	numA, numB, denA, denB poly.Poly
 	ok                     bool
 	// k0, h: the fit's centre and width; numScale, denScale: the largest
-	// coefficient of num and den over its four values (the check's scale).
+	// coefficient of num and den over its four values (the check's scale);
+	// numResid, denResid: the largest coefficient difference between the
+	// fit and the evaluated polynomials at the two values it was checked at.
 	k0, h              float64
 	numScale, denScale float64
+	numResid, denResid float64
 }
 
-// errAt bounds the error of each coefficient of den + alpha·num at k: the
-// fit agrees with the evaluated polynomials to AffineTolerance of their
-// scale at four values spread over a width h around k0, and an affine
-// function's error grows at most linearly away from them (by the distance
-// over the closest pair's spacing, 0.37·h).
+// FitRounding is the relative coefficient error an evaluated polynomial
+// may carry from rounding (products and sums of degree ≤ 64 stay near
+// 1e-13, see AffineTolerance): the least error errAt assumes, even where
+// the check values happened to agree exactly.
+const FitRounding = 1e-13
+
+// errAt bounds the error of each coefficient of den + alpha·num at k: at
+// the fit's four values, spread over a width h around k0, the fit and the
+// evaluated polynomials differ by the residuals measured at the two check
+// values (at least FitRounding of their scale: the rounding of an
+// evaluation), and an affine function's error grows at most linearly away
+// from them (by the distance over the closest pair's spacing, 0.37·h).
 func (f affineForm) errAt(k, alpha float64) float64 {
-	return AffineTolerance * (f.denScale + math.Abs(alpha)*f.numScale) * (1 + math.Abs(k-f.k0)/(0.37*f.h))
+	den := math.Max(f.denResid, FitRounding*f.denScale)
+	num := math.Max(f.numResid, FitRounding*f.numScale)
+	return (den + math.Abs(alpha)*num) * (1 + math.Abs(k-f.k0)/(0.37*f.h))
 }
 
 type formKey struct {
@@ -109,23 +121,25 @@ func (c *checker) fitAffine(l *Loop, name string, k0 float64) affineForm {
 		}
 		nums, dens = append(nums, open.Num), append(dens, open.Den)
 	}
-	line := func(ps []poly.Poly) (a, b poly.Poly, scale float64, ok bool) {
+	line := func(ps []poly.Poly) (a, b poly.Poly, scale, resid float64, ok bool) {
 		b = ps[1].Sub(ps[0]).Scale(1 / (ks[1] - ks[0]))
 		a = ps[0].Sub(b.Scale(k0))
 		for _, p := range ps {
 			scale = math.Max(scale, maxAbs(p))
 		}
 		for i := 2; i < len(ks); i++ {
-			if !a.Add(b.Scale(ks[i]-k0)).Add(b.Scale(k0)).Equal(ps[i], AffineTolerance*math.Max(scale, 1e-300)) {
-				return nil, nil, 0, false
+			d := maxAbs(a.Add(b.Scale(ks[i] - k0)).Add(b.Scale(k0)).Sub(ps[i]))
+			if !(d <= AffineTolerance*math.Max(scale, 1e-300)) {
+				return nil, nil, 0, 0, false
 			}
+			resid = math.Max(resid, d)
 		}
-		return a, b, scale, true
+		return a, b, scale, resid, true
 	}
 	f := affineForm{k0: k0, h: h}
 	var ok1, ok2 bool
-	f.numA, f.numB, f.numScale, ok1 = line(nums)
-	f.denA, f.denB, f.denScale, ok2 = line(dens)
+	f.numA, f.numB, f.numScale, f.numResid, ok1 = line(nums)
+	f.denA, f.denB, f.denScale, f.denResid, ok2 = line(dens)
 	f.ok = ok1 && ok2
 	return f
 }
