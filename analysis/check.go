@@ -69,6 +69,9 @@ type checker struct {
 	base *evaluator
 	// pending are loop diagnostics waiting for gain fixes.
 	pending []pendingFix
+	// using lists, per gain, the analysed loops that depend on it (set by
+	// the gain-limit stage).
+	using map[string][]*Loop
 	// trial marks the loop analyses of a fix search: figures that no
 	// requirement of the loop needs are skipped (see wants).
 	trial bool

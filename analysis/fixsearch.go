@@ -64,12 +64,7 @@ func (c *checker) fitGain(g *Gain) *GainFit {
 	if lim == nil || !lim.Found {
 		return nil
 	}
-	var loops []*Loop
-	for _, l := range c.res.Loops {
-		if l.OK && contains(lim.Loops, l.Name) {
-			loops = append(loops, l)
-		}
-	}
+	loops := c.using[g.Name] // the loops of lim.Loops
 	if len(loops) == 0 {
 		return nil
 	}
@@ -380,10 +375,7 @@ func (c *checker) writtenRequirements(g *Gain) bool {
 	if g.Limits == nil {
 		return false
 	}
-	for _, l := range c.res.Loops {
-		if !contains(g.Limits.Loops, l.Name) {
-			continue
-		}
+	for _, l := range c.using[g.Name] { // the loops of g.Limits.Loops
 		for _, q := range l.Requirements {
 			if q.Item != nil {
 				return true

@@ -163,6 +163,7 @@ func (c *checker) gainLimits(ctx context.Context) {
 	// Gains are independent of each other: each search only reads the
 	// loops and the shared evaluator.
 	using := loopsByGain(c.res.Loops)
+	c.using = using
 	deps := c.dependents()
 	par.Each(len(gains), func(i int) {
 		g := gains[i]
