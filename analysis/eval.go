@@ -130,7 +130,7 @@ func (ev *evaluator) block(d *Decl) *blockValue {
 	if st.Expr == nil {
 		return bv
 	}
-	v, ok := ev.blockVar(d)
+	v, ok := ev.baseVar(d)
 	if !ok {
 		return bv
 	}
@@ -311,6 +311,17 @@ func exprSpan(e syntax.Expr) syntax.Span { return syntax.Span{From: e.Pos(), To:
 
 // blockVar decides whether a block is in s, in z, or a constant: the
 // variables written in it, and the blocks it names. Mixed use is reported.
+// baseVar is blockVar, read from the base evaluation when this one is a
+// sweep or an assignment (gain values do not change a block's variable).
+func (ev *evaluator) baseVar(d *Decl) (byte, bool) {
+	if ev.base != nil {
+		if bv, ok := ev.base.memo[d.Name]; ok && !bv.busy && bv.v != 0 {
+			return bv.v, true
+		}
+	}
+	return ev.blockVar(d)
+}
+
 func (ev *evaluator) blockVar(d *Decl) (byte, bool) {
 	var sAt, zAt *syntax.VarRef
 	var sBlock *syntax.NameRef
