@@ -66,11 +66,28 @@ func (c *checker) decideAt(l *Loop, name string, k float64) (*lti.Loop, []lti.Po
 	return m, ps, v
 }
 
+// stableModelAt returns the model of loop l with the gain at k and its
+// poles when it is certainly stable there; ok is false otherwise. Most
+// values a search rejects are rejected from eigenvalues alone
+// (CannotBeStable), without the bounds.
+func (c *checker) stableModelAt(l *Loop, name string, k float64) (m *lti.Loop, ps []lti.Pole, ok bool) {
+	m, built := c.modelAt(l, name, k)
+	if !built || m.CannotBeStable(c.env.Options.Tolerance) {
+		return nil, nil, false
+	}
+	ps, err := m.Poles()
+	if err != nil {
+		return nil, nil, false
+	}
+	v, _ := lti.Decide(ps, c.env.Options.Tolerance)
+	return m, ps, v == lti.Stable
+}
+
 // stableAt reports whether every loop is certainly stable with the gain at
 // k: an eigenvalue check whose bounds keep every pole inside the circle.
 func (c *checker) stableAt(name string, k float64, loops []*Loop) bool {
 	for _, l := range loops {
-		if _, _, v := c.decideAt(l, name, k); v != lti.Stable {
+		if _, _, ok := c.stableModelAt(l, name, k); !ok {
 			return false
 		}
 	}
@@ -132,8 +149,8 @@ func (c *checker) verifiedEnds(name string, lo, hi *float64, loops []*Loop) bool
 func (c *checker) excess(name string, k float64, loops []*Loop) float64 {
 	worst := math.Inf(1)
 	for _, l := range loops {
-		m, ps, v := c.decideAt(l, name, k)
-		if v != lti.Stable {
+		m, ps, ok := c.stableModelAt(l, name, k)
+		if !ok {
 			return math.NaN()
 		}
 		gm, err := freq.GainMarginFactors(m.Factors(ps), c.res.SampleT)

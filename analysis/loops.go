@@ -489,7 +489,7 @@ func (c *checker) verdictDiagnostics(l *Loop, fwd, fb []element) {
 // editor user chooses whether it is one.
 func (c *checker) flipSignFix(x *Diagnostic, l *Loop, fwd, fb []element) {
 	flipped, err := model(fwd, fb, !l.Positive)
-	if err != nil {
+	if err != nil || flipped.CannotBeStable(c.env.Options.Tolerance) {
 		return
 	}
 	if ps, err := flipped.Poles(); err != nil {

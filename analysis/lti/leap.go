@@ -23,7 +23,7 @@ package lti
 
 // leapFrom is the first sample at which a leap is tried: shorter responses
 // are cheaper to step to the end.
-const leapFrom = 512
+const leapFrom = 256
 
 // leapSlack is the width (samples) at which the bisection stops; the
 // backward scan steps at least this many samples.
