@@ -8,8 +8,9 @@ import "math"
 // coordinates x = S x̃ (S = diag(2^sᵢ) from balance: exact, and a state
 // whose parts differ in size by many orders, as an integrator's beside a
 // fast lag's, no longer makes the ∞-norm loose), Ã = S⁻¹AS, C̃ = CS. Take
-// M, a power of two, with ‖Ã^M‖∞ ≤ contraction < 1 (found by repeated
-// squaring) and β = max over r < M of ‖C̃ Ãʳ‖₁; writing m = qM + r,
+// M with ‖Ã^M‖∞ ≤ contraction < 1 (a power of two found by repeated
+// squaring, then brought down by bisection: leastContracting) and
+// β = max over r < M of ‖C̃ Ãʳ‖₁; writing m = qM + r,
 //
 //	|C Aᵐ e| = |C̃ Ãʳ (Ã^M)^q ẽ| ≤ ‖C̃ Ãʳ‖₁ ‖Ã^M‖∞^q ‖ẽ‖∞ ≤ β ‖S⁻¹e‖∞
 //
@@ -68,6 +69,7 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		p = q
 		pows = append(pows, q)
 	}
+	M = leastContracting(pows, M, n)
 	t := &tailBound{xinf: xinf, yinf: s.D, scale: make([]float64, n), c: s.C, pows: pows}
 	for i, c := range s.C {
 		t.yinf += c * xinf[i]
@@ -99,6 +101,60 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	}
 	t.beta *= tailSafety
 	return t, !math.IsInf(t.beta, 0) && !math.IsNaN(t.beta) && !math.IsNaN(t.yinf)
+}
+
+// leastContracting lowers M, a power of two with ‖Ã^M‖∞ ≤ contraction
+// (pows[i] = Ã^(2^i), the last one Ã^M), to about the least such power
+// by bisection between M/2 and M: each try is a product of the squared
+// powers (n³ work per factor), while every unit of M saved spares one row
+// of β (a slow loop's M runs to thousands). Any M with the norm below
+// contraction keeps the proof.
+func leastContracting(pows [][]float64, M, n int) int {
+	if M < 64 {
+		return M
+	}
+	lo, hi := M/2, M // the norm exceeds contraction at lo, not at hi
+	p, q := make([]float64, n*n), make([]float64, n*n)
+	for hi-lo > M/16 {
+		mid := lo + (hi-lo)/2
+		powerOf(p, q, pows, mid, n)
+		if normInf(p, n) <= contraction {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	return hi
+}
+
+// powerOf sets dst = Ã^m from the squared powers (q is scratch).
+func powerOf(dst, q []float64, pows [][]float64, m, n int) {
+	first := true
+	for i := 0; m > 0; i, m = i+1, m>>1 {
+		if m&1 == 0 {
+			continue
+		}
+		if first {
+			copy(dst, pows[i])
+			first = false
+			continue
+		}
+		matMul(q, dst, pows[i], n)
+		copy(dst, q)
+	}
+}
+
+// matMul sets dst = p·q for n×n matrices.
+func matMul(dst, p, q []float64, n int) {
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			s := 0.0
+			for k := 0; k < n; k++ {
+				s += p[i*n+k] * q[k*n+j]
+			}
+			dst[i*n+j] = s
+		}
+	}
 }
 
 // bounds returns dev, a bound on |y[j] − final|, and over, a bound on
