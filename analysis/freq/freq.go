@@ -636,10 +636,14 @@ func roots(f, scale func(float64) float64, grid, fv, sv []float64) []float64 {
 			out = append(out, grid[i]) // touch at an end (h is even about 0 and π)
 			continue
 		}
-		if i == 0 || i == last || zero[i-1] || zero[i+1] || v[i-1]*v[i] < 0 || v[i]*v[i+1] < 0 {
+		if i == 0 || i == last {
 			continue
 		}
-		if math.Abs(v[i]) > math.Abs(v[i-1]) || math.Abs(v[i]) > math.Abs(v[i+1]) {
+		// Most points are not a local minimum of |f|: that test first.
+		if a := math.Abs(v[i]); a > math.Abs(v[i-1]) || a > math.Abs(v[i+1]) {
+			continue
+		}
+		if zero[i-1] || zero[i+1] || v[i-1]*v[i] < 0 || v[i]*v[i+1] < 0 {
 			continue
 		}
 		s := math.Copysign(1, v[i])
