@@ -400,6 +400,12 @@ func (s *safeSearch) above(k0, e0 float64) {
 	s.lim.SafeMax = &v
 }
 
+// belowDepth is how far the search below a failing value goes: candidates
+// down to 2^−20 (about a millionth) of it, and as far below it as 2^20/64
+// times its size. A gain a millionth of the one written is not a fix the
+// engineer would take, and every candidate costs a certificate or a check.
+const belowDepth = 20
+
 // below handles a failing current value: it looks below it, inside the
 // stable interval when one is known, for a value that passes, then
 // bisects up to the switch point.
@@ -417,7 +423,7 @@ func (s *safeSearch) below(k0 float64) {
 	}
 	step := math.Max(math.Abs(k0), 1e-6) / 64
 	var cands []float64
-	for i := 0; i < 40; i++ {
+	for i := 0; i < belowDepth; i++ {
 		cands = append(cands, top-step*math.Pow(2, float64(i)))
 		if k0 > 0 {
 			cands = append(cands, top*math.Pow(0.5, float64(i+1)))
@@ -434,7 +440,7 @@ func (s *safeSearch) below(k0 float64) {
 			return
 		}
 	}
-	lim.SafeMaxNote = "no value below the current one keeps every loop stable with its required gain margin"
+	lim.SafeMaxNote = "no value from the current one down to a millionth of it keeps every loop stable with its required gain margin"
 }
 
 func contains(list []string, s string) bool {
