@@ -115,9 +115,12 @@ func (c *checker) fitAffine(l *Loop, name string, k0 float64) affineForm {
 	ks := []float64{k0, k0 + 0.37*h, k0 - 0.61*h, k0 + 1.43*h}
 	var nums, dens []poly.Poly
 	for _, k := range ks {
-		_, open, ok := c.loopAt(l, name, k)
-		if !ok {
-			return affineForm{}
+		open := l.Open // the loop as analysed, at the declared value
+		if k != c.base.gain(name) || open.Num == nil {
+			var ok bool
+			if _, open, ok = c.loopAt(l, name, k); !ok {
+				return affineForm{}
+			}
 		}
 		nums, dens = append(nums, open.Num), append(dens, open.Den)
 	}
