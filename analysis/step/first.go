@@ -9,8 +9,11 @@ import (
 
 // First returns the first n samples of the unit step response of h = B/A,
 // stable or not: for an unstable loop, what the engineer must see is how
-// the output runs away. The difference equation is Simulate's (A made
-// monic). It stops early, returning the samples so far, at the first
+// the output runs away. The difference equation, with A made monic, is
+//
+//	y[k] = Σᵢ bᵢ u[k−n+i] − Σ_{i<n} aᵢ y[k−n+i],  u[k] = 1 for k ≥ 0.
+//
+// It stops early, returning the samples so far, at the first
 // sample whose magnitude exceeds limit (a growing response need not be
 // followed to overflow). Errors: zero or non-finite polynomials, improper
 // h.

@@ -3,10 +3,11 @@ package step
 import (
 	"math"
 	"math/cmplx"
-	"ringside/analysis/internal/fuzzin"
 	"testing"
 	"time"
 
+	"ringside/analysis/internal/fuzzin"
+	"ringside/analysis/poly"
 	"ringside/analysis/roots"
 )
 
@@ -14,15 +15,18 @@ import (
 // to MaxSamples, so 16 keeps each call in the milliseconds.
 const fuzzMaxDegree = 16
 
-// fuzzTimeLimit bounds one Simulate call.
+// fuzzTimeLimit bounds one run of a response.
 const fuzzTimeLimit = 10 * time.Second
 
-// FuzzStep checks that Simulate never panics or hangs, that it refuses bad
-// input (and unstable responses) with an error, and that on success the
-// horizon lies in [MinSamples, MaxSamples], every sample and every figure
-// is finite, and the figures keep their documented signs. The pole radius
-// passed is either the true one (from roots.Find) or a fuzzed one, which may
-// be wrong: a wrong radius may shorten the horizon but must not crash.
+// FuzzStep runs the package's own path for a transfer function, hostile or
+// not: Horizon for the given pole radius, First for the samples, FromSamples
+// for the figures. It checks that nothing panics or hangs, that First
+// refuses what has no difference equation (zero or non-finite polynomials,
+// an improper h), and that on success every sample and every figure is
+// finite and the figures keep their documented signs. The pole radius is
+// either the true one (from roots.Find) or a fuzzed one, which may be wrong
+// or invalid: that may shorten the horizon or let the response grow, which
+// FromSamples must then refuse, but must not crash.
 func FuzzStep(f *testing.F) {
 	f.Add([]byte{}, byte(0), byte(0))
 	f.Add([]byte{0, 0, 7, 8, 4, 0, 1, 7, 248, 4, 6, 0}, byte(1), byte(0))                // 0.5/(z-0.5)
@@ -46,27 +50,25 @@ func FuzzStep(f *testing.F) {
 		done := make(chan struct{})
 		go func() {
 			defer close(done)
-			res, err = Simulate(h, T, r)
+			res, err = runStep(h, T, r)
 		}()
 		select {
 		case <-done:
 		case <-time.After(fuzzTimeLimit):
-			t.Fatalf("Simulate(%v, %v, %v) did not return within %v", h, T, r, fuzzTimeLimit)
+			t.Fatalf("step of %v (T %v, radius %v) did not return within %v", h, T, r, fuzzTimeLimit)
 		}
 		if err != nil {
 			return
 		}
-		bad := !(T > 0) || math.IsInf(T, 0) || !(r >= 0 && r < 1) || h.Num.IsZero() || h.Den.IsZero() ||
-			!h.Num.Finite() || !h.Den.Finite() || h.Num.Trim().Degree() > h.Den.Trim().Degree()
-		if bad {
-			t.Fatalf("Simulate(%v, %v, %v) succeeded, want an error", h, T, r)
+		if h.Num.IsZero() || h.Den.IsZero() || !h.Num.Finite() || !h.Den.Finite() || h.Num.Trim().Degree() > h.Den.Trim().Degree() {
+			t.Fatalf("step of %v succeeded, want an error", h)
 		}
-		if len(res.Samples) < MinSamples || len(res.Samples) > MaxSamples {
-			t.Fatalf("Simulate(%v, %v, %v): %d samples", h, T, r, len(res.Samples))
+		if len(res.Samples) > MaxSamples {
+			t.Fatalf("step of %v (radius %v): %d samples", h, r, len(res.Samples))
 		}
 		for k, y := range res.Samples {
 			if math.IsNaN(y) || math.IsInf(y, 0) {
-				t.Fatalf("Simulate(%v, %v, %v): y[%d] = %v", h, T, r, k, y)
+				t.Fatalf("step of %v (T %v, radius %v): y[%d] = %v", h, T, r, k, y)
 			}
 		}
 		for _, v := range []struct {
@@ -74,13 +76,24 @@ func FuzzStep(f *testing.F) {
 			v    float64
 		}{{"final", res.Final}, {"overshoot", res.OvershootPct}, {"rise", res.RiseTimeS}, {"settling", res.SettlingS}, {"steady-state error", res.SteadyStateError}} {
 			if math.IsNaN(v.v) || math.IsInf(v.v, 0) {
-				t.Fatalf("Simulate(%v, %v, %v): %s = %v", h, T, r, v.name, v.v)
+				t.Fatalf("step of %v (T %v, radius %v): %s = %v", h, T, r, v.name, v.v)
 			}
 		}
-		if res.OvershootPct < 0 || res.RiseTimeS < 0 || res.SettlingS < 0 {
-			t.Fatalf("Simulate(%v, %v, %v): negative figure %+v", h, T, r, res)
+		if T > 0 && (res.OvershootPct < 0 || res.RiseTimeS < 0 || res.SettlingS < 0) {
+			t.Fatalf("step of %v (T %v, radius %v): negative figure %+v", h, T, r, res)
 		}
 	})
+}
+
+// runStep is the package's path for h: the horizon for radius r, First's
+// samples over it, FromSamples' figures with the DC gain B(1)/A(1).
+func runStep(h poly.Rational, T, r float64) (Result, error) {
+	K, clamped := Horizon(h.Den.Trim().Degree(), r)
+	y, err := First(h, K, math.MaxFloat64)
+	if err != nil {
+		return Result{}, err
+	}
+	return FromSamples(y, T, h.Num.Eval(1)/h.Den.Eval(1), clamped)
 }
 
 // fuzzRadius maps a byte to a pole radius, valid or not.

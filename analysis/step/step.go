@@ -1,13 +1,14 @@
-// Package step computes the closed-loop step response, reference to output,
-// of a stable discrete transfer function by running its difference equation
-// exactly, and reads the usual time-domain figures off the samples.
+// Package step defines the time-domain figures of a closed-loop step
+// response (reference to output) and reads them off its samples: as they
+// are produced (Tail, fed by the state-space simulation of package lti) or
+// from a stored response (FromSamples). It also fixes the simulation's
+// horizon (Horizon) and runs the difference equation of a transfer function
+// for the first samples of any response, stable or not (First, for views).
 package step
 
 import (
 	"fmt"
 	"math"
-
-	"ringside/analysis/poly"
 )
 
 // Result is a unit step response y[k] and its figures.
@@ -76,64 +77,16 @@ func Horizon(n int, r float64) (k int, clamped bool) {
 	return max(MinSamples, int(total)), false
 }
 
-// Simulate returns the unit step response of h = B/A at sample period T.
-// h must be proper (deg B ≤ deg A) and stable; maxPoleRadius is the largest
-// pole radius, as the caller computed it, and must lie in [0, 1). The
-// difference equation with A normalised to be monic,
-//
-//	y[k] = Σᵢ bᵢ u[k−n+i] − Σ_{i<n} aᵢ y[k−n+i],  u[k] = 1 for k ≥ 0,
-//
-// is run for K samples: the smallest K with K^(n−1)·r^K ≤ HorizonDecay
-// (r = maxPoleRadius, multiplicity allowance n), plus n, clamped to
-// [MinSamples, MaxSamples]. Errors: T not finite
-// and positive, zero or non-finite polynomials, improper h, maxPoleRadius
-// outside [0, 1), A(1) = 0 or a DC gain B(1)/A(1) that overflows, or a
-// response or step figure that overflows.
-func Simulate(h poly.Rational, T float64, maxPoleRadius float64) (Result, error) {
-	if !(T > 0) || math.IsInf(T, 0) {
-		return Result{}, fmt.Errorf("step: sample period %v s must be finite and positive", T)
-	}
-	if !h.Num.Finite() || !h.Den.Finite() {
-		return Result{}, fmt.Errorf("step: non-finite coefficient in %v / %v", []float64(h.Num), []float64(h.Den))
-	}
-	b, a := h.Num.Trim(), h.Den.Trim()
-	if len(a) == 0 || len(b) == 0 {
-		return Result{}, fmt.Errorf("step: zero numerator or denominator")
-	}
-	if len(b) > len(a) {
-		return Result{}, fmt.Errorf("step: improper transfer function (numerator degree %d > denominator degree %d): not causal", len(b)-1, len(a)-1)
-	}
-	if !(maxPoleRadius >= 0 && maxPoleRadius < 1) {
-		return Result{}, fmt.Errorf("step: largest pole radius %v is not in [0, 1): the closed loop is not stable", maxPoleRadius)
-	}
-	n := len(a) - 1
-	lead := a[n]
-	a, b = a.Scale(1/lead), b.Scale(1/lead)
-	a1 := a.Eval(1)
-	if a1 == 0 {
-		return Result{}, fmt.Errorf("step: denominator vanishes at z = 1: a pole on the circle, not stable")
-	}
-	final := b.Eval(1) / a1
-	if math.IsInf(final, 0) || math.IsNaN(final) {
-		// A(1) is rounding-level small: numerically a pole at z = 1.
-		return Result{}, fmt.Errorf("step: DC gain B(1)/A(1) overflows: a pole at (or within rounding of) z = 1, not stable")
-	}
-	bsum := make([]float64, n+1) // bsum[i] = b_i (zero-padded)
-	copy(bsum, b)
-
-	K, clamped := Horizon(n, maxPoleRadius)
-	y := run(bsum, a, K, math.MaxFloat64)
-	if last := y[len(y)-1]; len(y) < K || math.IsInf(last, 0) || math.IsNaN(last) {
-		return Result{}, fmt.Errorf("step: response overflows at sample %d: the closed loop is not stable as claimed", len(y)-1)
-	}
-	return FromSamples(y, T, final, clamped)
-}
-
 // FromSamples reads the step figures off the samples y of a unit step
 // response with steady-state value final; clamped says the horizon was cut
-// at MaxSamples (see Horizon). Errors: a figure that overflows (the
-// response grows: the loop is not stable as claimed).
+// at MaxSamples (see Horizon). Errors: a sample or a figure that is not
+// finite (the response grows: the loop is not stable as claimed).
 func FromSamples(y []float64, T, final float64, clamped bool) (Result, error) {
+	for k, v := range y {
+		if v-v != 0 { // ±Inf or NaN
+			return Result{}, fmt.Errorf("step: the response overflows at sample %d: the closed loop is not stable as claimed", k)
+		}
+	}
 	if final != 0 {
 		// The figures' one definition is Tail's, fed every sample.
 		t := NewTail(final, false, len(y))

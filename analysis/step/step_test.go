@@ -7,6 +7,23 @@ import (
 	"ringside/analysis/poly"
 )
 
+// stepOf is the response of a stable h = B/A over its horizon (Horizon, r
+// its largest pole radius), run by First and read by FromSamples with the
+// DC gain B(1)/A(1): the published figures below check both.
+func stepOf(t *testing.T, h poly.Rational, T, r float64) Result {
+	t.Helper()
+	K, clamped := Horizon(h.Den.Trim().Degree(), r)
+	y, err := First(h, K, math.MaxFloat64)
+	if err != nil || len(y) < K {
+		t.Fatalf("First: %d of %d samples, %v", len(y), K, err)
+	}
+	res, err := FromSamples(y, T, h.Num.Eval(1)/h.Den.Eval(1), clamped)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
 // TestFirstOrder (a chosen so no threshold is hit exactly): H = (1 − a)z/(z − a) gives y[k] = 1 − a^(k+1) (geometric
 // series; derivation: y[k] = a·y[k−1] + (1 − a)). The 2 % band is left for
 // the last time at the largest k with a^(k+1) > 0.02, so settling is at
@@ -16,10 +33,7 @@ func TestFirstOrder(t *testing.T) {
 	const T = 0.01
 	for _, a := range []float64{0.91, 0.5, 0.97, 0.3} {
 		h := poly.R(poly.New(0, 1-a), poly.New(-a, 1))
-		r, err := Simulate(h, T, a)
-		if err != nil {
-			t.Fatal(err)
-		}
+		r := stepOf(t, h, T, a)
 		for k, y := range r.Samples {
 			if want := 1 - math.Pow(a, float64(k+1)); math.Abs(y-want) > 1e-12 {
 				t.Fatalf("a=%g y[%d] = %.15g, want %.15g", a, k, y, want)
@@ -46,10 +60,7 @@ func TestFirstOrder(t *testing.T) {
 // sample later: y[k] = 1 − a^k; a negative gain mirrors it.
 func TestDelayedFirstOrder(t *testing.T) {
 	const a = 0.8
-	r, err := Simulate(poly.R(poly.New(-2*(1-a)), poly.New(-a, 1)), 1, a)
-	if err != nil {
-		t.Fatal(err)
-	}
+	r := stepOf(t, poly.R(poly.New(-2*(1-a)), poly.New(-a, 1)), 1, a)
 	for k, y := range r.Samples {
 		if want := -2 * (1 - math.Pow(a, float64(k))); math.Abs(y-want) > 1e-12 {
 			t.Fatalf("y[%d] = %g, want %g", k, y, want)
@@ -70,10 +81,7 @@ func TestSecondOrderOvershoot(t *testing.T) {
 		sr, si := -zeta*wn, wn*math.Sqrt(1-zeta*zeta)
 		r := math.Exp(sr * T)
 		den := poly.New(r*r, -2*r*math.Cos(si*T), 1)
-		res, err := Simulate(poly.R(poly.New(den.Eval(1)), den), T, r)
-		if err != nil {
-			t.Fatal(err)
-		}
+		res := stepOf(t, poly.R(poly.New(den.Eval(1)), den), T, r)
 		want := 100 * math.Exp(-math.Pi*zeta/math.Sqrt(1-zeta*zeta))
 		if math.Abs(res.OvershootPct-want) > 0.5 {
 			t.Errorf("ζ=%g: overshoot %.3f %%, want %.3f %%", zeta, res.OvershootPct, want)
@@ -110,71 +118,50 @@ func TestHorizon(t *testing.T) {
 	}
 	// A clamped horizon that cannot show settling says so.
 	const a = 0.99999
-	r, err := Simulate(poly.R(poly.New(0, 1-a), poly.New(-a, 1)), 1, a)
-	if err != nil {
-		t.Fatal(err)
-	}
+	r := stepOf(t, poly.R(poly.New(0, 1-a), poly.New(-a, 1)), 1, a)
 	if r.Settled || len(r.Samples) != MaxSamples {
 		t.Errorf("slow pole: settled %v with %d samples", r.Settled, len(r.Samples))
 	}
 }
 
 func TestStaticGain(t *testing.T) {
-	r, err := Simulate(poly.R(poly.New(3), poly.New(2)), 1, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
+	r := stepOf(t, poly.R(poly.New(3), poly.New(2)), 1, 0)
 	if r.Final != 1.5 || r.Samples[0] != 1.5 || r.SettlingS != 0 || r.OvershootPct != 0 {
 		t.Errorf("%+v", r)
 	}
 }
 
-func TestSimulateErrors(t *testing.T) {
-	good := poly.R(poly.New(0.5), poly.New(-0.5, 1))
+// TestFirstErrors: First refuses what has no difference equation.
+func TestFirstErrors(t *testing.T) {
 	cases := []struct {
 		name string
 		h    poly.Rational
-		T, r float64
 	}{
-		{"T=0", good, 0, 0.5},
-		{"T=NaN", good, math.NaN(), 0.5},
-		{"radius 1", good, 1, 1},
-		{"radius NaN", good, 1, math.NaN()},
-		{"radius negative", good, 1, -0.1},
-		{"improper", poly.R(poly.New(0, 0, 1), poly.New(-0.5, 1)), 1, 0.5},
-		{"zero num", poly.R(nil, poly.New(-0.5, 1)), 1, 0.5},
-		{"zero den", poly.R(poly.New(1), nil), 1, 0.5},
-		{"NaN coef", poly.R(poly.New(math.NaN()), poly.New(-0.5, 1)), 1, 0.5},
-		{"pole at 1", poly.R(poly.New(1), poly.New(-1, 1)), 1, 0.5},
-		{"overflow", poly.R(poly.New(1e300), poly.New(-1e10, 1)), 1, 0.5},
+		{"improper", poly.R(poly.New(0, 0, 1), poly.New(-0.5, 1))},
+		{"zero num", poly.R(nil, poly.New(-0.5, 1))},
+		{"zero den", poly.R(poly.New(1), nil)},
+		{"NaN coef", poly.R(poly.New(math.NaN()), poly.New(-0.5, 1))},
 	}
 	for _, c := range cases {
-		if _, err := Simulate(c.h, c.T, c.r); err == nil {
+		if _, err := First(c.h, 10, math.MaxFloat64); err == nil {
 			t.Errorf("%s: no error", c.name)
 		}
 	}
 }
 
-// TestSimulateDCGainOverflow is the regression for a fuzz crasher
-// (testdata/fuzz/FuzzStep/9e10eb2f3e7a8730): A = 0.00040625·(z − 1)⁴
-// rounds to a tiny nonzero A(1), B(1) ≈ 1.2e300, and Simulate returned
-// Final = +Inf as a result instead of an error.
-func TestSimulateDCGainOverflow(t *testing.T) {
-	h := poly.R(poly.Poly{0.30000000000000004, 1.1875e+300, 0, 0, 0.30000000000000004},
-		poly.Poly{0.00040625000000000004, -0.0016250000000000001, 0.0024375000000000004, -0.0016250000000000001, 0.00040625000000000004})
-	if r, err := Simulate(h, 1, 0.02734375); err == nil {
-		t.Fatalf("Simulate = final %v, want an error", r.Final)
-	}
-}
-
-// TestSimulateFiguresOverflow is the regression for a fuzz crasher
+// TestFiguresOverflow is the regression for a fuzz crasher
 // (testdata/fuzz/FuzzStep/e0160996939e6acd): h = 1.1875e-300/(0.0003z +
 // 0.003) has its pole at z = −10 but was passed radius 0.96; the samples
 // grew to ~1e50 over a final value of 3.6e-298 and the overshoot came out
-// +Inf in a successful result. It must be an error.
-func TestSimulateFiguresOverflow(t *testing.T) {
+// +Inf in a successful result. FromSamples must refuse it.
+func TestFiguresOverflow(t *testing.T) {
 	h := poly.R(poly.Poly{1.1875e-300}, poly.Poly{0.003, 0.00030000000000000003})
-	if r, err := Simulate(h, 1, 0.96484375); err == nil {
-		t.Fatalf("Simulate = overshoot %v, want an error", r.OvershootPct)
+	K, clamped := Horizon(1, 0.96484375)
+	y, err := First(h, K, math.MaxFloat64)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r, err := FromSamples(y, 1, h.Num.Eval(1)/h.Den.Eval(1), clamped); err == nil {
+		t.Fatalf("FromSamples = overshoot %v, want an error", r.OvershootPct)
 	}
 }
