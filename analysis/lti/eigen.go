@@ -91,15 +91,11 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 	if n == 0 {
 		return nil, nil
 	}
-	for _, v := range a[:n*n] {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, errors.New("lti: non-finite entry in the state matrix")
-		}
+	w, err := balancedWork(a, n)
+	if err != nil {
+		return nil, err
 	}
-	w := newWork(n)
 	defer workPool.Put(w)
-	copy(w.a, a[:n*n])
-	balance(w.a, n)
 	copy(w.bal, w.a)
 	norm := frobenius(w.bal)
 	ga := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.a}
@@ -143,15 +139,11 @@ func Eigen(a []float64, n int, modelErr float64) ([]Pole, error) {
 // (their backward error η is at least n·ε·‖A‖_F): a value here at radius r
 // means some pole of Eigen reaches radius r with its bound.
 func eigenvalues(a []float64, n int) ([]complex128, error) {
-	for _, v := range a[:n*n] {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, errors.New("lti: non-finite entry in the state matrix")
-		}
+	w, err := balancedWork(a, n)
+	if err != nil {
+		return nil, err
 	}
-	w := newWork(n)
 	defer workPool.Put(w)
-	copy(w.a, a[:n*n])
-	balance(w.a, n)
 	ga := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.a}
 	none := blas64.General{Stride: 1}
 	if !w.geevValues(ga, none) {
@@ -162,6 +154,20 @@ func eigenvalues(a []float64, n int) ([]complex128, error) {
 		out[j] = complex(w.wr[j], w.wi[j])
 	}
 	return out, nil
+}
+
+// balancedWork takes a scratch from the pool holding a copy of the n×n
+// matrix a, balanced; non-finite entries are refused (LAPACK would not end).
+func balancedWork(a []float64, n int) (*work, error) {
+	for _, v := range a[:n*n] {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, errors.New("lti: non-finite entry in the state matrix")
+		}
+	}
+	w := newWork(n)
+	copy(w.a, a[:n*n])
+	balance(w.a, n)
+	return w, nil
 }
 
 // notNaN turns an undefined bound (0·∞ from an overflowed model) into +Inf:

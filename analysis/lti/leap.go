@@ -132,7 +132,7 @@ func (t *tailBound) advance(e []float64, m int) []float64 {
 	for i := 0; m > 0; i, m = i+1, m>>1 {
 		if i == len(t.pows) {
 			q := make([]float64, n*n)
-			matSquare(q, t.pows[i-1], n)
+			matMul(q, t.pows[i-1], t.pows[i-1], n)
 			t.pows = append(t.pows, q)
 		}
 		if m&1 == 0 {

@@ -65,7 +65,7 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 			return nil, false
 		}
 		q := make([]float64, n*n)
-		matSquare(q, p, n)
+		matMul(q, p, p, n)
 		p = q
 		pows = append(pows, q)
 	}
@@ -271,17 +271,4 @@ func normInf(p []float64, n int) float64 {
 		return math.Inf(1)
 	}
 	return worst
-}
-
-// matSquare sets dst = p·p for n×n matrices.
-func matSquare(dst, p []float64, n int) {
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			s := 0.0
-			for k := 0; k < n; k++ {
-				s += p[i*n+k] * p[k*n+j]
-			}
-			dst[i*n+j] = s
-		}
-	}
 }
