@@ -3,6 +3,7 @@ package server
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"strings"
 	"testing"
 
@@ -87,6 +88,36 @@ func TestMalformedMessageIsAnsweredAndSurvived(t *testing.T) {
 	for _, want := range []string{`"id":null,"error":{"code":-32700`, `"id":null,"error":{"code":-32600`, `"id":2,"result":null`} {
 		if !strings.Contains(out.String(), want) {
 			t.Errorf("output lacks %s:\n%s", want, out.String())
+		}
+	}
+}
+
+// appendWire writes what encoding/json writes for the same message with
+// HTML escaping off (the encoder the stream used before): requests,
+// notifications, results, errors with HTML characters, and empty fields
+// left out.
+func TestAppendWireMatchesEncoder(t *testing.T) {
+	msgs := []wireMessage{
+		{JSONRPC: "2.0", ID: json.RawMessage(`7`), Method: "textDocument/hover", Params: json.RawMessage(`{"a":"<b> & c","n":[1,2.5e-7]}`)},
+		{JSONRPC: "2.0", Method: "textDocument/publishDiagnostics", Params: json.RawMessage(`{"uri":"file:///x.loop","diagnostics":[]}`)},
+		{JSONRPC: "2.0", ID: json.RawMessage(`"abc"`), Result: json.RawMessage(`null`)},
+		{JSONRPC: "2.0", ID: json.RawMessage(`12345678901234567890`), Result: json.RawMessage(`{"k":"é\u2028"}`)},
+		{JSONRPC: "2.0", ID: json.RawMessage(`null`), Error: jsonrpc2.NewError(jsonrpc2.ParseError, `bad <json> & "quotes"`)},
+		{JSONRPC: "2.0"},
+	}
+	for i, m := range msgs {
+		var want bytes.Buffer
+		enc := json.NewEncoder(&want)
+		enc.SetEscapeHTML(false)
+		if err := enc.Encode(m); err != nil {
+			t.Fatal(err)
+		}
+		got, err := appendWire(m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w := bytes.TrimSuffix(want.Bytes(), []byte("\n")); !bytes.Equal(got, w) {
+			t.Errorf("message %d:\n got %s\nwant %s", i, got, w)
 		}
 	}
 }
