@@ -17,7 +17,10 @@ import "math"
 // for every m ≥ 0: a bound for all later time from one vector norm (a norm
 // bound on the state-space model; it needs no eigenvectors, so repeated or
 // clustered poles cost nothing; the smallest such M gives the fewest terms
-// in β). Rounding: squaring P = Ã^j errs by at most n·ε·‖P‖², tiny beside
+// in β). The same holds in 2-norms, |C Aᵐ e| ≤ β₂‖S⁻¹e‖₂ with β₂ the
+// largest ‖C̃Ãʳ‖₂ and ‖Ã^M‖₂ ≤ 0.99 (contracts): for a decaying pole pair,
+// whose balanced state turns, it is the envelope itself, up to √n tighter
+// than the ∞-norm form; each bound takes the smaller of the two. Rounding: squaring P = Ã^j errs by at most n·ε·‖P‖², tiny beside
 // the gap between contraction and the 1 the proof needs, and β
 // is a sum of M·n products, each with relative error below (M + n)·ε; the
 // bound is raised by tailSafety to cover both with room to spare.
@@ -25,7 +28,8 @@ type tailBound struct {
 	xinf  []float64
 	scale []float64 // 2^−sᵢ: ẽ = S⁻¹e
 	c     []float64 // C (unscaled)
-	beta  float64
+	beta  float64   // max over r < M of ‖C̃Ãʳ‖₁, for ∞-norms of states
+	beta2 float64   // max over r < M of ‖C̃Ãʳ‖₂, for 2-norms of states
 	yinf  float64
 	// pows[i] is Ã^(2^i), from the squarings (extended by leaps).
 	pows [][]float64
@@ -60,7 +64,7 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	rows := sparseRows(a, n)
 	M, p := 1, a
 	pows := [][]float64{a}
-	for normInf(p, n) > contraction {
+	for !contracts(p, n) {
 		if M *= 2; M >= K {
 			return nil, false
 		}
@@ -80,12 +84,15 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		v[i] = math.Ldexp(c, exps[i])
 	}
 	for r := 0; r < M; r++ {
-		sum := 0.0
+		sum, sq := 0.0, 0.0
 		for _, c := range v {
-			sum += math.Abs(c)
+			sum, sq = sum+math.Abs(c), sq+c*c
 		}
 		if sum > t.beta || sum != sum { // a NaN is kept: the check below refuses it
 			t.beta = sum
+		}
+		if sq > t.beta2 || sq != sq {
+			t.beta2 = sq
 		}
 		for j := range w {
 			w[j] = 0
@@ -100,7 +107,8 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 		v, w = w, v
 	}
 	t.beta *= tailSafety
-	return t, !math.IsInf(t.beta, 0) && !math.IsNaN(t.beta) && !math.IsNaN(t.yinf)
+	t.beta2 = tailSafety * math.Sqrt(t.beta2)
+	return t, !math.IsInf(t.beta, 0) && !math.IsNaN(t.beta) && !math.IsNaN(t.beta2) && !math.IsNaN(t.yinf)
 }
 
 // leastContracting lowers M, a power of two with ‖Ã^M‖∞ ≤ contraction
@@ -118,7 +126,7 @@ func leastContracting(pows [][]float64, M, n int) int {
 	for hi-lo > M/16 {
 		mid := lo + (hi-lo)/2
 		powerOf(p, q, pows, mid, n)
-		if normInf(p, n) <= contraction {
+		if contracts(p, n) {
 			hi = mid
 		} else {
 			lo = mid
@@ -157,9 +165,19 @@ func matMul(dst, p, q []float64, n int) {
 	}
 }
 
+// contracts reports whether the power P of Ã contracts in both norms the
+// bounds use: ‖P‖∞ ≤ contraction, and ‖P‖₂ ≤ √(‖P‖₁‖P‖∞) ≤ contraction
+// (Golub & Van Loan, Matrix Computations, §2.3: the 2-norm is at most the
+// geometric mean of the 1- and ∞-norms).
+func contracts(p []float64, n int) bool {
+	inf := normInf(p, n)
+	return inf <= contraction && math.Sqrt(normOne(p, n)*inf) <= contraction
+}
+
 // bounds returns dev, a bound on |y[j] − final|, and over, a bound on
 // σ·(y[j] − final) (σ the sign of final), for every sample j from the state
-// x on, given next = A x + B. The first is β‖S⁻¹(x − x∞)‖∞ plus
+// x on, given next = A x + B. The first is β‖S⁻¹(x − x∞)‖∞ (or
+// β₂‖S⁻¹(x − x∞)‖₂, the smaller; likewise for d below) plus
 // |final − y∞| (the DC gain the figures use, from the factors, against
 // this model's steady state). Besides that, it uses the slow real mode
 // that dominates a settling tail (an integrator's, an overdamped loop's):
@@ -187,7 +205,7 @@ func (t *tailBound) bounds(x, next []float64, final float64) (dev, over float64)
 		u += t.c[i] * (v - t.xinf[i])
 	}
 	offset := tailSafety * math.Abs(final-t.yinf)
-	dev = t.beta*emax + offset
+	dev = math.Min(t.beta*emax, t.beta2*math.Sqrt(ee)) + offset
 	over = dev
 	if !(ee > 0) {
 		return dev, over
@@ -196,14 +214,15 @@ func (t *tailBound) bounds(x, next []float64, final float64) (dev, over float64)
 	if !(lambda >= 0 && lambda < 1) {
 		return dev, over
 	}
-	dmax := 0.0
+	dmax, dd := 0.0, 0.0
 	for i, v := range x {
 		d := ((next[i] - t.xinf[i]) - lambda*(v-t.xinf[i])) * t.scale[i]
+		dd += d * d
 		if a := math.Abs(d); a > dmax || a != a {
 			dmax = a
 		}
 	}
-	tail := t.beta * dmax / (1 - lambda)
+	tail := math.Min(t.beta*dmax, t.beta2*math.Sqrt(dd)) / (1 - lambda)
 	dev = math.Min(dev, tailSafety*(math.Abs(u)+tail)+offset)
 	over = math.Min(over, tailSafety*(math.Max(math.Copysign(1, final)*u, 0)+tail)+offset)
 	return dev, over
@@ -255,6 +274,22 @@ func solveShifted(a, b []float64, n int) ([]float64, bool) {
 		}
 	}
 	return x, true
+}
+
+// normOne is the largest absolute column sum of the n×n matrix p.
+func normOne(p []float64, n int) float64 {
+	worst := 0.0
+	for j := 0; j < n; j++ {
+		s := 0.0
+		for i := 0; i < n; i++ {
+			s += math.Abs(p[i*n+j])
+		}
+		worst = math.Max(worst, s)
+	}
+	if math.IsNaN(worst) {
+		return math.Inf(1)
+	}
+	return worst
 }
 
 // normInf is the largest absolute row sum of the n×n matrix p.
