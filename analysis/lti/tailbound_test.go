@@ -77,16 +77,23 @@ func plainStep(s System, K int) []float64 {
 			v += c * x[i]
 		}
 		y[k] = v
-		for i := 0; i < n; i++ {
-			acc := s.B[i]
-			for j := 0; j < n; j++ {
-				acc += s.A[i*n+j] * x[j]
-			}
-			nx[i] = acc
-		}
+		denseStep(s, nx, x)
 		x, nx = nx, x
 	}
 	return y
+}
+
+// denseStep sets dst = A x + B over every entry of A (the reference the
+// sparse rows are checked against).
+func denseStep(s System, dst, x []float64) {
+	n := s.N
+	for i := 0; i < n; i++ {
+		acc := s.B[i]
+		for j := 0; j < n; j++ {
+			acc += s.A[i*n+j] * x[j]
+		}
+		dst[i] = acc
+	}
 }
 
 // Slow real tails, the case the deflated certificate stops early on: one
@@ -214,13 +221,7 @@ func stateAt(s System, k int) []float64 {
 	n := s.N
 	x, nx := make([]float64, n), make([]float64, n)
 	for ; k > 0; k-- {
-		for i := 0; i < n; i++ {
-			acc := s.B[i]
-			for j := 0; j < n; j++ {
-				acc += s.A[i*n+j] * x[j]
-			}
-			nx[i] = acc
-		}
+		denseStep(s, nx, x)
 		x, nx = nx, x
 	}
 	return x
