@@ -309,8 +309,6 @@ func prewarpHz(n *syntax.Number) (float64, error) {
 
 func exprSpan(e syntax.Expr) syntax.Span { return syntax.Span{From: e.Pos(), To: e.End()} }
 
-// blockVar decides whether a block is in s, in z, or a constant: the
-// variables written in it, and the blocks it names. Mixed use is reported.
 // baseVar is blockVar, read from the base evaluation when this one is a
 // sweep or an assignment (gain values do not change a block's variable).
 func (ev *evaluator) baseVar(d *Decl) (byte, bool) {
@@ -322,6 +320,8 @@ func (ev *evaluator) baseVar(d *Decl) (byte, bool) {
 	return ev.blockVar(d)
 }
 
+// blockVar decides whether a block is in s, in z, or a constant: the
+// variables written in it, and the blocks it names. Mixed use is reported.
 func (ev *evaluator) blockVar(d *Decl) (byte, bool) {
 	var sAt, zAt *syntax.VarRef
 	var sBlock *syntax.NameRef
