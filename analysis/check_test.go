@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
@@ -301,14 +302,14 @@ func TestDiagnosticFiles(t *testing.T) {
 			}
 			for line, codes := range want {
 				for _, c := range codes {
-					if !contains(got[line], c) {
+					if !slices.Contains(got[line], c) {
 						t.Errorf("line %d: want %s, got %v", line, c, got[line])
 					}
 				}
 			}
 			for line, codes := range got {
 				for _, c := range codes {
-					if !contains(want[line], c) {
+					if !slices.Contains(want[line], c) {
 						t.Errorf("line %d: unexpected %s (%s)", line, c, messageOf(r, line, c))
 					}
 				}

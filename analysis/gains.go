@@ -446,15 +446,6 @@ func (s *safeSearch) below(k0 float64) {
 	lim.SafeMaxNote = "no value from the current one down to a millionth of it keeps every loop stable with its required gain margin"
 }
 
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
-}
-
 // attachFixes adds "set the gain" and "cap the gain" edits to the loop
 // diagnostics that asked for them.
 func (c *checker) attachFixes() {
