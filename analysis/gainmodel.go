@@ -124,7 +124,7 @@ func (c *checker) rootsWithin(l *Loop, name string, k float64) bool {
 		return false
 	}
 	f := v.(affineForm)
-	a, b := f.denA.Add(f.numA), f.denB.Add(f.numB)
+	a, b := f.char(1)
 	degree := max(a.Degree(), b.Degree())
 	if degree > MaxAffineDegree {
 		return false

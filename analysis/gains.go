@@ -57,7 +57,13 @@ func (c *checker) affineScaled(l *Loop, name string, k0, alpha float64) (a, b po
 	if !f.ok {
 		return nil, nil, false
 	}
-	return f.denA.Add(f.numA.Scale(alpha)), f.denB.Add(f.numB.Scale(alpha)), true
+	a, b = f.char(alpha)
+	return a, b, true
+}
+
+// char returns a, b with den(L) + alpha·num(L) = a + k·b.
+func (f affineForm) char(alpha float64) (a, b poly.Poly) {
+	return f.denA.Add(f.numA.Scale(alpha)), f.denB.Add(f.numB.Scale(alpha))
 }
 
 // affineForm holds num(L) and den(L) as affine functions of a gain:
