@@ -1,5 +1,7 @@
 package lti
 
+import "ringside/analysis/poly"
+
 // A slow loop's step response spends most of its samples creeping toward
 // its final value: the rise and the peak are long behind, and only the last
 // exit from the settling band is still open. The leap finds that exit
@@ -49,7 +51,7 @@ func (sim *simulation) leap(s System, rows nonzeros, tb *tailBound, x []float64,
 			return false
 		}
 		ej := tb.advance(ea, jump)
-		if !finite(ej) {
+		if !poly.Poly(ej).Finite() {
 			return false
 		}
 		if proven(ej) {
@@ -87,10 +89,7 @@ func (sim *simulation) lastExit(s System, rows nonzeros, tb *tailBound, e0 []flo
 		tb.fromBalanced(x, tb.advance(e0, lo-k))
 		last := -1
 		for j := lo; j < hi; j++ {
-			v := s.D
-			for i, c := range s.C {
-				v += c * x[i]
-			}
+			v := s.output(x)
 			if v-v != 0 {
 				return 0, false
 			}
@@ -149,13 +148,4 @@ func (t *tailBound) advance(e []float64, m int) []float64 {
 		cur, tmp = tmp, cur
 	}
 	return cur
-}
-
-func finite(v []float64) bool {
-	for _, x := range v {
-		if x-x != 0 {
-			return false
-		}
-	}
-	return true
 }

@@ -429,10 +429,7 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 				nextLeap = k + max(k/4, 64)
 			}
 		}
-		v := s.D
-		for i, c := range s.C {
-			v += c * x[i]
-		}
+		v := s.output(x)
 		if v-v != 0 { // ±Inf or NaN
 			return simulation{}, fmt.Errorf("lti: the step response overflows at sample %d: the loop is not stable as claimed", k)
 		}
@@ -440,16 +437,19 @@ func simulate(s System, K int, final float64, view bool) (simulation, error) {
 			sim.y = append(sim.y, v)
 		}
 		sim.watch.Add(v)
-		for i, row := range rows {
-			acc := s.B[i]
-			for _, e := range row {
-				acc += e.a * x[e.j]
-			}
-			nx[i] = acc
-		}
+		rows.step(nx, x, s.B)
 		x, nx = nx, x
 	}
 	return sim, nil
+}
+
+// output is y = C x + D.
+func (s System) output(x []float64) float64 {
+	v := s.D
+	for i, c := range s.C {
+		v += c * x[i]
+	}
+	return v
 }
 
 // entry is a nonzero entry of a row of A: its column and value.
