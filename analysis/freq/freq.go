@@ -169,6 +169,15 @@ var scratchPool = sync.Pool{New: func() any { return new(scratch) }}
 
 func getScratch() *scratch { return scratchPool.Get().(*scratch) }
 
+// floats returns the scratch's value array, m long (its contents are
+// whatever the last loop left: every element is written before it is read).
+func (sc *scratch) floats(m int) []float64 {
+	if cap(sc.vals) < m {
+		sc.vals = make([]float64, m)
+	}
+	return sc.vals[:m]
+}
+
 // Margins computes every margin of the sampled loop (see Compute).
 func (s *Sampled) Margins(T float64) (Margins, error) {
 	return s.lp.marginsOn(s.grid, s.pts, T)
@@ -502,10 +511,7 @@ type gridValues struct {
 
 func (l loop) evalGrid(grid []float64, sc *scratch) gridValues {
 	n := len(grid)
-	if cap(sc.vals) < 6*n {
-		sc.vals = make([]float64, 6*n)
-	}
-	all := sc.vals[:6*n] // one array for the six series
+	all := sc.floats(6 * n) // one array for the six series
 	part := func(i int) []float64 { return all[i*n : (i+1)*n : (i+1)*n] }
 	v := gridValues{part(0), part(1), part(2), part(3), part(4), part(5)}
 	for i, th := range grid {

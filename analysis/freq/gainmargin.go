@@ -23,10 +23,8 @@ func (lp loop) gainMargin(T float64) *float64 {
 	sc := getScratch()
 	defer scratchPool.Put(sc)
 	grid := lp.grid(sc)
-	if cap(sc.vals) < 2*len(grid) {
-		sc.vals = make([]float64, 2*len(grid))
-	}
-	g, gs := sc.vals[:len(grid)], sc.vals[len(grid):2*len(grid)]
+	vals := sc.floats(2 * len(grid))
+	g, gs := vals[:len(grid)], vals[len(grid):]
 	for i, th := range grid {
 		N, D := lp.eval(th)
 		g[i], gs[i] = imag(N*cmplx.Conj(D)), fastAbs(N, sq(N))*fastAbs(D, sq(D))
