@@ -20,10 +20,11 @@ import "math"
 // in β). The same holds in 2-norms, |C Aᵐ e| ≤ β₂‖S⁻¹e‖₂ with β₂ the
 // largest ‖C̃Ãʳ‖₂ and ‖Ã^M‖₂ ≤ 0.99 (contracts): for a decaying pole pair,
 // whose balanced state turns, it is the envelope itself, up to √n tighter
-// than the ∞-norm form; each bound takes the smaller of the two. Rounding: squaring P = Ã^j errs by at most n·ε·‖P‖², tiny beside
-// the gap between contraction and the 1 the proof needs, and β
-// is a sum of M·n products, each with relative error below (M + n)·ε; the
-// bound is raised by tailSafety to cover both with room to spare.
+// than the ∞-norm form; each bound takes the smaller of the two.
+// Rounding: squaring P = Ã^j errs by at most n·ε·‖P‖², tiny beside the gap
+// between contraction and the 1 the proof needs, and β is a sum of M·n
+// products, each with relative error below (M + n)·ε; the bound is raised
+// by tailSafety to cover both with room to spare.
 type tailBound struct {
 	xinf  []float64
 	scale []float64 // 2^−sᵢ: ẽ = S⁻¹e
@@ -35,8 +36,9 @@ type tailBound struct {
 	pows [][]float64
 }
 
-// contraction is the norm ‖Ã^M‖∞ must reach: any value below 1 proves the
-// bound; 0.99 leaves a gap far above the rounding of the squarings.
+// contraction is what ‖Ã^M‖∞ and the bound on ‖Ã^M‖₂ must reach (see
+// contracts): any value below 1 proves the bound; 0.99 leaves a gap far
+// above the rounding of the squarings.
 const contraction = 0.99
 
 // tailSafety raises the bound over the rounding of β and of Ã^M (relative
@@ -111,17 +113,17 @@ func newTailBound(s System, K int) (*tailBound, bool) {
 	return t, !math.IsInf(t.beta, 0) && !math.IsNaN(t.beta) && !math.IsNaN(t.beta2) && !math.IsNaN(t.yinf)
 }
 
-// leastContracting lowers M, a power of two with ‖Ã^M‖∞ ≤ contraction
-// (pows[i] = Ã^(2^i), the last one Ã^M), to about the least such power
-// by bisection between M/2 and M: each try is a product of the squared
-// powers (n³ work per factor), while every unit of M saved spares one row
-// of β (a slow loop's M runs to thousands). Any M with the norm below
-// contraction keeps the proof.
+// leastContracting lowers M, a power of two whose Ã^M contracts (pows[i]
+// = Ã^(2^i), the last one Ã^M), to about the least such power by
+// bisection between M/2 and M: each try is a product of the squared powers
+// (n³ work per factor), while every unit of M saved spares one row of β (a
+// slow loop's M runs to thousands). Any M whose power contracts keeps the
+// proof.
 func leastContracting(pows [][]float64, M, n int) int {
 	if M < 64 {
 		return M
 	}
-	lo, hi := M/2, M // the norm exceeds contraction at lo, not at hi
+	lo, hi := M/2, M // Ã^lo does not contract, Ã^hi does
 	p, q := make([]float64, n*n), make([]float64, n*n)
 	for hi-lo > M/16 {
 		mid := lo + (hi-lo)/2

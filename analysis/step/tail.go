@@ -104,9 +104,9 @@ func (t *Tail) Done(dev, over float64) bool {
 		return false
 	}
 	if t.final == 0 {
-		return dev <= t.width // later |y| ≤ dev cannot widen the band
+		return t.Within(dev) // later |y| ≤ dev cannot widen the band
 	}
-	return dev <= t.width && t.peakFixed(dev, over)
+	return t.Within(dev) && t.peakFixed(dev, over)
 }
 
 // peakFixed reports whether later samples bounded by dev and over (as in
