@@ -153,22 +153,8 @@ func TestRootCertifiedOutside(t *testing.T) {
 	rng := rand.New(rand.NewSource(11))
 	claimed := 0
 	for trial := 0; trial < 2000; trial++ {
-		var re []float64
-		var pairs []complex128
-		outside, beyond := false, false // a root beyond 1 + tol; beyond 1
-		for i := 0; i < 1+rng.Intn(4); i++ {
-			r := 0.9 + 0.2*rng.Float64()
-			if rng.Intn(3) == 0 { // near-duplicates: clusters
-				r = 0.999 + 0.002*rng.Float64()
-			}
-			if rng.Intn(2) == 0 {
-				th := rng.Float64() * 3
-				pairs = append(pairs, cmplx.Rect(r, th))
-			} else {
-				re = append(re, r*float64(1-2*rng.Intn(2)))
-			}
-			outside, beyond = outside || r > 1+tol, beyond || r > 1
-		}
+		re, pairs, rmax := randomRootSet(rng, 0.9, 0.2)
+		outside, beyond := rmax > 1+tol, rmax > 1 // a root beyond 1 + tol; beyond 1
 		p := fromRoots(re, pairs)
 		aux := trial%2 == 0
 		if rootCertifiedOutside(p, e(p), tol, aux) {
@@ -214,21 +200,8 @@ func TestRootsCertifiedWithin(t *testing.T) {
 	rng := rand.New(rand.NewSource(12))
 	certified := 0
 	for trial := 0; trial < 2000; trial++ {
-		var re []float64
-		var pairs []complex128
-		outside := false
-		for i := 0; i < 1+rng.Intn(4); i++ {
-			r := 0.8 + 0.22*rng.Float64()
-			if rng.Intn(3) == 0 { // near-duplicates: clusters
-				r = 0.999 + 0.002*rng.Float64()
-			}
-			if rng.Intn(2) == 0 {
-				pairs = append(pairs, cmplx.Rect(r, rng.Float64()*3))
-			} else {
-				re = append(re, r*float64(1-2*rng.Intn(2)))
-			}
-			outside = outside || r > 1+tol
-		}
+		re, pairs, rmax := randomRootSet(rng, 0.8, 0.22)
+		outside := rmax > 1+tol
 		p := fromRoots(re, pairs)
 		if rootsCertifiedWithin(p, p.Degree(), e(p), tol) {
 			certified++
@@ -240,4 +213,23 @@ func TestRootsCertifiedWithin(t *testing.T) {
 	if certified < 100 {
 		t.Fatalf("only %d certificates in 2000 trials: the test does not exercise the claim", certified)
 	}
+}
+
+// randomRootSet draws one to four roots of radius lo … lo + width (a third
+// of them instead near 1, 0.999 … 1.001: clusters), each a real root of
+// either sign or a complex pair's upper member; rmax is the largest radius.
+func randomRootSet(rng *rand.Rand, lo, width float64) (re []float64, pairs []complex128, rmax float64) {
+	for i := 0; i < 1+rng.Intn(4); i++ {
+		r := lo + width*rng.Float64()
+		if rng.Intn(3) == 0 {
+			r = 0.999 + 0.002*rng.Float64()
+		}
+		if rng.Intn(2) == 0 {
+			pairs = append(pairs, cmplx.Rect(r, rng.Float64()*3))
+		} else {
+			re = append(re, r*float64(1-2*rng.Intn(2)))
+		}
+		rmax = max(rmax, r)
+	}
+	return re, pairs, rmax
 }
